@@ -1,0 +1,126 @@
+/**
+ * Headless runs of a preset: `npm run sim -- <preset.json> [--json|--csv] [--ions N] [--seed S]`.
+ * Bad input ends with one line per problem on stderr and a non-zero exit code, never a stack trace.
+ */
+import { readFileSync } from 'node:fs';
+import { formatIssues, type PresetIssue } from './presets/issues';
+import { parsePresetText } from './presets/load';
+import { LIMITS } from './presets/schema';
+import { simulate } from './simulation/run';
+import { formatCsv, formatTable } from './simulation/format';
+
+export const USAGE = `Usage: npm run sim -- <preset.json> [--json | --csv] [--ions N] [--seed S]
+
+  <preset.json>   analyser + ion population preset (see presets/ and presets/preset.schema.json)
+  --json          print one JSON object (species array with flight times, FWHM, R, transmission, fates)
+  --csv           print one CSV row per species
+  --ions N        override the preset's ion count (${LIMITS.ions.min}..${LIMITS.ions.max})
+  --seed S        override the preset's random seed (${LIMITS.seed.min}..${LIMITS.seed.max})
+  --help          show this text`;
+
+export interface CliArgs {
+  presetPath: string;
+  format: 'table' | 'json' | 'csv';
+  ions?: number;
+  seed?: number;
+}
+
+export type ArgsResult = { ok: true; args: CliArgs } | { ok: false; issues: PresetIssue[]; help?: boolean };
+
+export function parseArgs(argv: readonly string[]): ArgsResult {
+  const issues: PresetIssue[] = [];
+  let presetPath: string | undefined;
+  let format: CliArgs['format'] = 'table';
+  let ions: number | undefined;
+  let seed: number | undefined;
+  for (let i = 0; i < argv.length; i++) {
+    const arg = argv[i];
+    if (arg === '--help' || arg === '-h') return { ok: false, issues: [], help: true };
+    if (arg === '--json' || arg === '--csv') {
+      format = arg === '--json' ? 'json' : 'csv';
+    } else if (arg === '--ions' || arg === '--seed') {
+      const range = arg === '--ions' ? LIMITS.ions : LIMITS.seed;
+      const text = argv[++i];
+      const value = Number(text);
+      if (text === undefined || !Number.isInteger(value) || value < range.min || value > range.max) {
+        issues.push({ path: arg, message: `must be an integer from ${range.min} to ${range.max} (got ${text ?? 'nothing'})` });
+      } else if (arg === '--ions') ions = value;
+      else seed = value;
+    } else if (arg.startsWith('-')) {
+      issues.push({ path: arg, message: 'unknown option (see --help)' });
+    } else if (presetPath === undefined) {
+      presetPath = arg;
+    } else {
+      issues.push({ path: arg, message: 'unexpected extra argument: give one preset file' });
+    }
+  }
+  if (presetPath === undefined) issues.push({ path: '<preset.json>', message: 'is required' });
+  if (issues.length || presetPath === undefined) return { ok: false, issues };
+  return { ok: true, args: { presetPath, format, ions, seed } };
+}
+
+export interface CliIo {
+  out(text: string): void;
+  err(text: string): void;
+  readFile(path: string): string;
+}
+
+const processIo: CliIo = {
+  out: (text) => void process.stdout.write(text),
+  err: (text) => void process.stderr.write(text),
+  readFile: (path) => readFileSync(path, 'utf8'),
+};
+
+export function main(argv: readonly string[], io: CliIo = processIo): number {
+  const parsed = parseArgs(argv);
+  if (!parsed.ok) {
+    if (parsed.help) {
+      io.out(USAGE + '\n');
+      return 0;
+    }
+    io.err(formatIssues(parsed.issues) + '\n' + 'Run with --help for usage.\n');
+    return 2;
+  }
+  const { args } = parsed;
+  let text: string;
+  try {
+    text = io.readFile(args.presetPath);
+  } catch (err) {
+    const code = (err as NodeJS.ErrnoException).code ?? 'unreadable';
+    io.err(`${args.presetPath}: cannot read the preset file (${code})\n`);
+    return 2;
+  }
+  const loaded = parsePresetText(text);
+  if (!loaded.ok) {
+    io.err(loaded.issues.map((i) => `${args.presetPath}: ${i.path}: ${i.message}`).join('\n') + '\n');
+    return 2;
+  }
+  const result = simulate(loaded.value, { ions: args.ions, seed: args.seed });
+  const preset = loaded.value;
+  if (args.format === 'json') {
+    const out = {
+      preset: preset.name,
+      ions: result.report.ions,
+      seed: result.compiled.population.seed,
+      detected: result.report.detected,
+      fates: result.report.fates,
+      species: result.report.species,
+    };
+    io.out(JSON.stringify(out) + '\n');
+  } else if (args.format === 'csv') {
+    io.out(formatCsv(result.report));
+  } else {
+    io.out(formatTable(preset, result));
+  }
+  return 0;
+}
+
+// Run when executed directly (not when imported by the tests).
+if (import.meta.url === `file://${process.argv[1]}` || process.argv[1]?.endsWith('/src/cli.ts')) {
+  try {
+    process.exitCode = main(process.argv.slice(2));
+  } catch (err) {
+    process.stderr.write(`internal error: ${(err as Error).message}\n`);
+    process.exitCode = 1;
+  }
+}

@@ -1,0 +1,122 @@
+/**
+ * Initial conditions of an ion population: how many ions of each species, where along the axis
+ * they start, and with what axial velocity. Each species draws from its own seeded stream, so a
+ * species' ions do not change when another species is added or the pool layout changes.
+ */
+import { ATOMIC_MASS_CONSTANT_KG } from '../physics/constants';
+import { allocateEnsemble, type Ensemble, type SpeciesInfo } from './ensemble';
+import { SeededRandom } from './random';
+
+export type StartPositionSpec =
+  | { readonly kind: 'surface'; readonly z_m: number }
+  | { readonly kind: 'uniform'; readonly from_m: number; readonly to_m: number }
+  | { readonly kind: 'gaussian'; readonly mean_m: number; readonly sd_m: number };
+
+export type StartVelocitySpec =
+  | {
+      readonly kind: 'normal';
+      readonly mean_m_per_s: number;
+      readonly sd_m_per_s: number;
+      /** Draws below this are redrawn (truncated normal); -Infinity for none. */
+      readonly minimum_m_per_s: number;
+    }
+  /** Axial kinetic energy normal (truncated at 0), converted per species to a speed away from the repeller. */
+  | { readonly kind: 'energy'; readonly mean_J: number; readonly sd_J: number };
+
+export interface PopulationSpec {
+  readonly species: readonly SpeciesInfo[];
+  readonly totalIons: number;
+  readonly seed: number;
+  readonly startPosition: StartPositionSpec;
+  readonly startVelocity: StartVelocitySpec;
+  /** Start positions are confined to [0, firstStage_m) (the first source stage). */
+  readonly firstStage_m: number;
+}
+
+/** Redraw budget for truncated distributions; validation keeps acceptance far above 1/MAX_REDRAWS. */
+const MAX_REDRAWS = 10_000;
+
+/** Split `total` ions over species by abundance, largest remainder first (deterministic). */
+export function allocateCounts(abundances: readonly number[], total: number): number[] {
+  const sum = abundances.reduce((a, b) => a + b, 0);
+  if (!(sum > 0)) return abundances.map(() => 0);
+  const exact = abundances.map((a) => (a / sum) * total);
+  const counts = exact.map(Math.floor);
+  let left = total - counts.reduce((a, b) => a + b, 0);
+  const order = exact
+    .map((x, i) => ({ i, frac: x - Math.floor(x) }))
+    .sort((p, q) => q.frac - p.frac || p.i - q.i);
+  for (let k = 0; left > 0; k = (k + 1) % order.length, left--) counts[order[k].i]++;
+  return counts;
+}
+
+export function samplePopulation(spec: PopulationSpec): Ensemble {
+  const counts = allocateCounts(
+    spec.species.map((s) => s.abundance),
+    spec.totalIons,
+  );
+  const ens = allocateEnsemble(spec.species, counts);
+  for (let s = 0; s < spec.species.length; s++) {
+    const rng = new SeededRandom(spec.seed, s);
+    const from = ens.speciesStart[s];
+    const to = ens.speciesStart[s + 1];
+    samplePositions(ens.z0_m, from, to, spec.startPosition, spec.firstStage_m, rng);
+    sampleVelocities(ens.vz0_m_per_s, from, to, spec.startVelocity, spec.species[s], rng);
+  }
+  return ens;
+}
+
+function samplePositions(
+  z: Float64Array,
+  from: number,
+  to: number,
+  spec: StartPositionSpec,
+  limit_m: number,
+  rng: SeededRandom,
+): void {
+  for (let i = from; i < to; i++) {
+    switch (spec.kind) {
+      case 'surface':
+        z[i] = spec.z_m;
+        break;
+      case 'uniform':
+        z[i] = spec.from_m + (spec.to_m - spec.from_m) * rng.uniform();
+        break;
+      case 'gaussian': {
+        let x = spec.mean_m + spec.sd_m * rng.normal();
+        for (let tries = 0; (x < 0 || x >= limit_m) && tries < MAX_REDRAWS; tries++) {
+          x = spec.mean_m + spec.sd_m * rng.normal();
+        }
+        z[i] = Math.min(Math.max(x, 0), limit_m * (1 - 1e-12));
+        break;
+      }
+    }
+  }
+}
+
+function sampleVelocities(
+  v: Float64Array,
+  from: number,
+  to: number,
+  spec: StartVelocitySpec,
+  species: SpeciesInfo,
+  rng: SeededRandom,
+): void {
+  if (spec.kind === 'normal') {
+    for (let i = from; i < to; i++) {
+      let x = spec.mean_m_per_s + spec.sd_m_per_s * rng.normal();
+      for (let tries = 0; x < spec.minimum_m_per_s && tries < MAX_REDRAWS; tries++) {
+        x = spec.mean_m_per_s + spec.sd_m_per_s * rng.normal();
+      }
+      v[i] = Math.max(x, spec.minimum_m_per_s);
+    }
+    return;
+  }
+  // Energy spread: the ion's mass m = (m/z)·z·u, not its m/z, sets its speed for a given kinetic energy.
+  const mass_kg = species.mz * species.charge * ATOMIC_MASS_CONSTANT_KG;
+  for (let i = from; i < to; i++) {
+    let energy = spec.mean_J + spec.sd_J * rng.normal();
+    for (let tries = 0; energy < 0 && tries < MAX_REDRAWS; tries++) energy = spec.mean_J + spec.sd_J * rng.normal();
+    v[i] = Math.sqrt((2 * Math.max(energy, 0)) / mass_kg);
+  }
+}

@@ -1,0 +1,76 @@
+/**
+ * The analyser model in SI units: an ordered stack of regions along the flight axis, bounded by
+ * ideal planar grids (fully transparent, no field penetration). Compiled from a preset by
+ * src/presets/compile.ts; read by the engines. Positions along the axis are measured from the
+ * repeller; the mirror is unfolded, so "path" lengths after the source add up along the flight.
+ */
+
+/** Potential of one electrode plane: `hold_V` until `switch_s`, then `final_V` (an ideal step). */
+export interface ElectrodeDrive {
+  readonly hold_V: number;
+  readonly final_V: number;
+}
+
+export interface SourceModel {
+  /** Gap lengths of the source stages, repeller side first (one or two stages). */
+  readonly stageLengths_m: readonly number[];
+  /**
+   * Drives of the planes bounding the stages: [repeller, extraction grid?, ground grid].
+   * The ground grid is at the drift-tube potential and never switches.
+   */
+  readonly planes: readonly ElectrodeDrive[];
+  /** Extraction delay after ion formation at t = 0; 0 for a static source. */
+  readonly delay_s: number;
+}
+
+export interface MirrorStage {
+  readonly length_m: number;
+  /** Potential of the grid (or back plate) that closes this stage. */
+  readonly exitPotential_V: number;
+}
+
+export interface MirrorModel {
+  /** Stages from the entrance grid inwards; the entrance grid is at the drift-tube potential. */
+  readonly stages: readonly MirrorStage[];
+  /** Field-free path from the mirror entrance grid back to the detector (or post-acceleration gap). */
+  readonly returnLength_m: number;
+}
+
+export interface PostAccelerationModel {
+  readonly gap_m: number;
+  readonly potential_V: number;
+}
+
+export interface AnalyserModel {
+  /** +1 for positive ions, −1 for negative ions. */
+  readonly polarity: 1 | -1;
+  readonly source: SourceModel;
+  readonly drift: { readonly length_m: number; readonly potential_V: number };
+  /** null in linear mode. */
+  readonly mirror: MirrorModel | null;
+  readonly postAcceleration: PostAccelerationModel | null;
+  /** Flight times beyond this are reported as timed out rather than as infinities. */
+  readonly maxFlightTime_s: number;
+}
+
+/** Total source depth (repeller to ground grid). */
+export function sourceDepth_m(source: SourceModel): number {
+  let depth = 0;
+  for (const gap of source.stageLengths_m) depth += gap;
+  return depth;
+}
+
+/** Potential at axial position z inside the source after the extraction switch (uniform fields between grids). */
+export function sourcePotentialAt_V(source: SourceModel, z_m: number, which: 'hold' | 'final' = 'final'): number {
+  let start = 0;
+  for (let i = 0; i < source.stageLengths_m.length; i++) {
+    const gap = source.stageLengths_m[i];
+    if (z_m <= start + gap || i === source.stageLengths_m.length - 1) {
+      const a = which === 'hold' ? source.planes[i].hold_V : source.planes[i].final_V;
+      const b = which === 'hold' ? source.planes[i + 1].hold_V : source.planes[i + 1].final_V;
+      return a + ((b - a) * (z_m - start)) / gap;
+    }
+    start += gap;
+  }
+  return source.planes[source.planes.length - 1].final_V;
+}

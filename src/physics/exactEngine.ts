@@ -1,0 +1,235 @@
+/**
+ * Exact engine: flight times through an analyser of ideal grids with uniform static fields in each
+ * stage (the source field may switch once, as an ideal step, at the extraction delay). Every
+ * stage crossing is closed-form (src/physics/uniformField.ts), so the result is exact to rounding.
+ *
+ * The region kernels are exported so that a tracer that integrates some regions numerically can
+ * use the closed form for the others. All of them work on one `IonState` scratch object and a
+ * per-species `ExactPlan`, both reused, so the per-ion loop allocates nothing.
+ */
+import type { AnalyserModel } from './analyser';
+import { chargeToMass_C_per_kg } from './constants';
+import { Fate } from './fates';
+import { createMotion, crossForward, enterStage, firstExit } from './uniformField';
+import type { Ensemble, TraceResult } from '../ions/ensemble';
+
+export interface IonState {
+  t: number;
+  z: number;
+  v: number;
+  fate: number;
+}
+
+export function createIonState(): IonState {
+  return { t: 0, z: 0, v: 0, fate: Fate.UNSET };
+}
+
+/** Per-species constants of the exact engine: accelerations of every stage for this m/z. */
+export interface ExactPlan {
+  /** Signed charge-to-mass ratio (C/kg). */
+  qOverM: number;
+  delay_s: number;
+  /** Acceleration in the first source stage while the extraction is held (m/s²). */
+  holdAcceleration: number;
+  sourceStageCount: number;
+  /** Axial position of each source plane: [0, z1, (z2)] (m). */
+  readonly sourcePlane_m: Float64Array;
+  readonly sourceAcceleration: Float64Array;
+  driftLength_m: number;
+  mirrorStageCount: number;
+  readonly mirrorLength_m: Float64Array;
+  readonly mirrorAcceleration: Float64Array;
+  returnLength_m: number;
+  postGap_m: number;
+  postAcceleration: number;
+  maxFlightTime_s: number;
+}
+
+const MAX_STAGES = 8;
+
+export function createExactPlan(): ExactPlan {
+  return {
+    qOverM: 0,
+    delay_s: 0,
+    holdAcceleration: 0,
+    sourceStageCount: 0,
+    sourcePlane_m: new Float64Array(MAX_STAGES + 1),
+    sourceAcceleration: new Float64Array(MAX_STAGES),
+    driftLength_m: 0,
+    mirrorStageCount: 0,
+    mirrorLength_m: new Float64Array(MAX_STAGES),
+    mirrorAcceleration: new Float64Array(MAX_STAGES),
+    returnLength_m: 0,
+    postGap_m: 0,
+    postAcceleration: 0,
+    maxFlightTime_s: 0,
+  };
+}
+
+/** Fill `plan` for ions of the given m/z in `model`. */
+export function prepareExactPlan(plan: ExactPlan, model: AnalyserModel, mz: number): ExactPlan {
+  const k = model.polarity * chargeToMass_C_per_kg(mz);
+  const src = model.source;
+  plan.qOverM = k;
+  plan.delay_s = src.delay_s;
+  plan.sourceStageCount = src.stageLengths_m.length;
+  plan.sourcePlane_m[0] = 0;
+  for (let j = 0; j < src.stageLengths_m.length; j++) {
+    const gap = src.stageLengths_m[j];
+    plan.sourcePlane_m[j + 1] = plan.sourcePlane_m[j] + gap;
+    plan.sourceAcceleration[j] = (k * (src.planes[j].final_V - src.planes[j + 1].final_V)) / gap;
+  }
+  plan.holdAcceleration = (k * (src.planes[0].hold_V - src.planes[1].hold_V)) / src.stageLengths_m[0];
+  plan.driftLength_m = model.drift.length_m;
+  const mirror = model.mirror;
+  plan.mirrorStageCount = mirror ? mirror.stages.length : 0;
+  plan.returnLength_m = mirror ? mirror.returnLength_m : 0;
+  if (mirror) {
+    let entry = model.drift.potential_V;
+    for (let j = 0; j < mirror.stages.length; j++) {
+      const stage = mirror.stages[j];
+      plan.mirrorLength_m[j] = stage.length_m;
+      plan.mirrorAcceleration[j] = (k * (entry - stage.exitPotential_V)) / stage.length_m;
+      entry = stage.exitPotential_V;
+    }
+  }
+  const post = model.postAcceleration;
+  plan.postGap_m = post ? post.gap_m : 0;
+  plan.postAcceleration = post ? (k * (model.drift.potential_V - post.potential_V)) / post.gap_m : 0;
+  plan.maxFlightTime_s = model.maxFlightTime_s;
+  return plan;
+}
+
+const motion = createMotion();
+
+/**
+ * Hold phase of delayed extraction: the ion moves in the first stage's hold field until the delay
+ * ends. Returns false (fate set) if it reaches the repeller or the next grid first.
+ */
+export function holdExact(st: IonState, plan: ExactPlan): boolean {
+  if (plan.delay_s <= 0) return true;
+  const side = firstExit(motion, st.z, st.v, plan.holdAcceleration, 0, plan.sourcePlane_m[1]);
+  if (side !== 0 && motion.dt <= plan.delay_s) {
+    st.t += motion.dt;
+    st.z = side < 0 ? 0 : plan.sourcePlane_m[1];
+    st.v = motion.v;
+    st.fate = side < 0 ? Fate.STRUCK_REPELLER : Fate.LEFT_SOURCE_DURING_DELAY;
+    return false;
+  }
+  const dt = plan.delay_s;
+  const a = plan.holdAcceleration;
+  st.z += st.v * dt + 0.5 * a * dt * dt;
+  st.v += a * dt;
+  st.t += dt;
+  return true;
+}
+
+/** From the ion's current position in the first stage, through every source stage to the ground grid. */
+export function extractExact(st: IonState, plan: ExactPlan): boolean {
+  for (let j = 0; j < plan.sourceStageCount; j++) {
+    const start = plan.sourcePlane_m[j];
+    const end = plan.sourcePlane_m[j + 1];
+    if (st.z >= end && st.v >= 0) continue; // already on (or beyond) this stage's exit plane
+    const ahead = end - st.z;
+    const behind = st.z - start;
+    if (!crossForward(motion, st.v, plan.sourceAcceleration[j], ahead, behind)) {
+      st.fate = j === 0 ? Fate.STRUCK_REPELLER : Fate.TURNED_BACK;
+      return false;
+    }
+    st.t += motion.dt;
+    st.v = motion.v;
+    st.z = end;
+  }
+  return true;
+}
+
+/** Field-free flight over `length` (m). */
+export function driftExact(st: IonState, length: number): boolean {
+  if (length <= 0) return true;
+  if (!(st.v > 0)) {
+    st.fate = Fate.TIMED_OUT; // at rest in a field-free region: it never arrives
+    st.t = Infinity;
+    return false;
+  }
+  st.t += length / st.v;
+  st.z += length;
+  return true;
+}
+
+/**
+ * Gridded mirror of uniform stages: in, turned in the first stage it cannot cross, and out again
+ * with its entry speed (static fields are time-reversible, so the way out mirrors the way in).
+ */
+export function mirrorExact(st: IonState, plan: ExactPlan): boolean {
+  let v = st.v;
+  let elapsed = 0;
+  for (let j = 0; j < plan.mirrorStageCount; j++) {
+    const through = enterStage(motion, v, plan.mirrorAcceleration[j], plan.mirrorLength_m[j]);
+    if (!through) {
+      st.t += 2 * elapsed + motion.dt;
+      return true; // speed on exit equals entry speed: st.v unchanged
+    }
+    elapsed += motion.dt;
+    v = motion.v;
+  }
+  st.t += elapsed;
+  st.v = v;
+  st.fate = Fate.PASSED_THROUGH_MIRROR;
+  return false;
+}
+
+/** Optional post-acceleration gap in front of the detector. */
+export function postAccelerateExact(st: IonState, plan: ExactPlan): boolean {
+  if (plan.postGap_m <= 0) return true;
+  if (!crossForward(motion, st.v, plan.postAcceleration, plan.postGap_m, 0)) {
+    st.fate = Fate.TURNED_BACK;
+    return false;
+  }
+  st.t += motion.dt;
+  st.v = motion.v;
+  return true;
+}
+
+/** Everything after the source: drift, mirror and return drift (if any), post-acceleration, detector. */
+export function flyAfterSourceExact(st: IonState, plan: ExactPlan): void {
+  if (!driftExact(st, plan.driftLength_m)) return;
+  if (plan.mirrorStageCount > 0) {
+    if (!mirrorExact(st, plan)) return;
+    if (!driftExact(st, plan.returnLength_m)) return;
+  }
+  if (!postAccelerateExact(st, plan)) return;
+  st.fate = Fate.DETECTED;
+}
+
+/** One ion from its start to its fate, entirely in closed form. */
+export function traceOneExact(st: IonState, plan: ExactPlan): void {
+  if (holdExact(st, plan) && extractExact(st, plan)) flyAfterSourceExact(st, plan);
+  if (!(st.t <= plan.maxFlightTime_s)) {
+    st.fate = Fate.TIMED_OUT;
+    st.t = plan.maxFlightTime_s;
+  }
+}
+
+const scratchPlan = createExactPlan();
+const scratchState = createIonState();
+
+/** Trace every ion of `ens` through `model` with the exact engine, writing into `out`. */
+export function traceExact(model: AnalyserModel, ens: Ensemble, out: TraceResult): void {
+  const { z0_m, vz0_m_per_s } = ens;
+  const { flightTime_s, fate, finalSpeed_m_per_s } = out;
+  const st = scratchState;
+  for (let s = 0; s < ens.species.length; s++) {
+    const plan = prepareExactPlan(scratchPlan, model, ens.species[s].mz);
+    const end = ens.speciesStart[s + 1];
+    for (let i = ens.speciesStart[s]; i < end; i++) {
+      st.t = 0;
+      st.z = z0_m[i];
+      st.v = vz0_m_per_s[i];
+      st.fate = Fate.UNSET;
+      traceOneExact(st, plan);
+      flightTime_s[i] = st.t;
+      fate[i] = st.fate;
+      finalSpeed_m_per_s[i] = st.fate === Fate.DETECTED ? Math.abs(st.v) : 0;
+    }
+  }
+}

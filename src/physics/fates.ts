@@ -1,0 +1,64 @@
+/**
+ * Every traced ion ends with exactly one fate; the codes are stored per ion in a Uint8Array.
+ * UNSET must never survive a trace: the engines and the tests check for it.
+ */
+export const Fate = {
+  UNSET: 0,
+  DETECTED: 1,
+  STRUCK_REPELLER: 2,
+  LEFT_SOURCE_DURING_DELAY: 3,
+  PASSED_THROUGH_MIRROR: 4,
+  TURNED_BACK: 5,
+  MISSED_DETECTOR: 6,
+  STRUCK_ELECTRODE: 7,
+  INTEGRATION_FAILED: 8,
+  TIMED_OUT: 9,
+} as const;
+
+export type FateCode = (typeof Fate)[keyof typeof Fate];
+
+/** Stable keys used in reports and JSON output, indexed by fate code. */
+export const FATE_KEYS = [
+  'unset',
+  'detected',
+  'struckRepeller',
+  'leftSourceDuringDelay',
+  'passedThroughMirror',
+  'turnedBack',
+  'missedDetector',
+  'struckElectrode',
+  'integrationFailed',
+  'timedOut',
+] as const;
+
+export type FateKey = (typeof FATE_KEYS)[number];
+
+/** Plain-language reasons shown to users ("why ions were lost"). */
+export const FATE_DESCRIPTIONS: Record<FateKey, string> = {
+  unset: 'not traced (engine defect)',
+  detected: 'reached the detector',
+  struckRepeller: 'moved back and struck the repeller',
+  leftSourceDuringDelay: 'left the first source stage before the extraction pulse',
+  passedThroughMirror: 'energy above the mirror back-plate potential: passed through the mirror',
+  turnedBack: 'turned back by a retarding field before the detector',
+  missedDetector: 'arrived outside the detector active area',
+  struckElectrode: 'struck an electrode',
+  integrationFailed: 'numerical integration failed',
+  timedOut: 'still in flight at the time limit',
+};
+
+export type FateCounts = Record<FateKey, number>;
+
+export function emptyFateCounts(): FateCounts {
+  const counts = {} as FateCounts;
+  for (const key of FATE_KEYS) counts[key] = 0;
+  return counts;
+}
+
+export function countFates(fates: Uint8Array, from = 0, to = fates.length): FateCounts {
+  const tally = new Array<number>(FATE_KEYS.length).fill(0);
+  for (let i = from; i < to; i++) tally[fates[i]]++;
+  const counts = emptyFateCounts();
+  FATE_KEYS.forEach((key, code) => (counts[key] = tally[code]));
+  return counts;
+}

@@ -1,0 +1,140 @@
+/**
+ * Preset (user units, validated shape) → analyser model and population spec (SI). Also the checks
+ * that span several fields (a start position beyond the first grid, an empty population...),
+ * each reported with the path of the field to change and the allowed range.
+ */
+import type { AnalyserModel, ElectrodeDrive } from '../physics/analyser';
+import { ELEMENTARY_CHARGE_C } from '../physics/constants';
+import { mmToM, nsToS } from '../physics/units';
+import type { SpeciesInfo } from '../ions/ensemble';
+import type { PopulationSpec, StartPositionSpec, StartVelocitySpec } from '../ions/population';
+import type { PresetIssue } from './issues';
+import type { Preset } from './schema';
+
+/** Longest flight followed before an ion is reported as timed out. */
+export const MAX_FLIGHT_TIME_S = 0.1;
+
+export interface CompiledPreset {
+  readonly model: AnalyserModel;
+  readonly population: PopulationSpec;
+}
+
+export function firstStageGap_mm(preset: Preset): number {
+  return preset.source.extractionGrid ? preset.source.extractionGrid.gap_mm : preset.source.groundGrid.gap_mm;
+}
+
+/** Cross-field checks; an empty list means the preset can be compiled and run. */
+export function checkPreset(preset: Preset): PresetIssue[] {
+  const issues: PresetIssue[] = [];
+  const gap = firstStageGap_mm(preset);
+  const gapName = preset.source.extractionGrid ? 'source.extractionGrid.gap_mm' : 'source.groundGrid.gap_mm';
+  const inside = `must lie inside the first source stage: ≥ 0 and < ${gap} mm (${gapName})`;
+  const pos = preset.ions.startPosition;
+  if (pos.kind === 'surface' && pos.position_mm >= gap) issues.push({ path: 'ions.startPosition.position_mm', message: inside });
+  if (pos.kind === 'uniform') {
+    if (pos.to_mm >= gap) issues.push({ path: 'ions.startPosition.to_mm', message: inside });
+    if (pos.from_mm > pos.to_mm) {
+      issues.push({ path: 'ions.startPosition.from_mm', message: `must be ≤ ions.startPosition.to_mm (${pos.to_mm} mm)` });
+    }
+  }
+  if (pos.kind === 'gaussian' && pos.mean_mm >= gap) issues.push({ path: 'ions.startPosition.mean_mm', message: inside });
+  const vel = preset.ions.startVelocity;
+  if (vel.kind === 'normal' && vel.minimum_m_per_s !== undefined) {
+    const ceiling = vel.mean_m_per_s + 3 * vel.sd_m_per_s;
+    if (vel.minimum_m_per_s > ceiling) {
+      issues.push({
+        path: 'ions.startVelocity.minimum_m_per_s',
+        message: `must be ≤ mean + 3·sd = ${ceiling} m/s, or almost every draw is refused`,
+      });
+    }
+  }
+  if (!preset.ions.species.some((s) => s.abundance > 0)) {
+    issues.push({ path: 'ions.species', message: 'at least one species needs an abundance > 0' });
+  }
+  return issues;
+}
+
+export function compilePreset(preset: Preset): CompiledPreset {
+  const src = preset.source;
+  const driftPotential = preset.drift.potential_V;
+  const delayed = src.extraction.mode === 'delayed';
+  const planes: ElectrodeDrive[] = [];
+  const stageLengths_m: number[] = [];
+  const grid = src.extractionGrid;
+  // Default hold: the repeller sits at the next plane's potential, so the first stage is field-free.
+  const nextHold = grid ? (grid.hold_V ?? grid.potential_V) : driftPotential;
+  planes.push({ hold_V: delayed ? (src.repeller.hold_V ?? nextHold) : src.repeller.potential_V, final_V: src.repeller.potential_V });
+  if (grid) {
+    planes.push({ hold_V: delayed ? (grid.hold_V ?? grid.potential_V) : grid.potential_V, final_V: grid.potential_V });
+    stageLengths_m.push(mmToM(grid.gap_mm));
+  }
+  planes.push({ hold_V: driftPotential, final_V: driftPotential });
+  stageLengths_m.push(mmToM(src.groundGrid.gap_mm));
+
+  const mirror = preset.mirror;
+  const model: AnalyserModel = {
+    polarity: preset.polarity === 'positive' ? 1 : -1,
+    source: {
+      stageLengths_m,
+      planes,
+      delay_s: src.extraction.mode === 'delayed' ? nsToS(src.extraction.delay_ns) : 0,
+    },
+    drift: { length_m: mmToM(preset.drift.length_mm), potential_V: driftPotential },
+    mirror:
+      mirror.type === 'none'
+        ? null
+        : {
+            stages:
+              mirror.type === 'single'
+                ? [{ length_m: mmToM(mirror.depth_mm), exitPotential_V: mirror.backPlate_V }]
+                : [
+                    { length_m: mmToM(mirror.deceleratingLength_mm), exitPotential_V: mirror.intermediateGrid_V },
+                    { length_m: mmToM(mirror.reflectingLength_mm), exitPotential_V: mirror.backPlate_V },
+                  ],
+            returnLength_m: mmToM(mirror.returnLength_mm),
+          },
+    postAcceleration: preset.detector.postAcceleration
+      ? { gap_m: mmToM(preset.detector.postAcceleration.gap_mm), potential_V: preset.detector.postAcceleration.potential_V }
+      : null,
+    maxFlightTime_s: MAX_FLIGHT_TIME_S,
+  };
+
+  const species: SpeciesInfo[] = preset.ions.species.map((s) => ({
+    label: s.label ?? `m/z ${s.mz}${s.charge > 1 ? ` (${s.charge}${preset.polarity === 'positive' ? '+' : '−'})` : ''}`,
+    mz: s.mz,
+    charge: s.charge,
+    abundance: s.abundance,
+  }));
+  const population: PopulationSpec = {
+    species,
+    totalIons: preset.run.ions,
+    seed: preset.run.seed,
+    startPosition: positionSpec(preset.ions.startPosition),
+    startVelocity: velocitySpec(preset.ions.startVelocity),
+    firstStage_m: stageLengths_m[0],
+  };
+  return { model, population };
+}
+
+function positionSpec(p: Preset['ions']['startPosition']): StartPositionSpec {
+  switch (p.kind) {
+    case 'surface':
+      return { kind: 'surface', z_m: mmToM(p.position_mm) };
+    case 'uniform':
+      return { kind: 'uniform', from_m: mmToM(p.from_mm), to_m: mmToM(p.to_mm) };
+    case 'gaussian':
+      return { kind: 'gaussian', mean_m: mmToM(p.mean_mm), sd_m: mmToM(p.sd_mm) };
+  }
+}
+
+function velocitySpec(v: Preset['ions']['startVelocity']): StartVelocitySpec {
+  if (v.kind === 'normal') {
+    return {
+      kind: 'normal',
+      mean_m_per_s: v.mean_m_per_s,
+      sd_m_per_s: v.sd_m_per_s,
+      minimum_m_per_s: v.minimum_m_per_s ?? -Infinity,
+    };
+  }
+  return { kind: 'energy', mean_J: v.mean_eV * ELEMENTARY_CHARGE_C, sd_J: v.sd_eV * ELEMENTARY_CHARGE_C };
+}

@@ -1,0 +1,181 @@
+/**
+ * The preset contract: one JSON document describes an analyser, an ion population and a run.
+ * Units sit in every key name; values are converted to SI only when the preset is compiled
+ * (src/presets/compile.ts). Every object is strict, so unknown keys (including "__proto__")
+ * are refused instead of being merged into application state.
+ */
+import { z } from 'zod';
+
+// Zod compiles validators with `new Function` unless told not to; the app runs under a CSP without eval.
+z.config({ jitless: true });
+
+export const CURRENT_FORMAT_VERSION = 1;
+
+/** Allowed ranges, shared by the validator, the CLI messages and the parameter panel. */
+export const LIMITS = {
+  potential_V: { min: -50_000, max: 50_000 },
+  sourceGap_mm: { min: 0.01, max: 500 },
+  driftLength_mm: { min: 1, max: 50_000 },
+  mirrorStage_mm: { min: 0.1, max: 5_000 },
+  postAccelerationGap_mm: { min: 0.01, max: 200 },
+  delay_ns: { min: 0, max: 1_000_000 },
+  mz: { min: 0.5, max: 10_000_000 },
+  charge: { min: 1, max: 500 },
+  abundance: { min: 0, max: 1e12 },
+  position_mm: { min: 0, max: 500 },
+  positionSd_mm: { min: 0, max: 100 },
+  velocity_m_per_s: { min: -100_000, max: 100_000 },
+  velocitySd_m_per_s: { min: 0, max: 100_000 },
+  energy_eV: { min: 0, max: 10_000 },
+  energySd_eV: { min: 0, max: 10_000 },
+  ions: { min: 1, max: 20_000_000 },
+  seed: { min: 0, max: 4_294_967_295 },
+} as const;
+
+type Range = { min: number; max: number };
+
+/** A finite number inside [min, max] (or (min, max] when `exclusiveMin`), with a message that states the range and unit. */
+function ranged(range: Range, unit: string, exclusiveMin = false) {
+  const lo = exclusiveMin ? `> ${range.min}` : `≥ ${range.min}`;
+  const text = `must be a number ${lo} and ≤ ${range.max}${unit ? ' ' + unit : ''}`;
+  const base = z.number({ error: text }); // zod 4 numbers refuse NaN and ±Infinity
+  return (exclusiveMin ? base.gt(range.min, { error: text }) : base.gte(range.min, { error: text })).lte(range.max, { error: text });
+}
+
+function rangedInt(range: Range, what: string) {
+  const text = `must be an integer from ${range.min} to ${range.max}${what ? ' ' + what : ''}`;
+  return z.number({ error: text }).int({ error: text }).gte(range.min, { error: text }).lte(range.max, { error: text });
+}
+
+const potential = () => ranged(LIMITS.potential_V, 'V');
+
+const electrodeSchema = z.strictObject({
+  potential_V: potential(),
+  /** Potential held during the extraction delay; defaults are set by the compiler (field-free first stage). */
+  hold_V: potential().optional(),
+});
+
+const gridSchema = z.strictObject({
+  gap_mm: ranged(LIMITS.sourceGap_mm, 'mm', true),
+  potential_V: potential(),
+  hold_V: potential().optional(),
+});
+
+const groundGridSchema = z.strictObject({
+  gap_mm: ranged(LIMITS.sourceGap_mm, 'mm', true),
+});
+
+const extractionSchema = z.discriminatedUnion('mode', [
+  z.strictObject({ mode: z.literal('static') }),
+  z.strictObject({ mode: z.literal('delayed'), delay_ns: ranged(LIMITS.delay_ns, 'ns') }),
+]);
+
+const sourceSchema = z.strictObject({
+  repeller: electrodeSchema,
+  /** Present for a two-stage source; absent for a single-stage source (repeller straight to the ground grid). */
+  extractionGrid: gridSchema.optional(),
+  /** The source's last grid; it sits at the drift-tube potential. */
+  groundGrid: groundGridSchema,
+  extraction: extractionSchema,
+});
+
+const driftSchema = z.strictObject({
+  /** Linear mode: source exit to detector. Reflectron: source exit to the mirror entrance grid. */
+  length_mm: ranged(LIMITS.driftLength_mm, 'mm', true),
+  /** Potential of the drift tube (and of the ground grid and mirror entrance grid); 0 for a grounded tube. */
+  potential_V: potential().default(0),
+});
+
+const mirrorSchema = z.discriminatedUnion('type', [
+  z.strictObject({ type: z.literal('none') }),
+  z.strictObject({
+    type: z.literal('single'),
+    depth_mm: ranged(LIMITS.mirrorStage_mm, 'mm', true),
+    backPlate_V: potential(),
+    returnLength_mm: ranged(LIMITS.driftLength_mm, 'mm', true),
+  }),
+  z.strictObject({
+    type: z.literal('dual'),
+    deceleratingLength_mm: ranged(LIMITS.mirrorStage_mm, 'mm', true),
+    intermediateGrid_V: potential(),
+    reflectingLength_mm: ranged(LIMITS.mirrorStage_mm, 'mm', true),
+    backPlate_V: potential(),
+    returnLength_mm: ranged(LIMITS.driftLength_mm, 'mm', true),
+  }),
+]);
+
+const detectorSchema = z.strictObject({
+  postAcceleration: z
+    .strictObject({
+      gap_mm: ranged(LIMITS.postAccelerationGap_mm, 'mm', true),
+      potential_V: potential(),
+    })
+    .optional(),
+});
+
+const speciesSchema = z.strictObject({
+  label: z.string().max(80).optional(),
+  mz: ranged(LIMITS.mz, 'Th (m/z)'),
+  charge: rangedInt(LIMITS.charge, '(charge state, sign from polarity)'),
+  abundance: ranged(LIMITS.abundance, '(relative)').default(1),
+});
+
+const startPositionSchema = z.discriminatedUnion('kind', [
+  z.strictObject({ kind: z.literal('surface'), position_mm: ranged(LIMITS.position_mm, 'mm') }),
+  z.strictObject({
+    kind: z.literal('uniform'),
+    from_mm: ranged(LIMITS.position_mm, 'mm'),
+    to_mm: ranged(LIMITS.position_mm, 'mm'),
+  }),
+  z.strictObject({
+    kind: z.literal('gaussian'),
+    mean_mm: ranged(LIMITS.position_mm, 'mm'),
+    sd_mm: ranged(LIMITS.positionSd_mm, 'mm'),
+  }),
+]);
+
+const startVelocitySchema = z.discriminatedUnion('kind', [
+  z.strictObject({
+    kind: z.literal('normal'),
+    mean_m_per_s: ranged(LIMITS.velocity_m_per_s, 'm/s'),
+    sd_m_per_s: ranged(LIMITS.velocitySd_m_per_s, 'm/s'),
+    /** Values below this are redrawn (a truncated normal); omit for no truncation. */
+    minimum_m_per_s: ranged(LIMITS.velocity_m_per_s, 'm/s').optional(),
+  }),
+  z.strictObject({
+    kind: z.literal('energy'),
+    mean_eV: ranged(LIMITS.energy_eV, 'eV'),
+    sd_eV: ranged(LIMITS.energySd_eV, 'eV'),
+  }),
+]);
+
+const ionsSchema = z.strictObject({
+  species: z.array(speciesSchema).min(1, { error: 'needs at least one species' }).max(200),
+  startPosition: startPositionSchema,
+  startVelocity: startVelocitySchema,
+});
+
+const runSchema = z.strictObject({
+  ions: rangedInt(LIMITS.ions, 'ions'),
+  seed: rangedInt(LIMITS.seed, ''),
+});
+
+export const presetSchema = z.strictObject({
+  formatVersion: z.literal(CURRENT_FORMAT_VERSION, { error: `must be ${CURRENT_FORMAT_VERSION}` }),
+  name: z.string().min(1).max(120),
+  description: z.string().max(4000).optional(),
+  polarity: z.enum(['positive', 'negative']),
+  source: sourceSchema,
+  drift: driftSchema,
+  mirror: mirrorSchema,
+  detector: detectorSchema.default({}),
+  ions: ionsSchema,
+  run: runSchema,
+});
+
+/** A validated preset, with defaults filled in. */
+export type Preset = z.output<typeof presetSchema>;
+/** What a preset file may contain before defaults are applied. */
+export type PresetInput = z.input<typeof presetSchema>;
+export type MirrorSettings = Preset['mirror'];
+export type SpeciesSettings = Preset['ions']['species'][number];

@@ -1,0 +1,37 @@
+/**
+ * One simulation run of a validated preset: compile, sample the population, trace, report.
+ * Shared by the CLI, the worker and the tests, so all give identical numbers for the same seed.
+ */
+import { compilePreset, type CompiledPreset } from '../presets/compile';
+import type { Preset } from '../presets/schema';
+import { allocateTraceResult, type Ensemble, type TraceResult } from '../ions/ensemble';
+import { samplePopulation } from '../ions/population';
+import { traceExact } from '../physics/exactEngine';
+import { buildReport, type RunReport } from './report';
+
+export interface RunOptions {
+  /** Override the preset's ion count. */
+  readonly ions?: number;
+  /** Override the preset's seed. */
+  readonly seed?: number;
+}
+
+export interface SimulationResult {
+  readonly compiled: CompiledPreset;
+  readonly ensemble: Ensemble;
+  readonly trace: TraceResult;
+  readonly report: RunReport;
+}
+
+export function simulate(preset: Preset, options: RunOptions = {}): SimulationResult {
+  const compiled = compilePreset(preset);
+  const population = {
+    ...compiled.population,
+    totalIons: options.ions ?? compiled.population.totalIons,
+    seed: options.seed ?? compiled.population.seed,
+  };
+  const ensemble = samplePopulation(population);
+  const trace = allocateTraceResult(ensemble.count);
+  traceExact(compiled.model, ensemble, trace);
+  return { compiled: { ...compiled, population }, ensemble, trace, report: buildReport(ensemble, trace) };
+}
