@@ -10,7 +10,7 @@
 import type { AnalyserModel } from './analyser';
 import { chargeToMass_C_per_kg } from './constants';
 import { Fate } from './fates';
-import { createMotion, crossForward, enterStage, firstExit } from './uniformField';
+import { createMotion, crossForward, Crossing, enterStage, firstExit } from './uniformField';
 import type { Ensemble, TraceResult } from '../ions/ensemble';
 
 export interface IonState {
@@ -132,8 +132,9 @@ export function extractExact(st: IonState, plan: ExactPlan): boolean {
     if (st.z >= end && st.v >= 0) continue; // already on (or beyond) this stage's exit plane
     const ahead = end - st.z;
     const behind = st.z - start;
-    if (!crossForward(motion, st.v, plan.sourceAcceleration[j], ahead, behind)) {
-      st.fate = j === 0 ? Fate.STRUCK_REPELLER : Fate.TURNED_BACK;
+    const crossing = crossForward(motion, st.v, plan.sourceAcceleration[j], ahead, behind);
+    if (crossing !== Crossing.FORWARD) {
+      st.fate = crossing === Crossing.NEVER ? Fate.TIMED_OUT : j === 0 ? Fate.STRUCK_REPELLER : Fate.TURNED_BACK;
       return false;
     }
     st.t += motion.dt;
@@ -181,8 +182,9 @@ export function mirrorExact(st: IonState, plan: ExactPlan): boolean {
 /** Optional post-acceleration gap in front of the detector. */
 export function postAccelerateExact(st: IonState, plan: ExactPlan): boolean {
   if (plan.postGap_m <= 0) return true;
-  if (!crossForward(motion, st.v, plan.postAcceleration, plan.postGap_m, 0)) {
-    st.fate = Fate.TURNED_BACK;
+  const crossing = crossForward(motion, st.v, plan.postAcceleration, plan.postGap_m, 0);
+  if (crossing !== Crossing.FORWARD) {
+    st.fate = crossing === Crossing.NEVER ? Fate.TIMED_OUT : Fate.TURNED_BACK;
     return false;
   }
   st.t += motion.dt;
@@ -204,7 +206,7 @@ export function flyAfterSourceExact(st: IonState, plan: ExactPlan): void {
 /** One ion from its start to its fate, entirely in closed form. */
 export function traceOneExact(st: IonState, plan: ExactPlan): void {
   if (holdExact(st, plan) && extractExact(st, plan)) flyAfterSourceExact(st, plan);
-  if (!(st.t <= plan.maxFlightTime_s)) {
+  if (st.fate === Fate.TIMED_OUT || !(st.t <= plan.maxFlightTime_s)) {
     st.fate = Fate.TIMED_OUT;
     st.t = plan.maxFlightTime_s;
   }

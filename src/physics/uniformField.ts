@@ -18,36 +18,40 @@ export function createMotion(): Motion {
   return { dt: 0, v: 0 };
 }
 
+/** Outcome of `crossForward`. */
+export const Crossing = { FORWARD: 1, BACKWARD: -1, NEVER: 0 } as const;
+
 /**
  * Cross a stage forward: start `ahead` metres before its exit plane and `behind` metres after its
  * entry plane, with velocity v (positive = towards the exit) and acceleration a.
- * Returns true and fills `out` when the ion leaves through the exit plane; returns false when it
- * leaves back through the entry plane (it turns around, or starts moving back and never returns).
+ * Returns FORWARD and fills `out` when the ion leaves through the exit plane; BACKWARD when it
+ * leaves back through the entry plane (it turns around, or starts moving back and never returns);
+ * NEVER when it rests in a field-free stage.
  */
-export function crossForward(out: Motion, v: number, a: number, ahead: number, behind: number): boolean {
+export function crossForward(out: Motion, v: number, a: number, ahead: number, behind: number): number {
   if (ahead <= 0) {
-    if (v < 0) return false;
+    if (v < 0) return Crossing.BACKWARD;
     out.dt = 0;
     out.v = v;
-    return true;
+    return Crossing.FORWARD;
   }
   if (v >= 0) {
     const disc = v * v + 2 * a * ahead;
-    if (disc < 0) return false;
+    if (disc < 0) return Crossing.BACKWARD;
     const vOut = Math.sqrt(disc);
     const denom = v + vOut;
-    if (denom <= 0) return false; // at rest with no field: it never arrives
+    if (denom <= 0) return a < 0 ? Crossing.BACKWARD : Crossing.NEVER; // at rest with no field
     out.dt = (2 * ahead) / denom;
     out.v = vOut;
-    return true;
+    return Crossing.FORWARD;
   }
   // Moving backwards: only a forward acceleration can bring it back before it reaches the entry plane.
-  if (a <= 0) return false;
-  if (v * v > 2 * a * behind) return false;
+  if (a <= 0) return Crossing.BACKWARD;
+  if (v * v > 2 * a * behind) return Crossing.BACKWARD;
   const vOut = Math.sqrt(v * v + 2 * a * ahead);
   out.dt = (vOut - v) / a;
   out.v = vOut;
-  return true;
+  return Crossing.FORWARD;
 }
 
 /**

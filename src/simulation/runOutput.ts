@@ -1,0 +1,20 @@
+/** Turns a simulation result into the engine service's `RunOutput` (shared by the worker and in-process callers). */
+import type { RunOutput, RunRequest } from '../tuning/api';
+import { simulate } from './run';
+
+export function runRequest(request: RunRequest, now: () => number = () => performance.now()): RunOutput {
+  const start = now();
+  const result = simulate(request.preset, { ions: request.ions, seed: request.seed });
+  return {
+    report: result.report,
+    flightTime_s: result.trace.flightTime_s,
+    fate: result.trace.fate,
+    speciesStart: result.ensemble.speciesStart,
+    elapsed_ms: now() - start,
+  };
+}
+
+/** Buffers of a RunOutput, for zero-copy transfer out of a worker. */
+export function runOutputTransferables(out: RunOutput): ArrayBuffer[] {
+  return [out.flightTime_s.buffer, out.fate.buffer, out.speciesStart.buffer] as ArrayBuffer[];
+}
