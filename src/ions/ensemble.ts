@@ -54,6 +54,11 @@ export interface TraceResult {
   readonly fate: Uint8Array;
   /** Axial speed at the detector plane (m/s); 0 when not detected. */
   readonly finalSpeed_m_per_s: Float64Array;
+  /** Intensity weight: product of the transmissions of the grids the ion passed (1 = no loss). */
+  readonly weight: Float64Array;
+  /** Transverse position in the detector plane (m), flight-axis frame; meaningful for detected ions. */
+  readonly detectorX_m: Float64Array;
+  readonly detectorY_m: Float64Array;
 }
 
 export function allocateTraceResult(n: number): TraceResult {
@@ -61,5 +66,8 @@ export function allocateTraceResult(n: number): TraceResult {
     flightTime_s: new Float64Array(n),
     fate: new Uint8Array(n),
     finalSpeed_m_per_s: new Float64Array(n),
+    weight: new Float64Array(n),
+    detectorX_m: new Float64Array(n),
+    detectorY_m: new Float64Array(n),
   };
 }

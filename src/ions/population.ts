@@ -3,7 +3,7 @@
  * they start, and with what axial velocity. Each species draws from its own seeded stream, so a
  * species' ions do not change when another species is added or the pool layout changes.
  */
-import { ATOMIC_MASS_CONSTANT_KG } from '../physics/constants';
+import { ATOMIC_MASS_CONSTANT_KG, BOLTZMANN_J_PER_K } from '../physics/constants';
 import { allocateEnsemble, type Ensemble, type SpeciesInfo } from './ensemble';
 import { SeededRandom } from './random';
 
@@ -21,7 +21,26 @@ export type StartVelocitySpec =
       readonly minimum_m_per_s: number;
     }
   /** Axial kinetic energy normal (truncated at 0), converted per species to a speed away from the repeller. */
-  | { readonly kind: 'energy'; readonly mean_J: number; readonly sd_J: number };
+  | { readonly kind: 'energy'; readonly mean_J: number; readonly sd_J: number }
+  /** Maxwell–Boltzmann: each velocity component normal with mean 0 and sd sqrt(kT/m) for the ion's mass m. */
+  | { readonly kind: 'thermal'; readonly temperature_K: number };
+
+export type TransverseVelocitySpec =
+  | { readonly kind: 'none' }
+  | { readonly kind: 'normal'; readonly sd_m_per_s: number }
+  | { readonly kind: 'angular'; readonly sd_rad: number }
+  | { readonly kind: 'thermal'; readonly temperature_K: number };
+
+export interface TransverseSpec {
+  /** Start positions uniform over a disc of this radius about the axis. */
+  readonly spotRadius_m: number;
+  readonly velocity: TransverseVelocitySpec;
+  /** Orthogonal injection: kinetic energy of a beam moving along +x (0 = none). */
+  readonly beamEnergy_J: number;
+  readonly beamEnergySd_J: number;
+}
+
+export const NO_TRANSVERSE: TransverseSpec = { spotRadius_m: 0, velocity: { kind: 'none' }, beamEnergy_J: 0, beamEnergySd_J: 0 };
 
 export interface PopulationSpec {
   readonly species: readonly SpeciesInfo[];
@@ -29,6 +48,7 @@ export interface PopulationSpec {
   readonly seed: number;
   readonly startPosition: StartPositionSpec;
   readonly startVelocity: StartVelocitySpec;
+  readonly transverse?: TransverseSpec;
   /** Start positions are confined to [0, firstStage_m) (the first source stage). */
   readonly firstStage_m: number;
 }
@@ -62,6 +82,8 @@ export function samplePopulation(spec: PopulationSpec): Ensemble {
     const to = ens.speciesStart[s + 1];
     samplePositions(ens.z0_m, from, to, spec.startPosition, spec.firstStage_m, rng);
     sampleVelocities(ens.vz0_m_per_s, from, to, spec.startVelocity, spec.species[s], rng);
+    // Transverse draws come after the axial ones, so adding them leaves the axial sample unchanged.
+    if (spec.transverse) sampleTransverse(ens, from, to, spec.transverse, spec.species[s], rng);
   }
   return ens;
 }
@@ -112,11 +134,58 @@ function sampleVelocities(
     }
     return;
   }
-  // Energy spread: the ion's mass m = (m/z)·z·u, not its m/z, sets its speed for a given kinetic energy.
+  // The ion's mass m = (m/z)·z·u, not its m/z, sets its speed for a given energy or temperature.
   const mass_kg = species.mz * species.charge * ATOMIC_MASS_CONSTANT_KG;
+  if (spec.kind === 'thermal') {
+    const sd = Math.sqrt((BOLTZMANN_J_PER_K * spec.temperature_K) / mass_kg);
+    for (let i = from; i < to; i++) v[i] = sd * rng.normal();
+    return;
+  }
   for (let i = from; i < to; i++) {
     let energy = spec.mean_J + spec.sd_J * rng.normal();
     for (let tries = 0; energy < 0 && tries < MAX_REDRAWS; tries++) energy = spec.mean_J + spec.sd_J * rng.normal();
     v[i] = Math.sqrt((2 * Math.max(energy, 0)) / mass_kg);
+  }
+}
+
+function sampleTransverse(ens: Ensemble, from: number, to: number, spec: TransverseSpec, species: SpeciesInfo, rng: SeededRandom): void {
+  const mass_kg = species.mz * species.charge * ATOMIC_MASS_CONSTANT_KG;
+  const vel = spec.velocity;
+  const thermalSd = vel.kind === 'thermal' ? Math.sqrt((BOLTZMANN_J_PER_K * vel.temperature_K) / mass_kg) : 0;
+  for (let i = from; i < to; i++) {
+    if (spec.spotRadius_m > 0) {
+      // Uniform over the disc: radius ∝ sqrt(u).
+      const r = spec.spotRadius_m * Math.sqrt(rng.uniform());
+      const phi = 2 * Math.PI * rng.uniform();
+      ens.x0_m[i] = r * Math.cos(phi);
+      ens.y0_m[i] = r * Math.sin(phi);
+    }
+    let vx = 0;
+    let vy = 0;
+    switch (vel.kind) {
+      case 'normal':
+        vx = vel.sd_m_per_s * rng.normal();
+        vy = vel.sd_m_per_s * rng.normal();
+        break;
+      case 'angular': {
+        const vz = Math.abs(ens.vz0_m_per_s[i]);
+        vx = vz * Math.tan(vel.sd_rad * rng.normal());
+        vy = vz * Math.tan(vel.sd_rad * rng.normal());
+        break;
+      }
+      case 'thermal':
+        vx = thermalSd * rng.normal();
+        vy = thermalSd * rng.normal();
+        break;
+      case 'none':
+        break;
+    }
+    if (spec.beamEnergy_J > 0) {
+      let energy = spec.beamEnergy_J + spec.beamEnergySd_J * rng.normal();
+      for (let tries = 0; energy < 0 && tries < MAX_REDRAWS; tries++) energy = spec.beamEnergy_J + spec.beamEnergySd_J * rng.normal();
+      vx += Math.sqrt((2 * Math.max(energy, 0)) / mass_kg);
+    }
+    ens.vx0_m_per_s[i] = vx;
+    ens.vy0_m_per_s[i] = vy;
   }
 }

@@ -21,6 +21,8 @@ export interface SourceModel {
   readonly planes: readonly ElectrodeDrive[];
   /** Extraction delay after ion formation at t = 0; 0 for a static source. */
   readonly delay_s: number;
+  /** Transmission of each plane (index as `planes`; the repeller's entry is unused), 1 = fully open. */
+  readonly planeTransmission: readonly number[];
 }
 
 export interface MirrorStage {
@@ -34,11 +36,22 @@ export interface MirrorModel {
   readonly stages: readonly MirrorStage[];
   /** Field-free path from the mirror entrance grid back to the detector (or post-acceleration gap). */
   readonly returnLength_m: number;
+  /** Transmission of the grid closing each stage except the last (the back plate), then of the entrance grid. */
+  readonly entranceGridTransmission: number;
+  readonly innerGridTransmission: readonly number[];
 }
 
 export interface PostAccelerationModel {
   readonly gap_m: number;
   readonly potential_V: number;
+  readonly gridTransmission: number;
+}
+
+/** Active area of the detector in its plane; null = every ion reaching the plane counts. */
+export interface DetectorAperture {
+  readonly radius_m: number;
+  readonly centreX_m: number;
+  readonly centreY_m: number;
 }
 
 export interface AnalyserModel {
@@ -49,6 +62,7 @@ export interface AnalyserModel {
   /** null in linear mode. */
   readonly mirror: MirrorModel | null;
   readonly postAcceleration: PostAccelerationModel | null;
+  readonly detectorAperture: DetectorAperture | null;
   /** Flight times beyond this are reported as timed out rather than as infinities. */
   readonly maxFlightTime_s: number;
 }

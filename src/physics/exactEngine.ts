@@ -18,10 +18,12 @@ export interface IonState {
   z: number;
   v: number;
   fate: number;
+  /** Intensity weight: product of the transmissions of the grids passed so far. */
+  w: number;
 }
 
 export function createIonState(): IonState {
-  return { t: 0, z: 0, v: 0, fate: Fate.UNSET };
+  return { t: 0, z: 0, v: 0, fate: Fate.UNSET, w: 1 };
 }
 
 /** Per-species constants of the exact engine: accelerations of every stage for this m/z. */
@@ -35,13 +37,18 @@ export interface ExactPlan {
   /** Axial position of each source plane: [0, z1, (z2)] (m). */
   readonly sourcePlane_m: Float64Array;
   readonly sourceAcceleration: Float64Array;
+  /** Transmission of the plane closing each source stage. */
+  readonly sourceExitTransmission: Float64Array;
   driftLength_m: number;
   mirrorStageCount: number;
   readonly mirrorLength_m: Float64Array;
   readonly mirrorAcceleration: Float64Array;
+  /** Transmission of the grid at the entry of each mirror stage (entrance grid first). */
+  readonly mirrorEntryTransmission: Float64Array;
   returnLength_m: number;
   postGap_m: number;
   postAcceleration: number;
+  postGridTransmission: number;
   maxFlightTime_s: number;
 }
 
@@ -55,13 +62,16 @@ export function createExactPlan(): ExactPlan {
     sourceStageCount: 0,
     sourcePlane_m: new Float64Array(MAX_STAGES + 1),
     sourceAcceleration: new Float64Array(MAX_STAGES),
+    sourceExitTransmission: new Float64Array(MAX_STAGES),
     driftLength_m: 0,
     mirrorStageCount: 0,
     mirrorLength_m: new Float64Array(MAX_STAGES),
     mirrorAcceleration: new Float64Array(MAX_STAGES),
+    mirrorEntryTransmission: new Float64Array(MAX_STAGES),
     returnLength_m: 0,
     postGap_m: 0,
     postAcceleration: 0,
+    postGridTransmission: 1,
     maxFlightTime_s: 0,
   };
 }
@@ -78,6 +88,7 @@ export function prepareExactPlan(plan: ExactPlan, model: AnalyserModel, mz: numb
     const gap = src.stageLengths_m[j];
     plan.sourcePlane_m[j + 1] = plan.sourcePlane_m[j] + gap;
     plan.sourceAcceleration[j] = (k * (src.planes[j].final_V - src.planes[j + 1].final_V)) / gap;
+    plan.sourceExitTransmission[j] = src.planeTransmission[j + 1] ?? 1;
   }
   plan.holdAcceleration = (k * (src.planes[0].hold_V - src.planes[1].hold_V)) / src.stageLengths_m[0];
   plan.driftLength_m = model.drift.length_m;
@@ -90,12 +101,14 @@ export function prepareExactPlan(plan: ExactPlan, model: AnalyserModel, mz: numb
       const stage = mirror.stages[j];
       plan.mirrorLength_m[j] = stage.length_m;
       plan.mirrorAcceleration[j] = (k * (entry - stage.exitPotential_V)) / stage.length_m;
+      plan.mirrorEntryTransmission[j] = j === 0 ? mirror.entranceGridTransmission : (mirror.innerGridTransmission[j - 1] ?? 1);
       entry = stage.exitPotential_V;
     }
   }
   const post = model.postAcceleration;
   plan.postGap_m = post ? post.gap_m : 0;
   plan.postAcceleration = post ? (k * (model.drift.potential_V - post.potential_V)) / post.gap_m : 0;
+  plan.postGridTransmission = post ? post.gridTransmission : 1;
   plan.maxFlightTime_s = model.maxFlightTime_s;
   return plan;
 }
@@ -140,6 +153,7 @@ export function extractExact(st: IonState, plan: ExactPlan): boolean {
     st.t += motion.dt;
     st.v = motion.v;
     st.z = end;
+    st.w *= plan.sourceExitTransmission[j];
   }
   return true;
 }
@@ -165,11 +179,14 @@ export function mirrorExact(st: IonState, plan: ExactPlan): boolean {
   let v = st.v;
   let elapsed = 0;
   for (let j = 0; j < plan.mirrorStageCount; j++) {
+    const gridT = plan.mirrorEntryTransmission[j];
     const through = enterStage(motion, v, plan.mirrorAcceleration[j], plan.mirrorLength_m[j]);
     if (!through) {
       st.t += 2 * elapsed + motion.dt;
+      st.w *= gridT * gridT; // through this stage's entry grid and back out
       return true; // speed on exit equals entry speed: st.v unchanged
     }
+    st.w *= gridT * gridT;
     elapsed += motion.dt;
     v = motion.v;
   }
@@ -189,6 +206,7 @@ export function postAccelerateExact(st: IonState, plan: ExactPlan): boolean {
   }
   st.t += motion.dt;
   st.v = motion.v;
+  st.w *= plan.postGridTransmission;
   return true;
 }
 
@@ -218,7 +236,7 @@ const scratchState = createIonState();
 /** Trace every ion of `ens` through `model` with the exact engine, writing into `out`. */
 export function traceExact(model: AnalyserModel, ens: Ensemble, out: TraceResult): void {
   const { z0_m, vz0_m_per_s } = ens;
-  const { flightTime_s, fate, finalSpeed_m_per_s } = out;
+  const { flightTime_s, fate, finalSpeed_m_per_s, weight } = out;
   const st = scratchState;
   for (let s = 0; s < ens.species.length; s++) {
     const plan = prepareExactPlan(scratchPlan, model, ens.species[s].mz);
@@ -228,10 +246,32 @@ export function traceExact(model: AnalyserModel, ens: Ensemble, out: TraceResult
       st.z = z0_m[i];
       st.v = vz0_m_per_s[i];
       st.fate = Fate.UNSET;
+      st.w = 1;
       traceOneExact(st, plan);
       flightTime_s[i] = st.t;
       fate[i] = st.fate;
       finalSpeed_m_per_s[i] = st.fate === Fate.DETECTED ? Math.abs(st.v) : 0;
+      weight[i] = st.w;
     }
+  }
+}
+
+/**
+ * Transverse motion and the detector's active area. Ideal grids have fields along the axis only, so
+ * the transverse velocity never changes: the position in the detector plane is x0 + vx·t (in the
+ * unfolded flight frame). Detected ions outside the active area become "missed detector".
+ */
+export function applyDetectorPlane(model: AnalyserModel, ens: Ensemble, out: TraceResult): void {
+  const aperture = model.detectorAperture;
+  const r2 = aperture ? aperture.radius_m * aperture.radius_m : Infinity;
+  const cx = aperture ? aperture.centreX_m : 0;
+  const cy = aperture ? aperture.centreY_m : 0;
+  for (let i = 0; i < ens.count; i++) {
+    const t = out.flightTime_s[i];
+    const x = ens.x0_m[i] + ens.vx0_m_per_s[i] * t;
+    const y = ens.y0_m[i] + ens.vy0_m_per_s[i] * t;
+    out.detectorX_m[i] = x;
+    out.detectorY_m[i] = y;
+    if (out.fate[i] === Fate.DETECTED && (x - cx) * (x - cx) + (y - cy) * (y - cy) > r2) out.fate[i] = Fate.MISSED_DETECTOR;
   }
 }

@@ -7,7 +7,7 @@ import type { AnalyserModel, ElectrodeDrive } from '../physics/analyser';
 import { ELEMENTARY_CHARGE_C } from '../physics/constants';
 import { mmToM, nsToS } from '../physics/units';
 import type { SpeciesInfo } from '../ions/ensemble';
-import type { PopulationSpec, StartPositionSpec, StartVelocitySpec } from '../ions/population';
+import { NO_TRANSVERSE, type PopulationSpec, type StartPositionSpec, type StartVelocitySpec, type TransverseSpec } from '../ions/population';
 import type { PresetIssue } from './issues';
 import type { Preset } from './schema';
 
@@ -70,6 +70,7 @@ export function compilePreset(preset: Preset): CompiledPreset {
   }
   planes.push({ hold_V: driftPotential, final_V: driftPotential });
   stageLengths_m.push(mmToM(src.groundGrid.gap_mm));
+  const planeTransmission = [1, ...(grid ? [grid.transmission ?? 1] : []), src.groundGrid.transmission ?? 1];
 
   const mirror = preset.mirror;
   const model: AnalyserModel = {
@@ -78,6 +79,7 @@ export function compilePreset(preset: Preset): CompiledPreset {
       stageLengths_m,
       planes,
       delay_s: src.extraction.mode === 'delayed' ? nsToS(src.extraction.delay_ns) : 0,
+      planeTransmission,
     },
     drift: { length_m: mmToM(preset.drift.length_mm), potential_V: driftPotential },
     mirror:
@@ -92,10 +94,24 @@ export function compilePreset(preset: Preset): CompiledPreset {
                     { length_m: mmToM(mirror.reflectingLength_mm), exitPotential_V: mirror.backPlate_V },
                   ],
             returnLength_m: mmToM(mirror.returnLength_mm),
+            entranceGridTransmission: mirror.entranceGridTransmission ?? 1,
+            innerGridTransmission: mirror.type === 'dual' ? [mirror.intermediateGridTransmission ?? 1] : [],
           },
     postAcceleration: preset.detector.postAcceleration
-      ? { gap_m: mmToM(preset.detector.postAcceleration.gap_mm), potential_V: preset.detector.postAcceleration.potential_V }
+      ? {
+          gap_m: mmToM(preset.detector.postAcceleration.gap_mm),
+          potential_V: preset.detector.postAcceleration.potential_V,
+          gridTransmission: preset.detector.postAcceleration.gridTransmission ?? 1,
+        }
       : null,
+    detectorAperture:
+      preset.detector.activeDiameter_mm === undefined
+        ? null
+        : {
+            radius_m: mmToM(preset.detector.activeDiameter_mm) / 2,
+            centreX_m: mmToM(preset.detector.offsetX_mm),
+            centreY_m: mmToM(preset.detector.offsetY_mm),
+          },
     maxFlightTime_s: MAX_FLIGHT_TIME_S,
   };
 
@@ -111,6 +127,7 @@ export function compilePreset(preset: Preset): CompiledPreset {
     seed: preset.run.seed,
     startPosition: positionSpec(preset.ions.startPosition),
     startVelocity: velocitySpec(preset.ions.startVelocity),
+    transverse: transverseSpec(preset.ions.transverse),
     firstStage_m: stageLengths_m[0],
   };
   return { model, population };
@@ -136,5 +153,16 @@ function velocitySpec(v: Preset['ions']['startVelocity']): StartVelocitySpec {
       minimum_m_per_s: v.minimum_m_per_s ?? -Infinity,
     };
   }
+  if (v.kind === 'thermal') return { kind: 'thermal', temperature_K: v.temperature_K };
   return { kind: 'energy', mean_J: v.mean_eV * ELEMENTARY_CHARGE_C, sd_J: v.sd_eV * ELEMENTARY_CHARGE_C };
+}
+
+function transverseSpec(t: Preset['ions']['transverse']): TransverseSpec {
+  if (!t) return NO_TRANSVERSE;
+  return {
+    spotRadius_m: mmToM(t.spotRadius_mm),
+    velocity: t.velocity.kind === 'angular' ? { kind: 'angular', sd_rad: t.velocity.sd_mrad * 1e-3 } : t.velocity,
+    beamEnergy_J: t.beamEnergy_eV * ELEMENTARY_CHARGE_C,
+    beamEnergySd_J: t.beamEnergySd_eV * ELEMENTARY_CHARGE_C,
+  };
 }

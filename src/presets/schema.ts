@@ -30,6 +30,12 @@ export const LIMITS = {
   energySd_eV: { min: 0, max: 10_000 },
   ions: { min: 1, max: 20_000_000 },
   seed: { min: 0, max: 4_294_967_295 },
+  transmission: { min: 0, max: 1 },
+  temperature_K: { min: 0, max: 5_000 },
+  angle_mrad: { min: 0, max: 500 },
+  spotRadius_mm: { min: 0, max: 50 },
+  detectorDiameter_mm: { min: 0.01, max: 500 },
+  detectorOffset_mm: { min: -1_000, max: 1_000 },
 } as const;
 
 type Range = { min: number; max: number };
@@ -55,14 +61,19 @@ const electrodeSchema = z.strictObject({
   hold_V: potential().optional(),
 });
 
+/** Fraction of ions a grid lets through (open area); weights intensity, 1 when omitted. */
+const transmission = () => ranged(LIMITS.transmission, '(fraction)', true).optional();
+
 const gridSchema = z.strictObject({
   gap_mm: ranged(LIMITS.sourceGap_mm, 'mm', true),
   potential_V: potential(),
   hold_V: potential().optional(),
+  transmission: transmission(),
 });
 
 const groundGridSchema = z.strictObject({
   gap_mm: ranged(LIMITS.sourceGap_mm, 'mm', true),
+  transmission: transmission(),
 });
 
 const extractionSchema = z.discriminatedUnion('mode', [
@@ -93,6 +104,7 @@ const mirrorSchema = z.discriminatedUnion('type', [
     depth_mm: ranged(LIMITS.mirrorStage_mm, 'mm', true),
     backPlate_V: potential(),
     returnLength_mm: ranged(LIMITS.driftLength_mm, 'mm', true),
+    entranceGridTransmission: transmission(),
   }),
   z.strictObject({
     type: z.literal('dual'),
@@ -101,6 +113,8 @@ const mirrorSchema = z.discriminatedUnion('type', [
     reflectingLength_mm: ranged(LIMITS.mirrorStage_mm, 'mm', true),
     backPlate_V: potential(),
     returnLength_mm: ranged(LIMITS.driftLength_mm, 'mm', true),
+    entranceGridTransmission: transmission(),
+    intermediateGridTransmission: transmission(),
   }),
 ]);
 
@@ -109,8 +123,14 @@ const detectorSchema = z.strictObject({
     .strictObject({
       gap_mm: ranged(LIMITS.postAccelerationGap_mm, 'mm', true),
       potential_V: potential(),
+      gridTransmission: transmission(),
     })
     .optional(),
+  /** Active area diameter; omitted = every ion reaching the detector plane counts. */
+  activeDiameter_mm: ranged(LIMITS.detectorDiameter_mm, 'mm', true).optional(),
+  /** Centre of the active area relative to the flight axis (x is the orthogonal-injection direction). */
+  offsetX_mm: ranged(LIMITS.detectorOffset_mm, 'mm').default(0),
+  offsetY_mm: ranged(LIMITS.detectorOffset_mm, 'mm').default(0),
 });
 
 const speciesSchema = z.strictObject({
@@ -147,12 +167,34 @@ const startVelocitySchema = z.discriminatedUnion('kind', [
     mean_eV: ranged(LIMITS.energy_eV, 'eV'),
     sd_eV: ranged(LIMITS.energySd_eV, 'eV'),
   }),
+  /** Gas-phase ions: Maxwell–Boltzmann axial velocity (normal, mean 0, sd sqrt(kT/m)) at a temperature. */
+  z.strictObject({ kind: z.literal('thermal'), temperature_K: ranged(LIMITS.temperature_K, 'K') }),
 ]);
+
+const transverseVelocitySchema = z.discriminatedUnion('kind', [
+  z.strictObject({ kind: z.literal('none') }),
+  /** Isotropic normal spread of each transverse velocity component. */
+  z.strictObject({ kind: z.literal('normal'), sd_m_per_s: ranged(LIMITS.velocitySd_m_per_s, 'm/s') }),
+  /** Angular spread about the axis: each component's angle normal with this sd, v⊥ = v_axial·tan(angle). */
+  z.strictObject({ kind: z.literal('angular'), sd_mrad: ranged(LIMITS.angle_mrad, 'mrad') }),
+  /** Maxwell–Boltzmann components at a temperature (gas-phase slab). */
+  z.strictObject({ kind: z.literal('thermal'), temperature_K: ranged(LIMITS.temperature_K, 'K') }),
+]);
+
+const transverseSchema = z.strictObject({
+  /** Start positions uniform over a disc of this radius about the axis. */
+  spotRadius_mm: ranged(LIMITS.spotRadius_mm, 'mm').default(0),
+  velocity: transverseVelocitySchema.default({ kind: 'none' }),
+  /** Orthogonal injection: a beam along +x with this kinetic energy per ion (0 = none). */
+  beamEnergy_eV: ranged(LIMITS.energy_eV, 'eV').default(0),
+  beamEnergySd_eV: ranged(LIMITS.energySd_eV, 'eV').default(0),
+});
 
 const ionsSchema = z.strictObject({
   species: z.array(speciesSchema).min(1, { error: 'needs at least one species' }).max(200),
   startPosition: startPositionSchema,
   startVelocity: startVelocitySchema,
+  transverse: transverseSchema.optional(),
 });
 
 const runSchema = z.strictObject({
@@ -168,7 +210,7 @@ export const presetSchema = z.strictObject({
   source: sourceSchema,
   drift: driftSchema,
   mirror: mirrorSchema,
-  detector: detectorSchema.default({}),
+  detector: detectorSchema.prefault({}),
   ions: ionsSchema,
   run: runSchema,
 });

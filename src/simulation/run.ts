@@ -6,7 +6,7 @@ import { compilePreset, type CompiledPreset } from '../presets/compile';
 import type { Preset } from '../presets/schema';
 import { allocateTraceResult, type Ensemble, type TraceResult } from '../ions/ensemble';
 import { samplePopulation } from '../ions/population';
-import { traceExact } from '../physics/exactEngine';
+import { applyDetectorPlane, traceExact } from '../physics/exactEngine';
 import { buildReport, type RunReport } from './report';
 
 export interface RunOptions {
@@ -33,5 +33,6 @@ export function simulate(preset: Preset, options: RunOptions = {}): SimulationRe
   const ensemble = samplePopulation(population);
   const trace = allocateTraceResult(ensemble.count);
   traceExact(compiled.model, ensemble, trace);
+  applyDetectorPlane(compiled.model, ensemble, trace);
   return { compiled: { ...compiled, population }, ensemble, trace, report: buildReport(ensemble, trace) };
 }
