@@ -8,6 +8,9 @@ import { parsePresetText } from './presets/load';
 import { LIMITS } from './presets/schema';
 import { simulate } from './simulation/run';
 import { formatCsv, formatTable } from './simulation/format';
+import { isTuningCommand, runTuningCommand, type TuningCliOptions } from './cli/tuningCommand';
+import { TUNING_USAGE } from './cli/tuningArgs';
+import type { SpectrumSection } from './simulation/analysisReport';
 
 export const USAGE = `Usage: npm run sim -- <preset.json> [--json | --csv] [--ions N] [--seed S]
 
@@ -16,11 +19,15 @@ export const USAGE = `Usage: npm run sim -- <preset.json> [--json | --csv] [--io
   --csv           print one CSV row per species
   --ions N        override the preset's ion count (${LIMITS.ions.min}..${LIMITS.ions.max})
   --seed S        override the preset's random seed (${LIMITS.seed.min}..${LIMITS.seed.max})
-  --help          show this text`;
+  --spectrum      with --json: add the simulated spectrum (time_ns, intensity, mz arrays; needs "acquisition")
+  --help          show this text
+
+${TUNING_USAGE}`;
 
 export interface CliArgs {
   presetPath: string;
   format: 'table' | 'json' | 'csv';
+  spectrum?: boolean;
   ions?: number;
   seed?: number;
 }
@@ -33,10 +40,13 @@ export function parseArgs(argv: readonly string[]): ArgsResult {
   let format: CliArgs['format'] = 'table';
   let ions: number | undefined;
   let seed: number | undefined;
+  let spectrum = false;
   for (let i = 0; i < argv.length; i++) {
     const arg = argv[i];
     if (arg === '--help' || arg === '-h') return { ok: false, issues: [], help: true };
-    if (arg === '--json' || arg === '--csv') {
+    if (arg === '--spectrum') {
+      spectrum = true;
+    } else if (arg === '--json' || arg === '--csv') {
       format = arg === '--json' ? 'json' : 'csv';
     } else if (arg === '--ions' || arg === '--seed') {
       const range = arg === '--ions' ? LIMITS.ions : LIMITS.seed;
@@ -56,13 +66,18 @@ export function parseArgs(argv: readonly string[]): ArgsResult {
   }
   if (presetPath === undefined) issues.push({ path: '<preset.json>', message: 'is required' });
   if (issues.length || presetPath === undefined) return { ok: false, issues };
-  return { ok: true, args: { presetPath, format, ions, seed } };
+  if (spectrum && format !== 'json') issues.push({ path: '--spectrum', message: 'needs --json' });
+  if (issues.length) return { ok: false, issues };
+  return { ok: true, args: { presetPath, format, ions, seed, spectrum } };
 }
 
 export interface CliIo {
   out(text: string): void;
   err(text: string): void;
   readFile(path: string): string;
+  /** Used by --write (scan/tune/merge); default node:fs, never replacing a file unless `overwrite`. */
+  writeFile?(path: string, text: string, overwrite: boolean): void;
+  fileExists?(path: string): boolean;
 }
 
 const processIo: CliIo = {
@@ -71,7 +86,14 @@ const processIo: CliIo = {
   readFile: (path) => readFileSync(path, 'utf8'),
 };
 
-export function main(argv: readonly string[], io: CliIo = processIo): number {
+function spectrumJson(s: SpectrumSection | null) {
+  if (!s) return { error: 'the preset has no "acquisition" settings, or no ion was detected' };
+  return { sampleInterval_ns: s.sampleInterval_ns, time_ns: Array.from(s.time_ns), intensity: Array.from(s.intensity), mz: s.mz ? Array.from(s.mz) : null };
+}
+
+/** Plain runs return their exit code at once; scans, tunes and merges (worker pool) return a promise of it. */
+export function main(argv: readonly string[], io: CliIo = processIo, options: TuningCliOptions = {}): number | Promise<number> {
+  if (isTuningCommand(argv)) return runTuningCommand(argv, io, options);
   const parsed = parseArgs(argv);
   if (!parsed.ok) {
     if (parsed.help) {
@@ -95,7 +117,7 @@ export function main(argv: readonly string[], io: CliIo = processIo): number {
     io.err(loaded.issues.map((i) => `${args.presetPath}: ${i.path}: ${i.message}`).join('\n') + '\n');
     return 2;
   }
-  const result = simulate(loaded.value, { ions: args.ions, seed: args.seed });
+  const result = simulate(loaded.value, { ions: args.ions, seed: args.seed, withSpectrum: args.spectrum });
   const preset = loaded.value;
   if (args.format === 'json') {
     const out = {
@@ -105,6 +127,9 @@ export function main(argv: readonly string[], io: CliIo = processIo): number {
       detected: result.report.detected,
       fates: result.report.fates,
       species: result.report.species,
+      calibration: result.report.calibration,
+      focus: result.report.focus,
+      ...(args.spectrum ? { spectrum: spectrumJson(result.analysis.spectrum) } : {}),
     };
     io.out(JSON.stringify(out) + '\n');
   } else if (args.format === 'csv') {
@@ -118,7 +143,7 @@ export function main(argv: readonly string[], io: CliIo = processIo): number {
 // Run when executed directly (not when imported by the tests).
 if (import.meta.url === `file://${process.argv[1]}` || process.argv[1]?.endsWith('/src/cli.ts')) {
   try {
-    process.exitCode = main(process.argv.slice(2));
+    process.exitCode = await main(process.argv.slice(2));
   } catch (err) {
     process.stderr.write(`internal error: ${(err as Error).message}\n`);
     process.exitCode = 1;

@@ -48,6 +48,20 @@ export function checkPreset(preset: Preset): PresetIssue[] {
       });
     }
   }
+  const calibrants = preset.analysis?.calibrantMz ?? [];
+  calibrants.forEach((mz, i) => {
+    if (!preset.ions.species.some((s) => Math.abs(s.mz - mz) <= 0.5)) {
+      issues.push({ path: `analysis.calibrantMz[${i}]`, message: `matches no species within 0.5 Th (m/z ${mz})` });
+    }
+  });
+  const needed = preset.analysis?.quadraticCalibration ? 3 : 2;
+  if (calibrants.length > 0 && calibrants.length < needed) {
+    issues.push({ path: 'analysis.calibrantMz', message: `needs at least ${needed} calibrants for this calibration law` });
+  }
+  const acq = preset.acquisition;
+  if (acq && acq.recordLength_us !== undefined && (acq.recordLength_us * 1e3) / acq.sampleInterval_ns > 1 << 24) {
+    issues.push({ path: 'acquisition.recordLength_us', message: `gives more than ${1 << 24} samples at this sample interval` });
+  }
   if (!preset.ions.species.some((s) => s.abundance > 0)) {
     issues.push({ path: 'ions.species', message: 'at least one species needs an abundance > 0' });
   }

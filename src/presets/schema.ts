@@ -36,6 +36,11 @@ export const LIMITS = {
   spotRadius_mm: { min: 0, max: 50 },
   detectorDiameter_mm: { min: 0.01, max: 500 },
   detectorOffset_mm: { min: -1_000, max: 1_000 },
+  pulseWidth_ns: { min: 0, max: 1_000 },
+  jitter_ns: { min: 0, max: 1_000 },
+  shots: { min: 1, max: 1_000_000 },
+  sampleInterval_ns: { min: 0.001, max: 1_000 },
+  record_us: { min: 0, max: 100_000 },
 } as const;
 
 type Range = { min: number; max: number };
@@ -197,6 +202,30 @@ const ionsSchema = z.strictObject({
   transverse: transverseSchema.optional(),
 });
 
+/** Detector response and digitizer; absent = report ion statistics only, no simulated spectrum. */
+const acquisitionSchema = z.strictObject({
+  /** FWHM of the detector's single-ion pulse (gaussian). */
+  pulseWidth_ns: ranged(LIMITS.pulseWidth_ns, 'ns').default(0),
+  /** Per-ion timing jitter of the detector (sd). */
+  detectorJitter_ns: ranged(LIMITS.jitter_ns, 'ns').default(0),
+  /** Start (trigger) jitter, one offset per shot (sd). */
+  triggerJitter_ns: ranged(LIMITS.jitter_ns, 'ns').default(0),
+  /** The ions are spread over this many shots (laser or pusher pulses) summed into one spectrum. */
+  shots: rangedInt(LIMITS.shots, 'shots').default(1),
+  sampleInterval_ns: ranged(LIMITS.sampleInterval_ns, 'ns', true),
+  /** Record window; omitted = from just before the first to just after the last detected ion. */
+  recordStart_us: ranged(LIMITS.record_us, 'µs').optional(),
+  recordLength_us: ranged(LIMITS.record_us, 'µs', true).optional(),
+});
+
+const analysisSchema = z.strictObject({
+  /** Species (by m/z) used as calibrants for t = t0 + a·sqrt(m/z) [+ b·m/z]; the others are unknowns. */
+  calibrantMz: z.array(ranged(LIMITS.mz, 'Th (m/z)')).max(50).optional(),
+  quadraticCalibration: z.boolean().default(false),
+  /** Species (by m/z) whose reference ion is used for the focus analysis; the first species by default. */
+  focusReferenceMz: ranged(LIMITS.mz, 'Th (m/z)').optional(),
+});
+
 const runSchema = z.strictObject({
   ions: rangedInt(LIMITS.ions, 'ions'),
   seed: rangedInt(LIMITS.seed, ''),
@@ -212,6 +241,8 @@ export const presetSchema = z.strictObject({
   mirror: mirrorSchema,
   detector: detectorSchema.prefault({}),
   ions: ionsSchema,
+  acquisition: acquisitionSchema.optional(),
+  analysis: analysisSchema.optional(),
   run: runSchema,
 });
 

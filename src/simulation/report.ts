@@ -6,6 +6,7 @@ import { arrivalStats } from '../analysis/arrivalStats';
 import { countFates, Fate, type FateCounts } from '../physics/fates';
 import { sToNs } from '../physics/units';
 import type { Ensemble, TraceResult } from '../ions/ensemble';
+import type { AnalysisSections, SpectrumPeakReport } from './analysisReport';
 
 export interface SpeciesReport {
   readonly label: string;
@@ -24,6 +25,10 @@ export interface SpeciesReport {
   readonly resolvingPower: number | null;
   readonly resolvingPowerShortest: number | null;
   readonly fates: FateCounts;
+  /** The peak measured in this species' simulated spectrum (with acquisition settings), else null. */
+  readonly peak: SpectrumPeakReport | null;
+  /** Calibrated mass error of this species' peak (null for calibrants or without a calibration). */
+  readonly massError_ppm: number | null;
 }
 
 export interface RunReport {
@@ -31,6 +36,23 @@ export interface RunReport {
   readonly detected: number;
   readonly fates: FateCounts;
   readonly species: SpeciesReport[];
+  readonly calibration: AnalysisSections['calibration'];
+  readonly focus: AnalysisSections['focus'];
+}
+
+/** The report with the measurement sections (spectrum peaks, calibration, focus) filled in. */
+export function attachAnalysis(report: RunReport, analysis: AnalysisSections): RunReport {
+  const cal = analysis.calibration && 'unknowns' in analysis.calibration ? analysis.calibration : null;
+  return {
+    ...report,
+    species: report.species.map((s, i) => ({
+      ...s,
+      peak: analysis.speciesPeaks[i] ?? null,
+      massError_ppm: cal?.unknowns.find((u) => u.mz === s.mz)?.error_ppm ?? null,
+    })),
+    calibration: analysis.calibration,
+    focus: analysis.focus,
+  };
 }
 
 const nsOrNull = (s: number | null): number | null => (s === null ? null : sToNs(s));
@@ -62,8 +84,10 @@ export function buildReport(ens: Ensemble, trace: TraceResult): RunReport {
       resolvingPower: stats.resolvingPower,
       resolvingPowerShortest: stats.resolvingPowerShortest,
       fates: countFates(trace.fate, from, to),
+      peak: null,
+      massError_ppm: null,
     });
   }
   const fates = countFates(trace.fate);
-  return { ions: ens.count, detected: fates.detected, fates, species };
+  return { ions: ens.count, detected: fates.detected, fates, species, calibration: null, focus: null };
 }

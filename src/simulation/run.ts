@@ -7,13 +7,16 @@ import type { Preset } from '../presets/schema';
 import { allocateTraceResult, type Ensemble, type TraceResult } from '../ions/ensemble';
 import { samplePopulation } from '../ions/population';
 import { applyDetectorPlane, traceExact } from '../physics/exactEngine';
-import { buildReport, type RunReport } from './report';
+import { attachAnalysis, buildReport, type RunReport } from './report';
+import { buildAnalysisSections, type AnalysisSections } from './analysisReport';
 
 export interface RunOptions {
   /** Override the preset's ion count. */
   readonly ions?: number;
   /** Override the preset's seed. */
   readonly seed?: number;
+  /** Also return the whole simulated spectrum (needs the preset's acquisition settings). */
+  readonly withSpectrum?: boolean;
 }
 
 export interface SimulationResult {
@@ -21,6 +24,7 @@ export interface SimulationResult {
   readonly ensemble: Ensemble;
   readonly trace: TraceResult;
   readonly report: RunReport;
+  readonly analysis: AnalysisSections;
 }
 
 export function simulate(preset: Preset, options: RunOptions = {}): SimulationResult {
@@ -34,5 +38,15 @@ export function simulate(preset: Preset, options: RunOptions = {}): SimulationRe
   const trace = allocateTraceResult(ensemble.count);
   traceExact(compiled.model, ensemble, trace);
   applyDetectorPlane(compiled.model, ensemble, trace);
-  return { compiled: { ...compiled, population }, ensemble, trace, report: buildReport(ensemble, trace) };
+  const report = buildReport(ensemble, trace);
+  const analysis = buildAnalysisSections(
+    preset,
+    compiled.model,
+    population,
+    ensemble,
+    trace,
+    report.species.map((s) => (s.flightTime_ns === null ? null : s.flightTime_ns * 1e-9)),
+    { withSpectrum: options.withSpectrum },
+  );
+  return { compiled: { ...compiled, population }, ensemble, trace, report: attachAnalysis(report, analysis), analysis };
 }

@@ -1,0 +1,258 @@
+/**
+ * The measurement side of a run: the digitized spectrum built from the ions (detector response,
+ * jitter, sampling), peaks measured in it per species, the mass calibration from chosen calibrant
+ * peaks with the unknowns' errors in ppm, and the focus analysis of a reference ion.
+ */
+import { fitCalibration, assessUnknowns, type CalibrationCoefficients } from '../analysis/calibration';
+import { analyseFocus, findSpaceFocusPlane, type FocusAnalysis } from '../analysis/focus';
+import { measurePeak, type Peak } from '../analysis/peaks';
+import { buildSpectrum, timeAxisToMz, type AcquisitionSettings, type Spectrum } from '../analysis/spectrum';
+import type { AnalyserModel } from '../physics/analyser';
+import { ATOMIC_MASS_CONSTANT_KG } from '../physics/constants';
+import { Fate } from '../physics/fates';
+import type { Ensemble, TraceResult } from '../ions/ensemble';
+import type { PopulationSpec } from '../ions/population';
+import type { Preset } from '../presets/schema';
+import { traceSingleIon } from './singleIon';
+
+export interface SpectrumPeakReport {
+  readonly centroid_ns: number;
+  readonly fwhm_ns: number | null;
+  /** centroid/(2·FWHM) (IUPAC 2013, FWHM definition). */
+  readonly resolvingPower: number | null;
+  /** centroid/(2·full width at 5 % height): the 10 % valley definition for a single peak. */
+  readonly resolvingPower10pctValley: number | null;
+  readonly height: number;
+  readonly area: number;
+}
+
+export interface CalibrationSection {
+  readonly law: 't = t0 + a·sqrt(m/z)' | 't = t0 + a·sqrt(m/z) + b·(m/z)';
+  readonly coefficients: { readonly t0_ns: number; readonly a_ns_per_sqrtTh: number; readonly b_ns_per_Th: number };
+  readonly calibrantMz: number[];
+  readonly residuals_ppm: number[];
+  readonly rms_ppm: number;
+  /** Unknowns (every species that is not a calibrant): true m/z, calibrated m/z and error. */
+  readonly unknowns: { readonly mz: number; readonly measuredMz: number | null; readonly error_ppm: number | null }[];
+  /** Where the peak times came from. */
+  readonly timesFrom: 'spectrum peak centroids' | 'mean ion flight times';
+}
+
+export interface FocusSection extends FocusAnalysis {
+  readonly referenceMz: number;
+  readonly referenceStart_mm: number;
+  readonly referenceEnergy_eV: number;
+  /** Drift length beyond the ground grid at which dT/dz0 = 0 for this source (linear flight), or null. */
+  readonly spaceFocusPlane_mm: number | null;
+  readonly spaceFocusNote: string | null;
+}
+
+export interface SpectrumSection {
+  readonly sampleInterval_ns: number;
+  readonly time_ns: Float64Array;
+  readonly intensity: Float64Array;
+  readonly mz: Float64Array | null;
+}
+
+export interface AnalysisSections {
+  /** Per ensemble species block, the peak measured in that species' own spectrum (null without acquisition settings or signal). */
+  readonly speciesPeaks: (SpectrumPeakReport | null)[];
+  readonly calibration: CalibrationSection | { readonly error: string } | null;
+  readonly focus: FocusSection | { readonly error: string } | null;
+  readonly spectrum: SpectrumSection | null;
+}
+
+/** Acquisition settings for the ions in [from, to); an automatic record window spans just their arrivals. */
+function acquisitionSettings(preset: Preset, trace: TraceResult, from = 0, to = trace.fate.length): AcquisitionSettings | null {
+  const acq = preset.acquisition;
+  if (!acq) return null;
+  const sample_s = acq.sampleInterval_ns * 1e-9;
+  let start = acq.recordStart_us === undefined ? undefined : acq.recordStart_us * 1e-6;
+  let length = acq.recordLength_us === undefined ? undefined : acq.recordLength_us * 1e-6;
+  if (start === undefined || length === undefined) {
+    let lo = Infinity;
+    let hi = -Infinity;
+    for (let i = from; i < to; i++) {
+      if (trace.fate[i] !== Fate.DETECTED) continue;
+      lo = Math.min(lo, trace.flightTime_s[i]);
+      hi = Math.max(hi, trace.flightTime_s[i]);
+    }
+    if (!(hi >= lo)) return null;
+    const margin = 8 * Math.hypot(acq.pulseWidth_ns / 2.3548, acq.detectorJitter_ns, acq.triggerJitter_ns) * 1e-9 + 20 * sample_s;
+    start ??= Math.max(0, lo - margin);
+    length ??= Math.min(hi + margin - start, sample_s * ((1 << 24) - 1));
+  }
+  return {
+    pulseFwhm_s: acq.pulseWidth_ns * 1e-9,
+    detectorJitterSd_s: acq.detectorJitter_ns * 1e-9,
+    triggerJitterSd_s: acq.triggerJitter_ns * 1e-9,
+    shots: acq.shots,
+    seed: preset.run.seed,
+    sampleInterval_s: sample_s,
+    recordStart_s: start,
+    recordLength_s: Math.max(length, sample_s),
+  };
+}
+
+/** A one-species spectrum holds one peak (or an unresolved group): measure it about its tallest sample. */
+function tallestPeak(spectrum: Spectrum): Peak | null {
+  const y = spectrum.intensity;
+  if (y.length === 0) return null;
+  let apex = 0;
+  for (let k = 1; k < y.length; k++) if (y[k] > y[apex]) apex = k;
+  return y[apex] > 0 ? measurePeak(spectrum.time_s, y, apex, 0, y.length - 1) : null;
+}
+
+const toNs = (s: number | null): number | null => (s === null ? null : s * 1e9);
+
+export function buildAnalysisSections(
+  preset: Preset,
+  model: AnalyserModel,
+  population: PopulationSpec,
+  ens: Ensemble,
+  trace: TraceResult,
+  meanFlightTime_s: readonly (number | null)[],
+  options: { readonly withSpectrum?: boolean } = {},
+): AnalysisSections {
+  const settings = acquisitionSettings(preset, trace);
+  const speciesPeaks: (SpectrumPeakReport | null)[] = ens.species.map(() => null);
+  if (settings) {
+    for (let s = 0; s < ens.species.length; s++) {
+      const from = ens.speciesStart[s];
+      const to = ens.speciesStart[s + 1];
+      const own = acquisitionSettings(preset, trace, from, to);
+      if (!own) continue; // no detected ion of this species
+      const spec = buildSpectrum({ arrival_s: trace.flightTime_s, fate: trace.fate, weight: trace.weight, from, to }, own);
+      const peak = spec.detectedIons > 0 ? tallestPeak(spec) : null;
+      speciesPeaks[s] = peak && {
+        centroid_ns: peak.centroid_s * 1e9,
+        fwhm_ns: toNs(peak.fwhm_s),
+        resolvingPower: peak.resolvingPowerFwhm,
+        resolvingPower10pctValley: peak.resolvingPower10pctValley,
+        height: peak.height,
+        area: peak.area,
+      };
+    }
+  }
+
+  const peakTime_s = ens.species.map((_, s) => {
+    const p = speciesPeaks[s];
+    return settings ? (p ? p.centroid_ns * 1e-9 : null) : meanFlightTime_s[s];
+  });
+  const calibration = calibrate(preset, ens, peakTime_s, settings ? 'spectrum peak centroids' : 'mean ion flight times');
+
+  let spectrum: SpectrumSection | null = null;
+  if (settings && options.withSpectrum) {
+    const full = buildSpectrum({ arrival_s: trace.flightTime_s, fate: trace.fate, weight: trace.weight }, settings);
+    const coeffs = calibration && 'coefficients' in calibration ? toSeconds(calibration.coefficients) : null;
+    spectrum = {
+      sampleInterval_ns: settings.sampleInterval_s * 1e9,
+      time_ns: full.time_s.map((t) => t * 1e9),
+      intensity: full.intensity,
+      mz: coeffs ? timeAxisToMz(full.time_s, coeffs).mz : null,
+    };
+  }
+  return { speciesPeaks, calibration, focus: focusSection(preset, model, population), spectrum };
+}
+
+function toSeconds(c: CalibrationSection['coefficients']): CalibrationCoefficients {
+  return { t0_s: c.t0_ns * 1e-9, a_s_per_sqrtTh: c.a_ns_per_sqrtTh * 1e-9, b_s_per_Th: c.b_ns_per_Th * 1e-9 };
+}
+
+function calibrate(
+  preset: Preset,
+  ens: Ensemble,
+  peakTime_s: readonly (number | null)[],
+  timesFrom: CalibrationSection['timesFrom'],
+): CalibrationSection | { readonly error: string } | null {
+  const wanted = preset.analysis?.calibrantMz;
+  if (!wanted || wanted.length === 0) return null;
+  const isCalibrant = ens.species.map(() => false);
+  for (const mz of wanted) {
+    let best = -1;
+    ens.species.forEach((sp, s) => {
+      if (best < 0 || Math.abs(sp.mz - mz) < Math.abs(ens.species[best].mz - mz)) best = s;
+    });
+    isCalibrant[best] = true;
+  }
+  const calibrants = ens.species.flatMap((sp, s) => (isCalibrant[s] && peakTime_s[s] !== null ? [{ mz: sp.mz, time_s: peakTime_s[s]! }] : []));
+  const fit = fitCalibration(calibrants, { quadratic: preset.analysis?.quadraticCalibration ?? false });
+  if (!fit.ok) return { error: fit.issues.map((i) => `${i.path}: ${i.message}`).join('; ') };
+  const c = fit.report.coefficients;
+  const unknowns = assessUnknowns(
+    ens.species.flatMap((sp, s) => (!isCalibrant[s] && peakTime_s[s] !== null ? [{ mz: sp.mz, time_s: peakTime_s[s]! }] : [])),
+    c,
+  );
+  return {
+    law: fit.report.model === 'sqrt' ? 't = t0 + a·sqrt(m/z)' : 't = t0 + a·sqrt(m/z) + b·(m/z)',
+    coefficients: { t0_ns: c.t0_s * 1e9, a_ns_per_sqrtTh: c.a_s_per_sqrtTh * 1e9, b_ns_per_Th: c.b_s_per_Th * 1e9 },
+    calibrantMz: calibrants.map((x) => x.mz),
+    residuals_ppm: fit.report.residuals_ppm,
+    rms_ppm: fit.report.rms_ppm,
+    unknowns: unknowns.map((u) => ({ mz: u.mz, measuredMz: u.measuredMz, error_ppm: u.error_ppm })),
+    timesFrom,
+  };
+}
+
+/** Reference start position, its spread, and the axial start energy and spread of the population. */
+function referenceStart(population: PopulationSpec, mass_kg: number) {
+  const p = population.startPosition;
+  const z0 = p.kind === 'surface' ? p.z_m : p.kind === 'uniform' ? (p.from_m + p.to_m) / 2 : p.mean_m;
+  const zSpread = p.kind === 'surface' ? 1e-6 : p.kind === 'uniform' ? (p.to_m - p.from_m) / 2 : p.sd_m;
+  const v = population.startVelocity;
+  let U0: number;
+  let USpread: number;
+  if (v.kind === 'normal') {
+    U0 = 0.5 * mass_kg * Math.max(v.mean_m_per_s, 0) ** 2;
+    USpread = mass_kg * Math.abs(v.mean_m_per_s) * v.sd_m_per_s;
+  } else if (v.kind === 'energy') {
+    U0 = v.mean_J;
+    USpread = v.sd_J;
+  } else {
+    U0 = 0.5 * 1.380649e-23 * v.temperature_K;
+    USpread = U0;
+  }
+  return { z0, zSpread, U0, USpread };
+}
+
+function focusSection(preset: Preset, model: AnalyserModel, population: PopulationSpec): FocusSection | { readonly error: string } {
+  const refMz = preset.analysis?.focusReferenceMz;
+  const species =
+    refMz === undefined ? population.species[0] : population.species.reduce((a, b) => (Math.abs(b.mz - refMz) < Math.abs(a.mz - refMz) ? b : a));
+  const mass_kg = species.mz * species.charge * ATOMIC_MASS_CONSTANT_KG;
+  const { z0, zSpread, U0, USpread } = referenceStart(population, mass_kg);
+  const gap = model.source.stageLengths_m[0];
+  const flightTime = (z: number, U: number): number => {
+    const r = traceSingleIon(model, species.mz, z, Math.sqrt((2 * Math.max(U, 0)) / mass_kg));
+    return r.fate === Fate.DETECTED ? r.t : NaN;
+  };
+  const probe = {
+    z0_m: z0,
+    U0_J: U0,
+    lengthScale_m: gap,
+    z0Range_m: [0, gap * (1 - 1e-9)] as const,
+    positionSpread_m: zSpread,
+    energySpread_J: USpread,
+  };
+  const result = analyseFocus(flightTime, probe);
+  if (!result.ok) return { error: result.reason };
+  // Space-focus plane of the source alone: a linear drift of variable length behind the ground grid.
+  const linear = (drift_m: number): AnalyserModel => ({ ...model, drift: { ...model.drift, length_m: drift_m }, mirror: null, postAcceleration: null, detectorAperture: null });
+  const plane = findSpaceFocusPlane(
+    (z, D) => {
+      const r = traceSingleIon(linear(D), species.mz, z, Math.sqrt((2 * U0) / mass_kg));
+      return r.fate === Fate.DETECTED ? r.t : NaN;
+    },
+    z0,
+    [1e-4, 10],
+    { lengthScale_m: gap, z0Range_m: [0, gap * (1 - 1e-9)], scanPoints: 64 },
+  );
+  return {
+    ...result.focus,
+    referenceMz: species.mz,
+    referenceStart_mm: z0 * 1e3,
+    referenceEnergy_eV: U0 / 1.602176634e-19,
+    spaceFocusPlane_mm: plane.driftLength_m === null ? null : plane.driftLength_m * 1e3,
+    spaceFocusNote: plane.driftLength_m === null ? plane.reason : null,
+  };
+}
