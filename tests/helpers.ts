@@ -46,12 +46,13 @@ export function buildModel(o: ModelOptions): AnalyserModel {
   planes.push({ hold_V: drift, final_V: drift });
   return {
     polarity: o.polarity ?? 1,
-    source: { stageLengths_m, planes, delay_s: delay, planeTransmission: planes.map(() => 1) },
+    source: { stageLengths_m, planes, delay_s: delay, planeTransmission: planes.map(() => 1), rise: { kind: 'step' } },
     drift: { length_m: o.drift_m, potential_V: drift },
-    mirror: o.mirror ? { entranceGridTransmission: 1, innerGridTransmission: o.mirror.stages.slice(1).map(() => 1), ...o.mirror } : null,
+    mirror: o.mirror ? { entranceGridTransmission: 1, innerGridTransmission: o.mirror.stages.slice(1).map(() => 1), profile: null, ...o.mirror } : null,
     postAcceleration: o.post ? { gridTransmission: 1, ...o.post } : null,
     detectorAperture: null,
     maxFlightTime_s: 0.1,
+    forceIntegrator: false,
   };
 }
 

@@ -11,6 +11,20 @@ export interface ElectrodeDrive {
   readonly final_V: number;
 }
 
+/** A tabulated potential waveform (time since ion formation), linear between points, held outside. */
+export interface WaveformTable {
+  readonly time_s: Float64Array;
+  readonly potential_V: Float64Array;
+}
+
+/** How switched electrodes go from hold to final potential after the delay. */
+export type RiseModel =
+  | { readonly kind: 'step' }
+  | { readonly kind: 'linear'; readonly riseTime_s: number }
+  | { readonly kind: 'exponential'; readonly timeConstant_s: number }
+  /** Per plane (as `SourceModel.planes`): a table replaces that electrode's drive; null = step at the delay. */
+  | { readonly kind: 'table'; readonly tables: readonly (WaveformTable | null)[] };
+
 export interface SourceModel {
   /** Gap lengths of the source stages, repeller side first (one or two stages). */
   readonly stageLengths_m: readonly number[];
@@ -23,6 +37,7 @@ export interface SourceModel {
   readonly delay_s: number;
   /** Transmission of each plane (index as `planes`; the repeller's entry is unused), 1 = fully open. */
   readonly planeTransmission: readonly number[];
+  readonly rise: RiseModel;
 }
 
 export interface MirrorStage {
@@ -31,9 +46,18 @@ export interface MirrorStage {
   readonly exitPotential_V: number;
 }
 
+/** Non-uniform mirror potential V(x) = V_drift + Σ_k c_k·(x/depth)^k, x measured from the entrance grid. */
+export interface PolynomialProfile {
+  readonly depth_m: number;
+  /** c_1 … c_n (V); c_0 is the drift potential. */
+  readonly coefficients_V: Float64Array;
+}
+
 export interface MirrorModel {
-  /** Stages from the entrance grid inwards; the entrance grid is at the drift-tube potential. */
+  /** Stages from the entrance grid inwards; the entrance grid is at the drift-tube potential. Empty for a profile mirror. */
   readonly stages: readonly MirrorStage[];
+  /** Non-uniform (no closed form) mirror behind the entrance grid; null for a gridded stage mirror. */
+  readonly profile: PolynomialProfile | null;
   /** Field-free path from the mirror entrance grid back to the detector (or post-acceleration gap). */
   readonly returnLength_m: number;
   /** Transmission of the grid closing each stage except the last (the back plate), then of the entrance grid. */
@@ -65,6 +89,13 @@ export interface AnalyserModel {
   readonly detectorAperture: DetectorAperture | null;
   /** Flight times beyond this are reported as timed out rather than as infinities. */
   readonly maxFlightTime_s: number;
+  /** Integrate every region numerically, even where a closed form exists (a cross-check). */
+  readonly forceIntegrator: boolean;
+}
+
+/** True when some region has no closed form and must be integrated. */
+export function needsIntegrator(model: AnalyserModel): boolean {
+  return model.forceIntegrator || model.source.rise.kind !== 'step' || (model.mirror?.profile ?? null) !== null;
 }
 
 /** Total source depth (repeller to ground grid). */

@@ -120,32 +120,36 @@ const motion = createMotion();
  * ends. Returns false (fate set) if it reaches the repeller or the next grid first.
  */
 export function holdExact(st: IonState, plan: ExactPlan): boolean {
-  if (plan.delay_s <= 0) return true;
+  return holdExactUntil(st, plan, plan.delay_s);
+}
+
+/** The hold phase up to time `until` (s since ion formation), in the static hold field. */
+export function holdExactUntil(st: IonState, plan: ExactPlan, until: number): boolean {
+  const duration = until - st.t;
+  if (duration <= 0) return true;
   const side = firstExit(motion, st.z, st.v, plan.holdAcceleration, 0, plan.sourcePlane_m[1]);
-  if (side !== 0 && motion.dt <= plan.delay_s) {
+  if (side !== 0 && motion.dt <= duration) {
     st.t += motion.dt;
     st.z = side < 0 ? 0 : plan.sourcePlane_m[1];
     st.v = motion.v;
     st.fate = side < 0 ? Fate.STRUCK_REPELLER : Fate.LEFT_SOURCE_DURING_DELAY;
     return false;
   }
-  const dt = plan.delay_s;
   const a = plan.holdAcceleration;
-  st.z += st.v * dt + 0.5 * a * dt * dt;
-  st.v += a * dt;
-  st.t += dt;
+  st.z += st.v * duration + 0.5 * a * duration * duration;
+  st.v += a * duration;
+  st.t = until;
   return true;
 }
 
-/** From the ion's current position in the first stage, through every source stage to the ground grid. */
+/** From the ion's current position (any source stage, static extraction fields) through the remaining stages to the ground grid. */
 export function extractExact(st: IonState, plan: ExactPlan): boolean {
-  for (let j = 0; j < plan.sourceStageCount; j++) {
+  let j = 0;
+  while (j < plan.sourceStageCount - 1 && (st.z > plan.sourcePlane_m[j + 1] || (st.z === plan.sourcePlane_m[j + 1] && st.v >= 0))) j++;
+  for (; j < plan.sourceStageCount; j++) {
     const start = plan.sourcePlane_m[j];
     const end = plan.sourcePlane_m[j + 1];
-    if (st.z >= end && st.v >= 0) continue; // already on (or beyond) this stage's exit plane
-    const ahead = end - st.z;
-    const behind = st.z - start;
-    const crossing = crossForward(motion, st.v, plan.sourceAcceleration[j], ahead, behind);
+    const crossing = crossForward(motion, st.v, plan.sourceAcceleration[j], end - st.z, st.z - start);
     if (crossing !== Crossing.FORWARD) {
       st.fate = crossing === Crossing.NEVER ? Fate.TIMED_OUT : j === 0 ? Fate.STRUCK_REPELLER : Fate.TURNED_BACK;
       return false;

@@ -3,7 +3,7 @@
  * that span several fields (a start position beyond the first grid, an empty population...),
  * each reported with the path of the field to change and the allowed range.
  */
-import type { AnalyserModel, ElectrodeDrive } from '../physics/analyser';
+import type { AnalyserModel, ElectrodeDrive, MirrorModel, RiseModel, WaveformTable } from '../physics/analyser';
 import { ELEMENTARY_CHARGE_C } from '../physics/constants';
 import { mmToM, nsToS } from '../physics/units';
 import type { SpeciesInfo } from '../ions/ensemble';
@@ -58,6 +58,13 @@ export function checkPreset(preset: Preset): PresetIssue[] {
   if (calibrants.length > 0 && calibrants.length < needed) {
     issues.push({ path: 'analysis.calibrantMz', message: `needs at least ${needed} calibrants for this calibration law` });
   }
+  const m = preset.mirror;
+  if (m.type === 'profile' && m.profile.kind === 'table') {
+    const last = m.profile.points[m.profile.points.length - 1][0];
+    if (last !== m.depth_mm) {
+      issues.push({ path: 'mirror.profile.points', message: `the last point's depth (${last} mm) must equal mirror.depth_mm (${m.depth_mm} mm), where the back plate is` });
+    }
+  }
   const acq = preset.acquisition;
   if (acq && acq.recordLength_us !== undefined && (acq.recordLength_us * 1e3) / acq.sampleInterval_ns > 1 << 24) {
     issues.push({ path: 'acquisition.recordLength_us', message: `gives more than ${1 << 24} samples at this sample interval` });
@@ -91,26 +98,13 @@ export function compilePreset(preset: Preset): CompiledPreset {
     polarity: preset.polarity === 'positive' ? 1 : -1,
     source: {
       stageLengths_m,
-      planes,
+      planes: delayed ? applyTables(planes, src.extraction) : planes,
       delay_s: src.extraction.mode === 'delayed' ? nsToS(src.extraction.delay_ns) : 0,
       planeTransmission,
+      rise: riseModel(src.extraction, planes.length, Boolean(grid)),
     },
     drift: { length_m: mmToM(preset.drift.length_mm), potential_V: driftPotential },
-    mirror:
-      mirror.type === 'none'
-        ? null
-        : {
-            stages:
-              mirror.type === 'single'
-                ? [{ length_m: mmToM(mirror.depth_mm), exitPotential_V: mirror.backPlate_V }]
-                : [
-                    { length_m: mmToM(mirror.deceleratingLength_mm), exitPotential_V: mirror.intermediateGrid_V },
-                    { length_m: mmToM(mirror.reflectingLength_mm), exitPotential_V: mirror.backPlate_V },
-                  ],
-            returnLength_m: mmToM(mirror.returnLength_mm),
-            entranceGridTransmission: mirror.entranceGridTransmission ?? 1,
-            innerGridTransmission: mirror.type === 'dual' ? [mirror.intermediateGridTransmission ?? 1] : [],
-          },
+    mirror: mirrorModel(mirror, driftPotential),
     postAcceleration: preset.detector.postAcceleration
       ? {
           gap_m: mmToM(preset.detector.postAcceleration.gap_mm),
@@ -127,6 +121,7 @@ export function compilePreset(preset: Preset): CompiledPreset {
             centreY_m: mmToM(preset.detector.offsetY_mm),
           },
     maxFlightTime_s: MAX_FLIGHT_TIME_S,
+    forceIntegrator: preset.run.engine === 'integrator',
   };
 
   const species: SpeciesInfo[] = preset.ions.species.map((s) => ({
@@ -179,4 +174,78 @@ function transverseSpec(t: Preset['ions']['transverse']): TransverseSpec {
     beamEnergy_J: t.beamEnergy_eV * ELEMENTARY_CHARGE_C,
     beamEnergySd_J: t.beamEnergySd_eV * ELEMENTARY_CHARGE_C,
   };
+}
+
+type Extraction = Preset['source']['extraction'];
+
+function toTable(points: readonly (readonly [number, number])[]): WaveformTable {
+  return { time_s: Float64Array.from(points, (p) => nsToS(p[0])), potential_V: Float64Array.from(points, (p) => p[1]) };
+}
+
+function riseModel(extraction: Extraction, planeCount: number, twoStage: boolean): RiseModel {
+  if (extraction.mode !== 'delayed' || !extraction.rise) return { kind: 'step' };
+  const rise = extraction.rise;
+  switch (rise.shape) {
+    case 'step':
+      return { kind: 'step' };
+    case 'linear':
+      return { kind: 'linear', riseTime_s: nsToS(rise.riseTime_ns) };
+    case 'exponential':
+      return { kind: 'exponential', timeConstant_s: nsToS(rise.timeConstant_ns) };
+    case 'table': {
+      const tables: (WaveformTable | null)[] = new Array(planeCount).fill(null);
+      if (rise.repeller) tables[0] = toTable(rise.repeller);
+      if (rise.extractionGrid && twoStage) tables[1] = toTable(rise.extractionGrid);
+      return { kind: 'table', tables };
+    }
+  }
+}
+
+/** A tabulated electrode holds its first value before the table and its last one after it. */
+function applyTables(planes: ElectrodeDrive[], extraction: Extraction): ElectrodeDrive[] {
+  if (extraction.mode !== 'delayed' || extraction.rise?.shape !== 'table') return planes;
+  const rise = extraction.rise;
+  return planes.map((p, j) => {
+    const table = j === 0 ? rise.repeller : j === 1 && planes.length === 3 ? rise.extractionGrid : undefined;
+    return table ? { hold_V: table[0][1], final_V: table[table.length - 1][1] } : p;
+  });
+}
+
+function mirrorModel(mirror: Preset['mirror'], driftPotential: number): MirrorModel | null {
+  switch (mirror.type) {
+    case 'none':
+      return null;
+    case 'single':
+    case 'dual':
+      return {
+        stages:
+          mirror.type === 'single'
+            ? [{ length_m: mmToM(mirror.depth_mm), exitPotential_V: mirror.backPlate_V }]
+            : [
+                { length_m: mmToM(mirror.deceleratingLength_mm), exitPotential_V: mirror.intermediateGrid_V },
+                { length_m: mmToM(mirror.reflectingLength_mm), exitPotential_V: mirror.backPlate_V },
+              ],
+        profile: null,
+        returnLength_m: mmToM(mirror.returnLength_mm),
+        entranceGridTransmission: mirror.entranceGridTransmission ?? 1,
+        innerGridTransmission: mirror.type === 'dual' ? [mirror.intermediateGridTransmission ?? 1] : [],
+      };
+    case 'profile': {
+      const p = mirror.profile;
+      const base = {
+        returnLength_m: mmToM(mirror.returnLength_mm),
+        entranceGridTransmission: mirror.entranceGridTransmission ?? 1,
+        innerGridTransmission: [],
+      };
+      if (p.kind === 'table') {
+        // A piecewise-linear potential is a stack of uniform stages: exact in closed form, without grids.
+        const pts = p.points[0][0] > 0 ? [[0, driftPotential] as const, ...p.points] : p.points;
+        const stages = [];
+        for (let i = 1; i < pts.length; i++) stages.push({ length_m: mmToM(pts[i][0] - pts[i - 1][0]), exitPotential_V: pts[i][1] });
+        return { ...base, stages, profile: null, innerGridTransmission: stages.slice(1).map(() => 1) };
+      }
+      const coefficients_V = p.kind === 'harmonic' ? Float64Array.of(0, p.backPlate_V - driftPotential) : Float64Array.from(p.coefficients_V);
+      return { ...base, stages: [], profile: { depth_m: mmToM(mirror.depth_mm), coefficients_V } };
+    }
+  }
 }

@@ -11,7 +11,8 @@ import { presetSchema, type Preset } from './schema';
 /** Allowed values of the discriminating keys, for messages. */
 const DISCRIMINATOR_VALUES: Record<string, string> = {
   mode: '"static", "delayed"',
-  type: '"none", "single", "dual"',
+  type: '"none", "single", "dual", "profile"',
+  shape: '"step", "linear", "exponential", "table"',
   kind: 'see presets/preset.schema.json for the kinds allowed here',
 };
 

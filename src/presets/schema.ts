@@ -81,9 +81,26 @@ const groundGridSchema = z.strictObject({
   transmission: transmission(),
 });
 
+/** A pasted waveform: [time_ns since ion formation, potential_V] pairs, times strictly increasing. */
+const waveformTable = () =>
+  z
+    .array(z.tuple([ranged(LIMITS.delay_ns, 'ns'), potential()]))
+    .min(2, { error: 'needs at least two [time_ns, potential_V] points' })
+    .max(10_000)
+    .refine((pts) => pts.every((p, i) => i === 0 || p[0] > pts[i - 1][0]), { error: 'times must increase strictly' });
+
+/** How the switched potentials go from their hold values to their extraction values after the delay. */
+const riseSchema = z.discriminatedUnion('shape', [
+  z.strictObject({ shape: z.literal('step') }),
+  z.strictObject({ shape: z.literal('linear'), riseTime_ns: ranged(LIMITS.delay_ns, 'ns', true) }),
+  z.strictObject({ shape: z.literal('exponential'), timeConstant_ns: ranged(LIMITS.delay_ns, 'ns', true) }),
+  /** Tabulated potentials (linear between points, held outside them); an electrode without a table steps at the delay. */
+  z.strictObject({ shape: z.literal('table'), repeller: waveformTable().optional(), extractionGrid: waveformTable().optional() }),
+]);
+
 const extractionSchema = z.discriminatedUnion('mode', [
   z.strictObject({ mode: z.literal('static') }),
-  z.strictObject({ mode: z.literal('delayed'), delay_ns: ranged(LIMITS.delay_ns, 'ns') }),
+  z.strictObject({ mode: z.literal('delayed'), delay_ns: ranged(LIMITS.delay_ns, 'ns'), rise: riseSchema.optional() }),
 ]);
 
 const sourceSchema = z.strictObject({
@@ -101,6 +118,22 @@ const driftSchema = z.strictObject({
   /** Potential of the drift tube (and of the ground grid and mirror entrance grid); 0 for a grounded tube. */
   potential_V: potential().default(0),
 });
+
+const axialProfileSchema = z.discriminatedUnion('kind', [
+  /** Ideal harmonic mirror: V = V_drift + (V_back − V_drift)·(x/depth)². */
+  z.strictObject({ kind: z.literal('harmonic'), backPlate_V: potential() }),
+  /** V = V_drift + Σ c_k·(x/depth)^k for k = 1, 2, … (coefficients_V[0] multiplies x/depth). */
+  z.strictObject({ kind: z.literal('polynomial'), coefficients_V: z.array(potential()).min(1).max(12) }),
+  /** Piecewise-linear [depth_mm, potential_V] points from the entrance grid (depth 0, drift potential) inwards. */
+  z.strictObject({
+    kind: z.literal('table'),
+    points: z
+      .array(z.tuple([ranged({ min: 0, max: LIMITS.mirrorStage_mm.max }, 'mm'), potential()]))
+      .min(2)
+      .max(10_000)
+      .refine((pts) => pts.every((p, i) => i === 0 || p[0] > pts[i - 1][0]), { error: 'depths must increase strictly' }),
+  }),
+]);
 
 const mirrorSchema = z.discriminatedUnion('type', [
   z.strictObject({ type: z.literal('none') }),
@@ -120,6 +153,14 @@ const mirrorSchema = z.discriminatedUnion('type', [
     returnLength_mm: ranged(LIMITS.driftLength_mm, 'mm', true),
     entranceGridTransmission: transmission(),
     intermediateGridTransmission: transmission(),
+  }),
+  /** Gridded entrance, then a non-uniform axial potential V(x) over the mirror depth (x from the entrance grid). */
+  z.strictObject({
+    type: z.literal('profile'),
+    depth_mm: ranged(LIMITS.mirrorStage_mm, 'mm', true),
+    profile: axialProfileSchema,
+    returnLength_mm: ranged(LIMITS.driftLength_mm, 'mm', true),
+    entranceGridTransmission: transmission(),
   }),
 ]);
 
@@ -229,6 +270,8 @@ const analysisSchema = z.strictObject({
 const runSchema = z.strictObject({
   ions: rangedInt(LIMITS.ions, 'ions'),
   seed: rangedInt(LIMITS.seed, ''),
+  /** 'auto': closed form wherever the field allows it; 'integrator': integrate every region (a cross-check). */
+  engine: z.enum(['auto', 'integrator']).default('auto'),
 });
 
 export const presetSchema = z.strictObject({

@@ -7,6 +7,8 @@ import type { Preset } from '../presets/schema';
 import { allocateTraceResult, type Ensemble, type TraceResult } from '../ions/ensemble';
 import { samplePopulation } from '../ions/population';
 import { applyDetectorPlane, traceExact } from '../physics/exactEngine';
+import { needsIntegrator } from '../physics/analyser';
+import { traceMixed } from '../physics/tracer';
 import { attachAnalysis, buildReport, type RunReport } from './report';
 import { buildAnalysisSections, type AnalysisSections } from './analysisReport';
 
@@ -36,7 +38,9 @@ export function simulate(preset: Preset, options: RunOptions = {}): SimulationRe
   };
   const ensemble = samplePopulation(population);
   const trace = allocateTraceResult(ensemble.count);
-  traceExact(compiled.model, ensemble, trace);
+  // The closed form wherever the field allows it; the mixed tracer when some region needs integration.
+  if (needsIntegrator(compiled.model)) traceMixed(compiled.model, ensemble, trace);
+  else traceExact(compiled.model, ensemble, trace);
   applyDetectorPlane(compiled.model, ensemble, trace);
   const report = buildReport(ensemble, trace);
   const analysis = buildAnalysisSections(

@@ -1,0 +1,32 @@
+/** Embedded Runge–Kutta integrator with error control, dense output and events. */
+export { DOP853, DOPRI5, type RungeKuttaTableau } from './tableaus';
+export {
+  MAX_FACTOR,
+  MESSAGE_DONE,
+  MIN_FACTOR,
+  MIN_RTOL,
+  RungeKuttaWorkspace,
+  SAFETY,
+  SolveResult,
+  createResult,
+  createSolveOptions,
+  createWorkspace,
+  defineProblem,
+  errorNorm,
+  rungeKuttaStep,
+  selectInitialStep,
+  solve,
+  type OdeProblem,
+  type RhsFunction,
+  type SolveOptions,
+  type SolveStatus,
+} from './rungeKutta';
+export { evaluateDenseOutput, prepareDenseOutput } from './denseOutput';
+export {
+  MESSAGE_TERMINAL_EVENT,
+  defineEvent,
+  type EventDirection,
+  type EventFunction,
+  type OdeEvent,
+} from './events';
+export { createRootReport, findRootBrent, type RootReport, type ScalarFunction } from './brent';
