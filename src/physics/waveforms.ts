@@ -52,7 +52,11 @@ export function switchStart_s(source: SourceModel): number {
   return Math.max(start, 0);
 }
 
-/** Time after which every source potential is constant (Infinity for an exponential approach). */
+/**
+ * Time after which every source potential is constant. For an exponential approach that is when
+ * the remaining (final − hold)·e^{−s/τ} falls below half an ulp of the potential: from then on the
+ * double-precision potential is exactly the final one, and the closed form is exact again.
+ */
 export function settleTime_s(source: SourceModel): number {
   const rise = source.rise;
   switch (rise.kind) {
@@ -60,8 +64,16 @@ export function settleTime_s(source: SourceModel): number {
       return source.delay_s;
     case 'linear':
       return source.delay_s + rise.riseTime_s;
-    case 'exponential':
-      return Infinity;
+    case 'exponential': {
+      let longest = 0;
+      for (const p of source.planes) {
+        const jump = Math.abs(p.final_V - p.hold_V);
+        if (jump === 0) continue;
+        const halfUlp = 0.5 * Number.EPSILON * Math.max(Math.abs(p.final_V), Math.abs(p.hold_V), 1);
+        longest = Math.max(longest, Math.log(jump / halfUlp));
+      }
+      return source.delay_s + rise.timeConstant_s * longest;
+    }
     case 'table': {
       let end = source.delay_s;
       for (const table of rise.tables) if (table) end = Math.max(end, table.time_s[table.time_s.length - 1]);
