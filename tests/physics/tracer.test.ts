@@ -131,7 +131,7 @@ describe('non-uniform mirrors', () => {
       const r = traceSingleIon(model, 1000, 5e-3, v);
       expect(r.fate).toBe(Fate.DETECTED);
       const inside = r.t - 0.9 / v;
-      expect(Math.abs(inside / expectedInside - 1)).toBeLessThan(1e-10);
+      expect(Math.abs(inside / expectedInside - 1)).toBeLessThan(1e-9); // integrator rtol 1e-10
       expect(Math.abs(r.v / v - 1)).toBeLessThan(1e-10); // leaves with its entry speed
     }
     const above = traceSingleIon(model, 1000, 5e-3, Math.sqrt((2 * E_C * 13_000) / m));
