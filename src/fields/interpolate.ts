@@ -1,0 +1,290 @@
+/**
+ * Potential and field at any (r, z) from a solved node potential.
+ *
+ * Bicubic cubic-convolution (Catmull-Rom, Keys' a = −½) interpolation of φ over the 4×4 nodes
+ * around the query, with E = −∇φ from the analytic derivative of the same cubic. It reproduces
+ * quadratics exactly, so φ is third-order and E second-order accurate where φ is smooth (Keys,
+ * IEEE Trans. ASSP 29 (1981) 1153, from memory). The interpolant is C¹ across cells.
+ * Edges: across the axis the node at r = −h is the mirror of r = +h (φ is even in r), which
+ * makes E_r(0, z) = 0 exactly; beyond the outer radius and the z ends a ghost node is
+ * extrapolated quadratically, which keeps quadratics exact.
+ * Within about one cell of an electrode surface the stencil reaches into the metal, where φ is
+ * constant, so the field there is only first-order accurate; the potential stays continuous.
+ *
+ * A query that falls inside a solid electrode (its exact rectangle, surface included) or outside
+ * the mesh reports so instead of interpolating. Grid planes are transparent and never reported.
+ */
+import type { FieldMesh } from './mesh';
+import type { UnitFieldSet } from './unitSolutions';
+
+/** Returned for a query in free space. */
+export const SAMPLE_FREE = -1;
+/** Returned for a query beyond the mesh (r > rMax or z outside [zMin, zMax]): the grounded enclosure. */
+export const SAMPLE_OUTSIDE_MESH = -2;
+
+export interface FieldMap {
+  readonly mesh: FieldMesh;
+  readonly potential_V: Float64Array;
+}
+
+/** Caller-owned result of a query; reused across calls so that sampling allocates nothing. */
+export interface FieldSample {
+  potential_V: number;
+  fieldR_V_per_m: number;
+  fieldZ_V_per_m: number;
+}
+
+export function createFieldSample(): FieldSample {
+  return { potential_V: 0, fieldR_V_per_m: 0, fieldZ_V_per_m: 0 };
+}
+
+/** Work space of one query; module-level because sampling is single-threaded (each worker has its own). */
+const cols = new Int32Array(4);
+const rows = new Int32Array(4);
+const wr = new Float64Array(4);
+const dwr = new Float64Array(4);
+const wz = new Float64Array(4);
+const dwz = new Float64Array(4);
+
+/** Catmull-Rom weights and their t-derivatives for nodes −1, 0, 1, 2 at offset t ∈ [0, 1]. */
+function cubicWeights(t: number, w: Float64Array, dw: Float64Array): void {
+  const t2 = t * t;
+  const t3 = t2 * t;
+  w[0] = 0.5 * (-t3 + 2 * t2 - t);
+  w[1] = 0.5 * (3 * t3 - 5 * t2 + 2);
+  w[2] = 0.5 * (-3 * t3 + 4 * t2 + t);
+  w[3] = 0.5 * (t3 - t2);
+  dw[0] = 0.5 * (-3 * t2 + 4 * t - 1);
+  dw[1] = 0.5 * (9 * t2 - 10 * t);
+  dw[2] = 0.5 * (-9 * t2 + 8 * t + 1);
+  dw[3] = 0.5 * (3 * t2 - 2 * t);
+}
+
+/** Fold the ghost node beyond the last node n − 1 into its neighbours: ghost = 3u[n−1] − 3u[n−2] + u[n−3]. */
+function foldUpperGhost(idx: Int32Array, w: Float64Array, dw: Float64Array): void {
+  w[2] += 3 * w[3];
+  w[1] -= 3 * w[3];
+  w[0] += w[3];
+  dw[2] += 3 * dw[3];
+  dw[1] -= 3 * dw[3];
+  dw[0] += dw[3];
+  w[3] = 0;
+  dw[3] = 0;
+  idx[3] = idx[2];
+}
+
+/**
+ * Fold the ghost node below the first node 0: ghost = 3u[0] − 3u[1] + u[2]. The node indices
+ * then run 0, 1, 2 in slots 1, 2, 3 (slot 0 is emptied).
+ */
+function foldLowerGhost(idx: Int32Array, w: Float64Array, dw: Float64Array): void {
+  w[1] += 3 * w[0];
+  w[2] -= 3 * w[0];
+  w[3] += w[0];
+  dw[1] += 3 * dw[0];
+  dw[2] -= 3 * dw[0];
+  dw[3] += dw[0];
+  w[0] = 0;
+  dw[0] = 0;
+  idx[0] = idx[1];
+}
+
+/**
+ * Locate (r ≥ 0, z) in the mesh and fill the stencil (node columns/rows and weights).
+ * Returns SAMPLE_OUTSIDE_MESH, an electrode index, or SAMPLE_FREE.
+ */
+function prepare(mesh: FieldMesh, r: number, z: number): number {
+  const { nr, nz, hr_m, hz_m } = mesh;
+  const x = r / hr_m;
+  const y = (z - mesh.zMin_m) / hz_m;
+  // Written so that NaN also lands outside.
+  if (!(x <= nr - 1 && y >= 0 && y <= nz - 1)) return SAMPLE_OUTSIDE_MESH;
+  let i = Math.floor(x);
+  let j = Math.floor(y);
+  if (i > nr - 2) i = nr - 2;
+  if (j > nz - 2) j = nz - 2;
+
+  const owner = mesh.cellOwner[j * (nr - 1) + i];
+  if (owner !== -1) {
+    const electrodes = mesh.layout.electrodes;
+    if (owner >= 0) {
+      const e = electrodes[owner];
+      if (r >= e.rMin_m && r <= e.rMax_m && z >= e.zMin_m && z <= e.zMax_m) return owner;
+    } else {
+      for (let k = 0; k < electrodes.length; k++) {
+        const e = electrodes[k];
+        if (!e.transparent && r >= e.rMin_m && r <= e.rMax_m && z >= e.zMin_m && z <= e.zMax_m) return k;
+      }
+    }
+  }
+
+  cubicWeights(x - i, wr, dwr);
+  cubicWeights(y - j, wz, dwz);
+  for (let a = 0; a < 4; a++) {
+    cols[a] = i - 1 + a;
+    rows[a] = j - 1 + a;
+  }
+  if (i === 0) {
+    // Mirror: the column at r = −hr equals the column at r = +hr.
+    wr[2] += wr[0];
+    dwr[2] += dwr[0];
+    wr[0] = 0;
+    dwr[0] = 0;
+    cols[0] = 1;
+  }
+  if (i + 2 === nr) foldUpperGhost(cols, wr, dwr);
+  if (j === 0) foldLowerGhost(rows, wz, dwz);
+  if (j + 2 === nz) foldUpperGhost(rows, wz, dwz);
+  return SAMPLE_FREE;
+}
+
+/** Apply the prepared stencil to one node array; adds scale × (φ, ∂φ/∂x, ∂φ/∂y) into the accumulators. */
+let accPhi = 0;
+let accDx = 0;
+let accDy = 0;
+function accumulate(phi: Float64Array, nr: number, scale: number): void {
+  const c0 = cols[0];
+  const c1 = cols[1];
+  const c2 = cols[2];
+  const c3 = cols[3];
+  const w0 = wr[0];
+  const w1 = wr[1];
+  const w2 = wr[2];
+  const w3 = wr[3];
+  const d0 = dwr[0];
+  const d1 = dwr[1];
+  const d2 = dwr[2];
+  const d3 = dwr[3];
+  let p = 0;
+  let dx = 0;
+  let dy = 0;
+  for (let b = 0; b < 4; b++) {
+    const row = rows[b] * nr;
+    const v0 = phi[row + c0];
+    const v1 = phi[row + c1];
+    const v2 = phi[row + c2];
+    const v3 = phi[row + c3];
+    const s = w0 * v0 + w1 * v1 + w2 * v2 + w3 * v3;
+    const ds = d0 * v0 + d1 * v1 + d2 * v2 + d3 * v3;
+    p += wz[b] * s;
+    dy += dwz[b] * s;
+    dx += wz[b] * ds;
+  }
+  accPhi += scale * p;
+  accDx += scale * dx;
+  accDy += scale * dy;
+}
+
+function writeOutside(out: FieldSample): void {
+  out.potential_V = 0;
+  out.fieldR_V_per_m = 0;
+  out.fieldZ_V_per_m = 0;
+}
+
+/**
+ * Potential and field at (r_m, z_m). Returns SAMPLE_FREE and writes φ, E_r, E_z; or the index of
+ * the electrode that contains the point (writes that electrode's potential and zero field); or
+ * SAMPLE_OUTSIDE_MESH (writes zeros). A negative r is read as the mirror point, E_r changing sign.
+ */
+export function sampleField(map: FieldMap, r_m: number, z_m: number, out: FieldSample): number {
+  const mesh = map.mesh;
+  const status = prepare(mesh, r_m < 0 ? -r_m : r_m, z_m);
+  if (status !== SAMPLE_FREE) {
+    if (status === SAMPLE_OUTSIDE_MESH) writeOutside(out);
+    else {
+      out.potential_V = map.potential_V[mesh.electrodeNode[status]];
+      out.fieldR_V_per_m = 0;
+      out.fieldZ_V_per_m = 0;
+    }
+    return status;
+  }
+  // Same arithmetic as accumulate(), written out: this is the tracer's innermost call.
+  const phi = map.potential_V;
+  const nr = mesh.nr;
+  const c0 = cols[0];
+  const c1 = cols[1];
+  const c2 = cols[2];
+  const c3 = cols[3];
+  const w0 = wr[0];
+  const w1 = wr[1];
+  const w2 = wr[2];
+  const w3 = wr[3];
+  const d0 = dwr[0];
+  const d1 = dwr[1];
+  const d2 = dwr[2];
+  const d3 = dwr[3];
+  let p = 0;
+  let dx = 0;
+  let dy = 0;
+  for (let b = 0; b < 4; b++) {
+    const row = rows[b] * nr;
+    const v0 = phi[row + c0];
+    const v1 = phi[row + c1];
+    const v2 = phi[row + c2];
+    const v3 = phi[row + c3];
+    const sr = w0 * v0 + w1 * v1 + w2 * v2 + w3 * v3;
+    p += wz[b] * sr;
+    dy += dwz[b] * sr;
+    dx += wz[b] * (d0 * v0 + d1 * v1 + d2 * v2 + d3 * v3);
+  }
+  out.potential_V = p;
+  out.fieldR_V_per_m = (r_m < 0 ? dx : 0 - dx) / mesh.hr_m; // 0 − x turns −0 into +0
+  out.fieldZ_V_per_m = (0 - dy) / mesh.hz_m;
+  return SAMPLE_FREE;
+}
+
+/**
+ * As sampleField, for the superposition Σ_k V_k φ_k of unit fields with the given drive voltages
+ * (e.g. from driveVoltagesAt for a time-dependent drive). The stencil is computed once per query.
+ */
+export function sampleSuperposed(set: UnitFieldSet, driveVoltages_V: ArrayLike<number>, r_m: number, z_m: number, out: FieldSample): number {
+  const mesh = set.mesh;
+  const basis = set.unitPotentials;
+  const r = Math.abs(r_m);
+  const status = prepare(mesh, r, z_m);
+  if (status === SAMPLE_OUTSIDE_MESH) {
+    writeOutside(out);
+    return status;
+  }
+  if (status >= 0) {
+    const node = mesh.electrodeNode[status];
+    let v = 0;
+    for (let d = 0; d < basis.length; d++) v += driveVoltages_V[d] * basis[d][node];
+    out.potential_V = v;
+    out.fieldR_V_per_m = 0;
+    out.fieldZ_V_per_m = 0;
+    return status;
+  }
+  accPhi = accDx = accDy = 0;
+  for (let d = 0; d < basis.length; d++) {
+    const v = driveVoltages_V[d];
+    if (v !== 0) accumulate(basis[d], mesh.nr, v);
+  }
+  out.potential_V = accPhi;
+  out.fieldR_V_per_m = (r_m < 0 ? accDx : 0 - accDx) / mesh.hr_m; // 0 − x turns −0 into +0
+  out.fieldZ_V_per_m = (0 - accDy) / mesh.hz_m;
+  return SAMPLE_FREE;
+}
+
+/** Index of the solid electrode containing (r_m, z_m), or −1. Grid planes are transparent. */
+export function electrodeAt(mesh: FieldMesh, r_m: number, z_m: number): number {
+  const status = prepare(mesh, Math.abs(r_m), z_m);
+  return status >= 0 ? status : -1;
+}
+
+/**
+ * Cartesian field components at (x, y) from a sample taken at r = √(x² + y²):
+ * writes [E_x, E_y, E_z] into `out` (E_r has no direction on the axis, where it is 0).
+ */
+export function fieldToCartesian(sample: FieldSample, x_m: number, y_m: number, out: Float64Array): Float64Array {
+  const r = Math.hypot(x_m, y_m);
+  if (r > 0) {
+    out[0] = (sample.fieldR_V_per_m * x_m) / r;
+    out[1] = (sample.fieldR_V_per_m * y_m) / r;
+  } else {
+    out[0] = 0;
+    out[1] = 0;
+  }
+  out[2] = sample.fieldZ_V_per_m;
+  return out;
+}
