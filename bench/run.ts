@@ -6,6 +6,7 @@ import { execFileSync } from 'node:child_process';
 import { runB1 } from './b1';
 import { runB2 } from './b2';
 import { benchField } from './fieldBench';
+import { runTuningBench } from './tuning';
 
 function numpyComparison(): Record<string, number> {
   // Side-by-side figure for B1; skipped quietly where python3 with numpy is not installed.
@@ -18,6 +19,6 @@ function numpyComparison(): Record<string, number> {
 }
 
 const json = process.argv.includes('--json');
-const figures: Record<string, number | string> = { ...runB1(), ...numpyComparison(), ...runB2(), ...benchField() };
+const figures: Record<string, number | string> = { ...runB1(), ...numpyComparison(), ...runB2(), ...benchField(), ...(await runTuningBench()) };
 if (json) process.stdout.write(JSON.stringify(figures) + '\n');
 else for (const [key, value] of Object.entries(figures)) process.stdout.write(`${key.padEnd(28)} ${value}\n`);

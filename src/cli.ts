@@ -8,6 +8,8 @@ import { parsePresetText } from './presets/load';
 import { LIMITS } from './presets/schema';
 import { simulate } from './simulation/run';
 import { formatCsv, formatTable } from './simulation/format';
+import { isTuningCommand, runTuningCommand, type TuningCliOptions } from './cli/tuningCommand';
+import { TUNING_USAGE } from './cli/tuningArgs';
 import type { SpectrumSection } from './simulation/analysisReport';
 
 export const USAGE = `Usage: npm run sim -- <preset.json> [--json | --csv] [--ions N] [--seed S]
@@ -18,7 +20,9 @@ export const USAGE = `Usage: npm run sim -- <preset.json> [--json | --csv] [--io
   --ions N        override the preset's ion count (${LIMITS.ions.min}..${LIMITS.ions.max})
   --seed S        override the preset's random seed (${LIMITS.seed.min}..${LIMITS.seed.max})
   --spectrum      with --json: add the simulated spectrum (time_ns, intensity, mz arrays; needs "acquisition")
-  --help          show this text`;
+  --help          show this text
+
+${TUNING_USAGE}`;
 
 export interface CliArgs {
   presetPath: string;
@@ -71,6 +75,9 @@ export interface CliIo {
   out(text: string): void;
   err(text: string): void;
   readFile(path: string): string;
+  /** Used by --write (scan/tune/merge); default node:fs, never replacing a file unless `overwrite`. */
+  writeFile?(path: string, text: string, overwrite: boolean): void;
+  fileExists?(path: string): boolean;
 }
 
 const processIo: CliIo = {
@@ -84,7 +91,9 @@ function spectrumJson(s: SpectrumSection | null) {
   return { sampleInterval_ns: s.sampleInterval_ns, time_ns: Array.from(s.time_ns), intensity: Array.from(s.intensity), mz: s.mz ? Array.from(s.mz) : null };
 }
 
-export function main(argv: readonly string[], io: CliIo = processIo): number {
+/** Plain runs return their exit code at once; scans, tunes and merges (worker pool) return a promise of it. */
+export function main(argv: readonly string[], io: CliIo = processIo, options: TuningCliOptions = {}): number | Promise<number> {
+  if (isTuningCommand(argv)) return runTuningCommand(argv, io, options);
   const parsed = parseArgs(argv);
   if (!parsed.ok) {
     if (parsed.help) {

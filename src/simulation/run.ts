@@ -19,6 +19,11 @@ export interface RunOptions {
   readonly seed?: number;
   /** Also return the whole simulated spectrum (needs the preset's acquisition settings). */
   readonly withSpectrum?: boolean;
+  /**
+   * Build the measurement sections (simulated spectrum, peaks, calibration, focus); default true.
+   * Scans, tunes and quick previews that read only the ion statistics turn it off.
+   */
+  readonly analysis?: boolean;
 }
 
 export interface SimulationResult {
@@ -43,14 +48,21 @@ export function simulate(preset: Preset, options: RunOptions = {}): SimulationRe
   else traceExact(compiled.model, ensemble, trace);
   applyDetectorPlane(compiled.model, ensemble, trace);
   const report = buildReport(ensemble, trace);
-  const analysis = buildAnalysisSections(
-    preset,
-    compiled.model,
-    population,
-    ensemble,
-    trace,
-    report.species.map((s) => (s.flightTime_ns === null ? null : s.flightTime_ns * 1e-9)),
-    { withSpectrum: options.withSpectrum },
-  );
+  const analysis =
+    options.analysis === false
+      ? noAnalysis(ensemble)
+      : buildAnalysisSections(
+          preset,
+          compiled.model,
+          population,
+          ensemble,
+          trace,
+          report.species.map((s) => (s.flightTime_ns === null ? null : s.flightTime_ns * 1e-9)),
+          { withSpectrum: options.withSpectrum },
+        );
   return { compiled: { ...compiled, population }, ensemble, trace, report: attachAnalysis(report, analysis), analysis };
+}
+
+function noAnalysis(ensemble: Ensemble): AnalysisSections {
+  return { speciesPeaks: ensemble.species.map(() => null), calibration: null, focus: null, spectrum: null };
 }

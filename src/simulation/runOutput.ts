@@ -4,7 +4,7 @@ import { simulate } from './run';
 
 export function runRequest(request: RunRequest, now: () => number = () => performance.now()): RunOutput {
   const start = now();
-  const result = simulate(request.preset, { ions: request.ions, seed: request.seed });
+  const result = simulate(request.preset, { ions: request.ions, seed: request.seed, analysis: request.analysis });
   return {
     report: result.report,
     flightTime_s: result.trace.flightTime_s,

@@ -11,8 +11,8 @@ export interface RunRequest {
   /** Override of the preset's ion count (e.g. a light rerun while a slider is dragged). */
   readonly ions?: number;
   readonly seed?: number;
-  /** Number of ions per species whose start conditions and fates are returned for drawing. */
-  readonly sampleTrajectories?: number;
+  /** Build the spectrum, peak, calibration and focus sections (default true); off for quick previews. */
+  readonly analysis?: boolean;
 }
 
 export interface RunOutput {
@@ -52,6 +52,8 @@ export interface ScanRequest {
   readonly axes: readonly ScanAxis[];
   readonly objective?: Objective;
   readonly ions?: number;
+  /** Override of the preset's seed; every point uses the same seed (common random numbers). */
+  readonly seed?: number;
   /** Deterministic share of the points: shard i of n (0-based i). */
   readonly shard?: { readonly index: number; readonly count: number };
 }
@@ -62,6 +64,11 @@ export interface ScanSpeciesPoint {
   readonly fwhm_ns: number | null;
   readonly resolvingPower: number | null;
   readonly transmission: number;
+  readonly label?: string;
+  /** Arrival-time standard deviation and the binning-free width (shortest 76 % interval). */
+  readonly sdFlightTime_ns?: number | null;
+  readonly fwhmShortest_ns?: number | null;
+  readonly resolvingPowerShortest?: number | null;
 }
 
 export interface ScanPoint {
@@ -76,6 +83,11 @@ export interface ScanResult {
   readonly axes: readonly ScanAxis[];
   readonly totalPoints: number;
   readonly points: readonly ScanPoint[];
+  /** Ions per point and the seed every point used. */
+  readonly ions?: number;
+  readonly seed?: number;
+  readonly objective?: Objective | null;
+  readonly shard?: { readonly index: number; readonly count: number } | null;
 }
 
 export interface TuneParameter {
@@ -84,13 +96,33 @@ export interface TuneParameter {
   readonly max: number;
 }
 
+/**
+ * Peak width the optimiser works on. The reported objective always uses the histogram FWHM, but that
+ * is a step function of the parameters at finite ion counts; these are smooth (with common random
+ * numbers): 'sd' = 2·sqrt(2 ln 2)·standard deviation (the FWHM of a gaussian of that spread),
+ * 'shortest' = the shortest interval holding 76.1 % of the ions, 'fwhm' = the histogram FWHM itself.
+ */
+export type WidthMeasure = 'sd' | 'shortest' | 'fwhm';
+
 export interface TuneRequest {
   readonly preset: Preset;
   readonly parameters: readonly TuneParameter[];
   readonly objective: Objective;
-  /** Optional constraint: minimum transmission (0..1) of the objective's species. */
+  /**
+   * Optional constraint: minimum transmission (0..1) of the objective's species. When omitted, 99 % of
+   * their transmission at the preset's current settings (so a tune cannot narrow a peak by losing ions).
+   */
   readonly minTransmission?: number;
   readonly ions?: number;
+  readonly seed?: number;
+  /** Width the optimiser minimises (default 'sd'). */
+  readonly measure?: WidthMeasure;
+  /** Independent optimiser starts besides the analytic one (default 3); results do not depend on the pool size. */
+  readonly restarts?: number;
+  /** Evaluation budget of each local search (default 60 per parameter, at least 40). */
+  readonly maxEvaluations?: number;
+  /** Start from the published focusing conditions where they apply (default true); false starts from the preset's values. */
+  readonly useAnalyticStart?: boolean;
 }
 
 export interface TuneResult {
@@ -102,6 +134,18 @@ export interface TuneResult {
   readonly evaluations: number;
   /** The preset with the tuned values applied (validated). */
   readonly tunedPreset: Preset;
+  /** Objective at the start point, and where the start came from (e.g. the published focus condition used). */
+  readonly startObjective?: number | null;
+  readonly startSource?: readonly string[];
+  readonly measure?: WidthMeasure;
+  /** The objective by `measure` (what the optimiser worked on), at the start and at the optimum; null where infeasible. */
+  readonly smoothObjective?: { readonly start: number | null; readonly best: number | null };
+  /** False when no evaluated setting met the constraints (the values shown then only reduce the violation). */
+  readonly feasible?: boolean;
+  /** Transmission constraint the tune respected (given, or the default). */
+  readonly minTransmission?: number;
+  /** Per-species figures at the optimum. */
+  readonly species?: readonly ScanSpeciesPoint[];
 }
 
 export interface Progress {

@@ -1,0 +1,194 @@
+/**
+ * The spectrum: counts per bin against flight time (µs) or m/z (Th), one stepped series per species
+ * in its m/z colour (or one total when there are many species). Binning happens here in pure
+ * functions on the per-ion values the worker returned; zooming rebins the visible range, so a
+ * zoomed peak shows its real shape rather than a few wide bins.
+ */
+import uPlot from 'uplot';
+import { Fate } from '../../physics/fates';
+import { accumulate, binCentres, binsForWidth, detectedExtent, paddedRange, type BinRange } from './binning';
+import { axis, chartPng, chartSize, fitChart, followSize, withAlpha } from './theme';
+
+export type SpectrumAxis = 'time' | 'mz';
+
+export interface SpectrumPeak {
+  /** Centre and FWHM in µs and in Th (null when unknown). */
+  readonly time_us: number | null;
+  readonly fwhm_us: number | null;
+  readonly mz: number | null;
+  readonly fwhm_mz: number | null;
+}
+
+export interface SpectrumRun {
+  /** Per-ion arrival time in µs, and m/z from the run's calibration (NaN where there is none). */
+  readonly time_us: Float64Array;
+  readonly mz: Float64Array;
+  readonly fate: Uint8Array;
+  readonly speciesStart: Int32Array;
+  readonly labels: readonly string[];
+  readonly colours: readonly string[];
+  readonly peaks: readonly SpectrumPeak[];
+}
+
+/** Species drawn as separate series up to this count; above it, one total series. */
+const MAX_SERIES = 12;
+
+export class SpectrumChart {
+  private chart: uPlot | null = null;
+  private run: SpectrumRun | null = null;
+  private axisKind: SpectrumAxis = 'time';
+  private fullRange: BinRange | null = null;
+  private range: BinRange | null = null;
+  private rebinning = false;
+  private readonly observer: ResizeObserver;
+  /** Called after every redraw with new data (for the latency figure). */
+  onDrawn: () => void = () => {};
+
+  constructor(private readonly host: HTMLElement) {
+    this.observer = followSize(host, () => this.chart);
+    host.addEventListener('dblclick', () => this.showAll());
+  }
+
+  get axis(): SpectrumAxis {
+    return this.axisKind;
+  }
+
+  setRun(run: SpectrumRun): void {
+    const sameSeries = this.run !== null && this.seriesCount(this.run) === this.seriesCount(run) && this.run.labels.join('\n') === run.labels.join('\n');
+    this.run = run;
+    const keepZoom = sameSeries && this.range !== null && this.fullRange !== null && this.range !== this.fullRange;
+    this.fullRange = this.computeFullRange();
+    if (!keepZoom) this.range = this.fullRange;
+    if (!sameSeries || !this.chart) this.rebuild();
+    this.draw();
+  }
+
+  setAxis(kind: SpectrumAxis): void {
+    if (kind === this.axisKind) return;
+    this.axisKind = kind;
+    this.fullRange = this.computeFullRange();
+    this.range = this.fullRange;
+    this.rebuild();
+    this.draw();
+  }
+
+  /** Zoom onto one species' peak (±6 FWHM, at least ±0.2 % of its position), or back to everything. */
+  zoomToSpecies(index: number | null): void {
+    if (!this.run) return;
+    if (index === null) return this.showAll();
+    const peak = this.run.peaks[index];
+    const centre = this.axisKind === 'time' ? peak?.time_us : peak?.mz;
+    const width = this.axisKind === 'time' ? peak?.fwhm_us : peak?.fwhm_mz;
+    if (centre === null || centre === undefined) return;
+    const half = Math.max(6 * (width ?? 0), 0.002 * Math.abs(centre));
+    this.range = { lo: centre - half, hi: centre + half, bins: Math.min(400, this.bins()) };
+    this.draw();
+  }
+
+  showAll(): void {
+    this.range = this.fullRange;
+    this.draw();
+  }
+
+  /** The currently shown x range (µs or Th). */
+  get visibleRange(): readonly [number, number] | null {
+    return this.range ? [this.range.lo, this.range.hi] : null;
+  }
+
+  toPng(): Promise<Blob | null> {
+    return chartPng(this.chart);
+  }
+
+  private seriesCount(run: SpectrumRun): number {
+    return run.labels.length > MAX_SERIES ? 1 : run.labels.length;
+  }
+
+  private bins(): number {
+    return binsForWidth(this.host.clientWidth || 600);
+  }
+
+  private values(): Float64Array | null {
+    if (!this.run) return null;
+    return this.axisKind === 'time' ? this.run.time_us : this.run.mz;
+  }
+
+  private computeFullRange(): BinRange | null {
+    const values = this.values();
+    if (!values || !this.run) return null;
+    const extent = detectedExtent(values, this.run.fate, Fate.DETECTED);
+    return extent ? paddedRange(extent, this.bins()) : null;
+  }
+
+  private rebuild(): void {
+    this.chart?.destroy();
+    this.chart = null;
+    const run = this.run;
+    if (!run) return;
+    const many = run.labels.length > MAX_SERIES;
+    const series: uPlot.Series[] = [{ label: this.axisKind === 'time' ? 'µs' : 'Th' }];
+    const stepped = uPlot.paths.stepped!({ align: 1 });
+    const list = many ? [{ label: 'all species', colour: '#8fd0ff' }] : run.labels.map((label, i) => ({ label, colour: run.colours[i] }));
+    for (const s of list) series.push({ label: s.label, stroke: s.colour, fill: withAlpha(s.colour, 0.16), width: 1.25, paths: stepped, points: { show: false } });
+    const opts: uPlot.Options = {
+      ...chartSize(this.host),
+      scales: { x: { time: false }, y: { range: (_u, _min, max) => [0, Math.max(1, max) * 1.08] } },
+      axes: [axis(this.axisKind === 'time' ? 'flight time (µs)' : 'm/z (Th)'), axis('ions per bin', { size: 52 })],
+      series,
+      cursor: { drag: { x: true, y: false, setScale: true }, bind: { dblclick: () => null } },
+      legend: { live: false },
+      hooks: {
+        setScale: [
+          (u, key) => {
+            if (key !== 'x' || this.rebinning || !this.range) return;
+            const min = u.scales.x.min;
+            const max = u.scales.x.max;
+            if (min === undefined || max === undefined || min === null || max === null) return;
+            if (Math.abs(min - this.range.lo) < 1e-12 * Math.abs(max) && Math.abs(max - this.range.hi) < 1e-12 * Math.abs(max)) return;
+            this.range = { lo: min, hi: max, bins: Math.min(600, this.bins()) };
+            queueMicrotask(() => this.draw());
+          },
+        ],
+        draw: [() => this.onDrawn()],
+      },
+    };
+    this.chart = new uPlot(opts, [[]], this.host);
+    fitChart(this.host, this.chart);
+  }
+
+  private draw(): void {
+    const run = this.run;
+    const chart = this.chart;
+    const values = this.values();
+    if (!run || !chart || !values) return;
+    const range = this.range;
+    if (!range) {
+      chart.setData([[], ...run.labels.slice(0, this.seriesCount(run)).map(() => [])]);
+      return;
+    }
+    const x = binCentres(range, new Float64Array(range.bins));
+    const many = run.labels.length > MAX_SERIES;
+    const data: uPlot.AlignedData = [x];
+    if (many) {
+      data.push(accumulate(values, run.fate, Fate.DETECTED, 0, values.length, range, new Float64Array(range.bins)));
+    } else {
+      for (let s = 0; s < run.labels.length; s++) {
+        data.push(accumulate(values, run.fate, Fate.DETECTED, run.speciesStart[s], run.speciesStart[s + 1], range, new Float64Array(range.bins)));
+      }
+    }
+    this.rebinning = true;
+    try {
+      chart.batch(() => {
+        chart.setData(data, false);
+        chart.setScale('x', { min: range.lo, max: range.hi });
+      });
+    } finally {
+      this.rebinning = false;
+    }
+  }
+
+  dispose(): void {
+    this.observer.disconnect();
+    this.chart?.destroy();
+    this.chart = null;
+  }
+}

@@ -1,0 +1,102 @@
+/**
+ * Compare mode without the DOM: the "same source, other mode" setup, the species matched between
+ * two runs and the differences of their key results, and summary figures of one run.
+ */
+import type { Preset } from '../../presets/schema';
+import type { RunReport, SpeciesReport } from '../../simulation/report';
+
+/** Same source, ions and run; linear ↔ reflectron. A linear setup gets the given mirror and drift; a reflectron one flies the same total path straight. */
+export function otherMode(preset: Preset, reflectronTemplate: Preset): Preset {
+  const next = structuredClone(preset);
+  if (preset.mirror.type === 'none') {
+    next.mirror = structuredClone(reflectronTemplate.mirror);
+    next.drift = { ...next.drift, length_mm: reflectronTemplate.drift.length_mm };
+    next.name = `${preset.name} — reflectron`.slice(0, 120);
+  } else {
+    next.mirror = { type: 'none' };
+    next.drift = { ...next.drift, length_mm: preset.drift.length_mm + preset.mirror.returnLength_mm };
+    next.name = `${preset.name} — linear`.slice(0, 120);
+  }
+  return next;
+}
+
+export interface SpeciesDiff {
+  readonly label: string;
+  readonly mz: number;
+  readonly a: SpeciesReport | null;
+  readonly b: SpeciesReport | null;
+  readonly flightTimeA_us: number | null;
+  readonly flightTimeB_us: number | null;
+  readonly resolvingPowerRatio: number | null;
+  readonly fwhmDifference_ns: number | null;
+  readonly transmissionDifference: number | null;
+}
+
+const sameMz = (x: number, y: number): boolean => Math.abs(x - y) <= 1e-6 * Math.max(x, y);
+
+/** One row per species of A, then the species only B has; matched by m/z and charge. */
+export function diffSpecies(a: RunReport, b: RunReport): SpeciesDiff[] {
+  const used = new Set<number>();
+  const rows: SpeciesDiff[] = [];
+  const row = (sa: SpeciesReport | null, sb: SpeciesReport | null): SpeciesDiff => {
+    const any = (sa ?? sb)!;
+    const ta = sa?.flightTime_ns ?? null;
+    const tb = sb?.flightTime_ns ?? null;
+    const ra = sa?.resolvingPower ?? null;
+    const rb = sb?.resolvingPower ?? null;
+    const wa = sa?.fwhm_ns ?? null;
+    const wb = sb?.fwhm_ns ?? null;
+    return {
+      label: any.label,
+      mz: any.mz,
+      a: sa,
+      b: sb,
+      flightTimeA_us: ta === null ? null : ta / 1000,
+      flightTimeB_us: tb === null ? null : tb / 1000,
+      resolvingPowerRatio: ra !== null && rb !== null && ra > 0 ? rb / ra : null,
+      fwhmDifference_ns: wa !== null && wb !== null ? wb - wa : null,
+      transmissionDifference: sa && sb ? sb.transmission - sa.transmission : null,
+    };
+  };
+  for (const sa of a.species) {
+    const j = b.species.findIndex((sb, k) => !used.has(k) && sb.charge === sa.charge && sameMz(sb.mz, sa.mz));
+    if (j >= 0) used.add(j);
+    rows.push(row(sa, j >= 0 ? b.species[j] : null));
+  }
+  b.species.forEach((sb, k) => {
+    if (!used.has(k)) rows.push(row(null, sb));
+  });
+  return rows;
+}
+
+export interface RunFigures {
+  readonly detectedFraction: number;
+  readonly bestR: number | null;
+  readonly worstR: number | null;
+  readonly firstArrival_us: number | null;
+  readonly lastArrival_us: number | null;
+}
+
+export function runFigures(report: RunReport): RunFigures {
+  const rs = report.species.map((s) => s.resolvingPower).filter((r): r is number => r !== null);
+  const ts = report.species.map((s) => s.flightTime_ns).filter((t): t is number => t !== null);
+  return {
+    detectedFraction: report.ions > 0 ? report.detected / report.ions : 0,
+    bestR: rs.length ? Math.max(...rs) : null,
+    worstR: rs.length ? Math.min(...rs) : null,
+    firstArrival_us: ts.length ? Math.min(...ts) / 1000 : null,
+    lastArrival_us: ts.length ? Math.max(...ts) / 1000 : null,
+  };
+}
+
+/** A short description of the analyser of a setup. */
+export function describeSetup(preset: Preset): string {
+  const source = preset.source.extractionGrid ? 'two-stage source' : 'single-stage source';
+  const timing = preset.source.extraction.mode === 'delayed' ? `delay ${preset.source.extraction.delay_ns} ns` : 'static extraction';
+  const m = preset.mirror;
+  const flight =
+    m.type === 'none'
+      ? `linear, drift ${preset.drift.length_mm} mm`
+      : `${m.type === 'single' ? 'single' : 'dual'}-stage reflectron, ${preset.drift.length_mm} + ${m.returnLength_mm} mm`;
+  return `${source}, ${timing}; ${flight}`;
+}

@@ -1,0 +1,173 @@
+/**
+ * Compare mode: the working setup (A) and a second one (B) run side by side; the two spectra are
+ * overlaid on a common m/z axis (each normalised), with a table of the differences B − A.
+ */
+import uPlot from 'uplot';
+import { Fate } from '../../physics/fates';
+import type { Preset } from '../../presets/schema';
+import type { RunOutput } from '../../tuning/api';
+import type { AppContext } from '../appContext';
+import { accumulate, binCentres, binsForWidth, detectedExtent, paddedRange } from '../charts/binning';
+import { axis, chartSize, fitChart, followSize, withAlpha } from '../charts/theme';
+import { byId, el } from '../dom';
+import { fixed, formatR, percent, signed } from '../format';
+import { demo, demos } from '../presets/demos';
+import { buildRunView } from '../results/runView';
+import { speciesColours } from '../colors';
+import { describeSetup, diffSpecies, otherMode, runFigures } from './compareModel';
+
+const COLOUR_A = '#4cc3b2';
+const COLOUR_B = '#e9a03b';
+/** Ions per setup in a comparison (both setups use the same number and seed). */
+const COMPARE_IONS = 20_000;
+
+export class CompareView {
+  private readonly select = byId<HTMLSelectElement>('compare-source');
+  private readonly status = byId('compare-status');
+  private readonly chartHost = byId('compare-chart');
+  private chart: uPlot | null = null;
+  private snapshot: Preset | null = null;
+  private generation = 0;
+
+  constructor(private readonly app: AppContext) {
+    followSize(this.chartHost, () => this.chart);
+    byId('btn-compare-run').addEventListener('click', () => void this.compare());
+    this.select.addEventListener('change', () => {
+      if (this.select.value === 'snapshot') this.snapshot = structuredClone(this.app.working());
+    });
+  }
+
+  /** Refill the choice of setup B (call when the working setup or the saved presets change). */
+  async refreshChoices(): Promise<void> {
+    const working = this.app.working();
+    const keep = this.select.value;
+    const options: HTMLOptionElement[] = [
+      el('option', { value: 'other-mode', text: working.mirror.type === 'none' ? 'This setup in reflectron mode (dual-stage mirror)' : 'This setup in linear mode (same total path)' }),
+      el('option', { value: 'snapshot', text: 'This setup as it is now (frozen, to compare later edits)' }),
+      ...demos().map((d) => el('option', { value: `demo:${d.id}`, text: `Demo: ${d.preset.name.replace(/^Demo: /, '')}` })),
+    ];
+    if (this.app.store) {
+      const listing = await this.app.store.list();
+      for (const r of listing.records) options.push(el('option', { value: `record:${r.id}`, text: `Saved: ${r.name}` }));
+    }
+    this.select.replaceChildren(...options);
+    if (options.some((o) => o.value === keep)) this.select.value = keep;
+  }
+
+  private async setupB(): Promise<Preset | null> {
+    const choice = this.select.value || 'other-mode';
+    const working = this.app.working();
+    if (choice === 'other-mode') return otherMode(working, demo('dual'));
+    if (choice === 'snapshot') return this.snapshot ?? (this.snapshot = structuredClone(working));
+    if (choice.startsWith('demo:')) return demo(choice.slice(5) as 'linear' | 'single' | 'dual');
+    if (choice.startsWith('record:') && this.app.store) return (await this.app.store.get(choice.slice(7)))?.preset ?? null;
+    return null;
+  }
+
+  async compare(): Promise<void> {
+    const generation = ++this.generation;
+    const a = structuredClone(this.app.working());
+    const b = await this.setupB();
+    if (!b) {
+      this.status.textContent = 'Setup B could not be read.';
+      return;
+    }
+    this.status.textContent = 'Running both setups…';
+    document.body.dataset.compare = 'running';
+    try {
+      const ions = Math.min(COMPARE_IONS, a.run.ions);
+      const runA = await this.app.engine.run({ preset: a, ions, seed: a.run.seed });
+      const runB = await this.app.engine.run({ preset: b, ions, seed: a.run.seed });
+      if (generation !== this.generation) return;
+      this.render(a, runA, b, runB);
+      this.status.textContent = `${ions.toLocaleString('en')} ions each, same seed.`;
+      document.body.dataset.compare = 'done';
+    } catch (err) {
+      if (generation !== this.generation) return;
+      this.status.textContent = `Comparison failed: ${(err as Error).message}`;
+      document.body.dataset.compare = 'error';
+    }
+  }
+
+  private render(a: Preset, runA: RunOutput, b: Preset, runB: RunOutput): void {
+    byId('compare-a').replaceChildren(...this.card('A', COLOUR_A, a, runA));
+    byId('compare-b').replaceChildren(...this.card('B', COLOUR_B, b, runB));
+    const rows = diffSpecies(runA.report, runB.report);
+    const body = (byId('compare-diff') as HTMLTableElement).tBodies[0];
+    const cls = (x: number | null, goodWhenPositive: boolean): string => (x === null || x === 0 ? '' : x > 0 === goodWhenPositive ? 'better' : 'worse');
+    body.replaceChildren(
+      ...rows.map((r) =>
+        el(
+          'tr',
+          {},
+          el('th', { scope: 'row', text: r.label }),
+          el('td', { text: fixed(r.flightTimeA_us, 3) }),
+          el('td', { text: fixed(r.flightTimeB_us, 3) }),
+          el('td', { text: formatR(r.a?.resolvingPower) }),
+          el('td', { text: formatR(r.b?.resolvingPower) }),
+          el('td', { text: r.resolvingPowerRatio === null ? '—' : `${r.resolvingPowerRatio.toFixed(2)}×`, className: cls(r.resolvingPowerRatio === null ? null : r.resolvingPowerRatio - 1, true) }),
+          el('td', { text: signed(r.fwhmDifference_ns, 2), className: cls(r.fwhmDifference_ns, false) }),
+          el('td', { text: r.transmissionDifference === null ? '—' : signed(r.transmissionDifference * 100, 1) + ' %', className: cls(r.transmissionDifference, true) }),
+        ),
+      ),
+    );
+    this.drawOverlay(runA, runB);
+  }
+
+  private card(tag: 'A' | 'B', colour: string, preset: Preset, run: RunOutput): Node[] {
+    const f = runFigures(run.report);
+    const dl = el(
+      'dl',
+      {},
+      el('dt', { text: 'analyser' }),
+      el('dd', { text: describeSetup(preset) }),
+      el('dt', { text: 'detected' }),
+      el('dd', { text: percent(f.detectedFraction) }),
+      el('dt', { text: 'R (FWHM), best / worst' }),
+      el('dd', { text: `${formatR(f.bestR)} / ${formatR(f.worstR)}` }),
+      el('dt', { text: 'arrivals' }),
+      el('dd', { text: `${fixed(f.firstArrival_us, 3)} – ${fixed(f.lastArrival_us, 3)} µs` }),
+    );
+    const head = el('div', { className: 'card-head' }, el('h2', {}, el('span', { className: `setup-tag tag-${tag.toLowerCase()}`, text: tag }), preset.name));
+    void colour;
+    return [head, dl];
+  }
+
+  private drawOverlay(runA: RunOutput, runB: RunOutput): void {
+    const viewA = buildRunView(runA, speciesColours(runA.report.species.map((s) => s.mz)));
+    const viewB = buildRunView(runB, speciesColours(runB.report.species.map((s) => s.mz)));
+    const ea = detectedExtent(viewA.spectrum.mz, runA.fate, Fate.DETECTED);
+    const eb = detectedExtent(viewB.spectrum.mz, runB.fate, Fate.DETECTED);
+    const extent: [number, number] | null = ea && eb ? [Math.min(ea[0], eb[0]), Math.max(ea[1], eb[1])] : (ea ?? eb);
+    if (!extent) return;
+    const range = paddedRange(extent, binsForWidth(this.chartHost.clientWidth || 600));
+    const x = binCentres(range, new Float64Array(range.bins));
+    const count = (values: Float64Array, fate: Uint8Array): Float64Array => {
+      const c = accumulate(values, fate, Fate.DETECTED, 0, values.length, range, new Float64Array(range.bins));
+      let max = 0;
+      for (const v of c) max = Math.max(max, v);
+      if (max > 0) for (let i = 0; i < c.length; i++) c[i] /= max;
+      return c;
+    };
+    const data: uPlot.AlignedData = [x, count(viewA.spectrum.mz, runA.fate), count(viewB.spectrum.mz, runB.fate)];
+    this.chart?.destroy();
+    const stepped = uPlot.paths.stepped!({ align: 1 });
+    this.chart = new uPlot(
+      {
+        ...chartSize(this.chartHost),
+        scales: { x: { time: false }, y: { range: [0, 1.08] } },
+        axes: [axis('m/z (Th)'), axis('relative intensity', { size: 46 })],
+        series: [
+          { label: 'Th' },
+          { label: 'A', stroke: COLOUR_A, fill: withAlpha(COLOUR_A, 0.15), paths: stepped, points: { show: false } },
+          { label: 'B', stroke: COLOUR_B, fill: withAlpha(COLOUR_B, 0.15), paths: stepped, points: { show: false } },
+        ],
+        cursor: { drag: { x: true, y: false } },
+        legend: { live: false },
+      },
+      data,
+      this.chartHost,
+    );
+    fitChart(this.chartHost, this.chart);
+  }
+}

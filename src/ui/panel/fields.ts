@@ -1,0 +1,574 @@
+/**
+ * What the parameter panel edits: one descriptor per control, grouped by physical part, each tied
+ * to the preset path it changes. Units sit in every label; hard limits come from the preset
+ * schema's LIMITS; the slider window is only a convenient span inside them (typed values may go
+ * beyond it and are then validated like anything else). No DOM here, so it is testable in Node.
+ */
+import { LIMITS } from '../../presets/schema';
+import { deleteAt, getAt, setAt } from './presetPath';
+
+export type GroupId = 'source' | 'timing' | 'drift' | 'mirror' | 'detector' | 'ions' | 'run';
+
+export const GROUPS: readonly { readonly id: GroupId; readonly title: string }[] = [
+  { id: 'source', title: 'Source' },
+  { id: 'timing', title: 'Timing' },
+  { id: 'drift', title: 'Drift' },
+  { id: 'mirror', title: 'Mirror' },
+  { id: 'detector', title: 'Detector and acquisition' },
+  { id: 'ions', title: 'Ions' },
+  { id: 'run', title: 'Run' },
+];
+
+export type FieldValue = number | string | boolean;
+
+/** Sub-objects set aside when a mode is switched off, so switching back restores them. */
+export type ModeMemory = Map<string, unknown>;
+
+interface FieldBase {
+  /** Unique id; also the property name of the panel's bound object. */
+  readonly key: string;
+  readonly group: GroupId;
+  readonly label: string;
+  /** The preset path this control edits (where validation issues for it are reported). */
+  readonly path: string;
+  readonly visible?: (doc: unknown) => boolean;
+}
+
+export interface NumberField extends FieldBase {
+  readonly kind: 'number';
+  readonly limits: { readonly min: number; readonly max: number };
+  readonly step: number;
+  /** Slider span, inside the limits; absent for values better typed (m/z, seed, ion count). */
+  readonly window?: readonly [number, number];
+  readonly get: (doc: unknown) => number;
+  readonly set: (doc: unknown, value: number) => void;
+}
+
+export interface ChoiceField extends FieldBase {
+  readonly kind: 'select';
+  /** Shown label → stored value. */
+  readonly options: Readonly<Record<string, string>>;
+  readonly get: (doc: unknown) => string;
+  readonly set: (doc: unknown, value: string, memory: ModeMemory) => void;
+}
+
+export interface SwitchField extends FieldBase {
+  readonly kind: 'boolean';
+  readonly get: (doc: unknown) => boolean;
+  readonly set: (doc: unknown, value: boolean, memory: ModeMemory) => void;
+}
+
+export interface TextField extends FieldBase {
+  readonly kind: 'text';
+  readonly get: (doc: unknown) => string;
+  readonly set: (doc: unknown, value: string) => void;
+}
+
+export type FieldSpec = NumberField | ChoiceField | SwitchField | TextField;
+
+const num = (doc: unknown, path: string, fallback = 0): number => {
+  const v = getAt(doc, path);
+  return typeof v === 'number' ? v : fallback;
+};
+const str = (doc: unknown, path: string): string => String(getAt(doc, path) ?? '');
+const has = (doc: unknown, path: string): boolean => getAt(doc, path) !== undefined;
+const is = (path: string, value: string) => (doc: unknown) => getAt(doc, path) === value;
+const round = (x: number, step: number): number => Math.round(x / step) * step;
+
+/** A plain number at a path. */
+function numberAt(
+  key: string,
+  group: GroupId,
+  label: string,
+  path: string,
+  limits: { min: number; max: number },
+  step: number,
+  window?: readonly [number, number],
+  visible?: (doc: unknown) => boolean,
+  fallback?: (doc: unknown) => number,
+): NumberField {
+  return {
+    kind: 'number',
+    key,
+    group,
+    label,
+    path,
+    limits,
+    step,
+    window: window ? [Math.max(window[0], limits.min), Math.min(window[1], limits.max)] : undefined,
+    visible,
+    get: (doc) => num(doc, path, fallback ? fallback(doc) : 0),
+    set: (doc, value) => setAt(doc, path, value),
+  };
+}
+
+/** Switch a sub-object between modes, keeping the one switched away from. */
+function swapMode(doc: unknown, memory: ModeMemory, path: string, memoryPrefix: string, fromMode: string, next: unknown): void {
+  const current = getAt(doc, path);
+  if (current !== undefined) memory.set(`${memoryPrefix}:${fromMode}`, current);
+  if (next === undefined) deleteAt(doc, path);
+  else setAt(doc, path, next);
+}
+
+function recall(memory: ModeMemory, key: string, fallback: () => unknown): unknown {
+  return memory.has(key) ? JSON.parse(JSON.stringify(memory.get(key))) : fallback();
+}
+
+const repeller = (doc: unknown): number => num(doc, 'source.repeller.potential_V', 20_000);
+const polaritySign = (doc: unknown): number => (getAt(doc, 'polarity') === 'negative' ? -1 : 1);
+const firstGap = (doc: unknown): number =>
+  has(doc, 'source.extractionGrid') ? num(doc, 'source.extractionGrid.gap_mm', 3) : num(doc, 'source.groundGrid.gap_mm', 10);
+
+const POTENTIAL_WINDOW: readonly [number, number] = [-30_000, 30_000];
+const twoStage = (doc: unknown): boolean => has(doc, 'source.extractionGrid');
+const delayed = is('source.extraction.mode', 'delayed');
+const mirrorOn = (doc: unknown): boolean => ['single', 'dual', 'profile'].includes(String(getAt(doc, 'mirror.type')));
+const steppedMirror = (doc: unknown): boolean => getAt(doc, 'mirror.type') === 'single' || getAt(doc, 'mirror.type') === 'dual';
+
+/** The fixed controls (species are added per species by `speciesFields`). */
+export const FIELDS: readonly FieldSpec[] = [
+  // Source
+  {
+    kind: 'select',
+    key: 'polarity',
+    group: 'source',
+    label: 'ion polarity',
+    path: 'polarity',
+    options: { positive: 'positive', negative: 'negative' },
+    get: (doc) => str(doc, 'polarity'),
+    set: (doc, value) => setAt(doc, 'polarity', value),
+  },
+  {
+    kind: 'boolean',
+    key: 'twoStage',
+    group: 'source',
+    label: 'two-stage source',
+    path: 'source.extractionGrid',
+    get: twoStage,
+    set: (doc, on, memory) => {
+      if (on === twoStage(doc)) return;
+      if (on) {
+        const grid = recall(memory, 'extractionGrid:on', () => ({ gap_mm: 3, potential_V: round(0.94 * repeller(doc), 10) }));
+        setAt(doc, 'source.extractionGrid', grid);
+      } else swapMode(doc, memory, 'source.extractionGrid', 'extractionGrid', 'on', undefined);
+    },
+  },
+  numberAt('repeller_V', 'source', 'repeller potential (V)', 'source.repeller.potential_V', LIMITS.potential_V, 10, POTENTIAL_WINDOW),
+  numberAt('gridGap_mm', 'source', 'repeller → extraction grid (mm)', 'source.extractionGrid.gap_mm', LIMITS.sourceGap_mm, 0.01, [0.1, 30], twoStage),
+  numberAt('grid_V', 'source', 'extraction grid potential (V)', 'source.extractionGrid.potential_V', LIMITS.potential_V, 10, POTENTIAL_WINDOW, twoStage),
+  numberAt('groundGap_mm', 'source', 'gap to ground grid (mm)', 'source.groundGrid.gap_mm', LIMITS.sourceGap_mm, 0.01, [0.1, 30]),
+  numberAt(
+    'gridTransmission',
+    'source',
+    'extraction grid transmission (0–1)',
+    'source.extractionGrid.transmission',
+    LIMITS.transmission,
+    0.01,
+    [0.01, 1],
+    twoStage,
+    () => 1,
+  ),
+  numberAt('groundTransmission', 'source', 'ground grid transmission (0–1)', 'source.groundGrid.transmission', LIMITS.transmission, 0.01, [0.01, 1], undefined, () => 1),
+
+  // Timing
+  {
+    kind: 'select',
+    key: 'extractionMode',
+    group: 'timing',
+    label: 'extraction',
+    path: 'source.extraction.mode',
+    options: { 'static field': 'static', 'delayed pulse': 'delayed' },
+    get: (doc) => str(doc, 'source.extraction.mode'),
+    set: (doc, mode, memory) => {
+      const from = str(doc, 'source.extraction.mode');
+      if (mode === from) return;
+      const next = mode === 'delayed' ? recall(memory, 'extraction:delayed', () => ({ mode: 'delayed', delay_ns: 150 })) : { mode: 'static' };
+      swapMode(doc, memory, 'source.extraction', 'extraction', from, next);
+    },
+  },
+  numberAt('delay_ns', 'timing', 'extraction delay (ns)', 'source.extraction.delay_ns', LIMITS.delay_ns, 1, [0, 2000], delayed),
+  numberAt('repellerHold_V', 'timing', 'repeller during delay (V)', 'source.repeller.hold_V', LIMITS.potential_V, 10, POTENTIAL_WINDOW, delayed, (doc) =>
+    twoStage(doc) ? num(doc, 'source.extractionGrid.hold_V', num(doc, 'source.extractionGrid.potential_V')) : num(doc, 'drift.potential_V'),
+  ),
+  numberAt(
+    'gridHold_V',
+    'timing',
+    'extraction grid during delay (V)',
+    'source.extractionGrid.hold_V',
+    LIMITS.potential_V,
+    10,
+    POTENTIAL_WINDOW,
+    (doc) => delayed(doc) && twoStage(doc),
+    (doc) => num(doc, 'source.extractionGrid.potential_V'),
+  ),
+
+  {
+    kind: 'select',
+    key: 'riseShape',
+    group: 'timing',
+    label: 'pulse edge',
+    path: 'source.extraction.rise.shape',
+    options: { 'ideal step': 'step', 'linear ramp': 'linear', 'exponential (RC)': 'exponential', 'tabulated (from file)': 'table' },
+    visible: delayed,
+    get: (doc) => str(doc, 'source.extraction.rise.shape') || 'step',
+    set: (doc, shape, memory) => {
+      const from = str(doc, 'source.extraction.rise.shape') || 'step';
+      if (shape === from) return;
+      const defaults: Record<string, () => unknown> = {
+        step: () => undefined,
+        linear: () => ({ shape: 'linear', riseTime_ns: 20 }),
+        exponential: () => ({ shape: 'exponential', timeConstant_ns: 10 }),
+        // A table cannot be typed here: keep a remembered one, else stay with the current edge.
+        table: () => getAt(doc, 'source.extraction.rise'),
+      };
+      const next = recall(memory, `rise:${shape}`, defaults[shape] ?? defaults.step);
+      swapMode(doc, memory, 'source.extraction.rise', 'rise', from, next);
+    },
+  },
+  numberAt('riseTime_ns', 'timing', 'ramp time (ns)', 'source.extraction.rise.riseTime_ns', LIMITS.delay_ns, 0.5, [0.5, 500], is('source.extraction.rise.shape', 'linear')),
+  numberAt(
+    'timeConstant_ns',
+    'timing',
+    'time constant (ns)',
+    'source.extraction.rise.timeConstant_ns',
+    LIMITS.delay_ns,
+    0.5,
+    [0.5, 500],
+    is('source.extraction.rise.shape', 'exponential'),
+  ),
+
+  // Drift
+  numberAt('drift_mm', 'drift', 'drift length (mm)', 'drift.length_mm', LIMITS.driftLength_mm, 1, [50, 5000]),
+  numberAt('drift_V', 'drift', 'drift tube potential (V)', 'drift.potential_V', LIMITS.potential_V, 10, POTENTIAL_WINDOW),
+
+  // Mirror
+  {
+    kind: 'select',
+    key: 'mirrorType',
+    group: 'mirror',
+    label: 'mirror',
+    path: 'mirror.type',
+    options: { 'none (linear)': 'none', 'single-stage': 'single', 'dual-stage': 'dual', 'shaped field (profile)': 'profile' },
+    get: (doc) => str(doc, 'mirror.type'),
+    set: (doc, type, memory) => {
+      const from = str(doc, 'mirror.type');
+      if (type === from) return;
+      const rep = repeller(doc);
+      const back = (doc2: unknown): number => num(doc2, 'drift.length_mm', 1000);
+      const defaults: Record<string, () => unknown> = {
+        none: () => ({ type: 'none' }),
+        single: () => ({ type: 'single', depth_mm: 300, backPlate_V: round(1.12 * rep, 10), returnLength_mm: round(0.8 * back(doc), 1) }),
+        dual: () => ({
+          type: 'dual',
+          deceleratingLength_mm: 30,
+          intermediateGrid_V: round(0.69 * rep, 10),
+          reflectingLength_mm: 100,
+          backPlate_V: round(1.06 * rep, 10),
+          returnLength_mm: round(0.8 * back(doc), 1),
+        }),
+        profile: () => ({
+          type: 'profile',
+          depth_mm: 300,
+          profile: { kind: 'harmonic', backPlate_V: round(1.3 * rep, 10) },
+          returnLength_mm: round(0.8 * back(doc), 1),
+        }),
+      };
+      swapMode(doc, memory, 'mirror', 'mirror', from, recall(memory, `mirror:${type}`, defaults[type] ?? defaults.none));
+    },
+  },
+  numberAt('mirrorDepth_mm', 'mirror', 'mirror depth (mm)', 'mirror.depth_mm', LIMITS.mirrorStage_mm, 0.5, [1, 1000], (doc) =>
+    ['single', 'profile'].includes(str(doc, 'mirror.type')),
+  ),
+  {
+    kind: 'select',
+    key: 'profileKind',
+    group: 'mirror',
+    label: 'field shape',
+    path: 'mirror.profile.kind',
+    options: { harmonic: 'harmonic', 'polynomial (from file)': 'polynomial', 'tabulated (from file)': 'table' },
+    visible: is('mirror.type', 'profile'),
+    get: (doc) => str(doc, 'mirror.profile.kind'),
+    set: (doc, kind, memory) => {
+      const from = str(doc, 'mirror.profile.kind');
+      if (kind === from) return;
+      const harmonic = () => ({ kind: 'harmonic', backPlate_V: round(1.3 * repeller(doc), 10) });
+      // Coefficient lists and tables are edited in the preset file; here only a remembered one comes back.
+      const next = recall(memory, `profile:${kind}`, kind === 'harmonic' ? harmonic : () => getAt(doc, 'mirror.profile'));
+      swapMode(doc, memory, 'mirror.profile', 'profile', from, next);
+    },
+  },
+  numberAt('profileBack_V', 'mirror', 'back plate potential (V)', 'mirror.profile.backPlate_V', LIMITS.potential_V, 10, POTENTIAL_WINDOW, (doc) =>
+    getAt(doc, 'mirror.profile.kind') === 'harmonic',
+  ),
+  numberAt('decel_mm', 'mirror', 'decelerating stage (mm)', 'mirror.deceleratingLength_mm', LIMITS.mirrorStage_mm, 0.5, [1, 500], is('mirror.type', 'dual')),
+  numberAt('intermediate_V', 'mirror', 'intermediate grid (V)', 'mirror.intermediateGrid_V', LIMITS.potential_V, 10, POTENTIAL_WINDOW, is('mirror.type', 'dual')),
+  numberAt('reflecting_mm', 'mirror', 'reflecting stage (mm)', 'mirror.reflectingLength_mm', LIMITS.mirrorStage_mm, 0.5, [1, 1000], is('mirror.type', 'dual')),
+  numberAt('backPlate_V', 'mirror', 'back plate potential (V)', 'mirror.backPlate_V', LIMITS.potential_V, 10, POTENTIAL_WINDOW, steppedMirror),
+  numberAt('return_mm', 'mirror', 'mirror → detector (mm)', 'mirror.returnLength_mm', LIMITS.driftLength_mm, 1, [50, 5000], mirrorOn),
+  numberAt(
+    'entranceTransmission',
+    'mirror',
+    'entrance grid transmission (0–1)',
+    'mirror.entranceGridTransmission',
+    LIMITS.transmission,
+    0.01,
+    [0.01, 1],
+    mirrorOn,
+    () => 1,
+  ),
+
+  // Detector and acquisition
+  {
+    kind: 'boolean',
+    key: 'postAcceleration',
+    group: 'detector',
+    label: 'post-acceleration gap',
+    path: 'detector.postAcceleration',
+    get: (doc) => has(doc, 'detector.postAcceleration'),
+    set: (doc, on, memory) => {
+      if (on === has(doc, 'detector.postAcceleration')) return;
+      if (on) {
+        const gap = recall(memory, 'post:on', () => ({ gap_mm: 5, potential_V: -5000 * polaritySign(doc) }));
+        setAt(doc, 'detector.postAcceleration', gap);
+      } else swapMode(doc, memory, 'detector.postAcceleration', 'post', 'on', undefined);
+    },
+  },
+  numberAt('postGap_mm', 'detector', 'post-acceleration gap (mm)', 'detector.postAcceleration.gap_mm', LIMITS.postAccelerationGap_mm, 0.1, [0.5, 50], (doc) =>
+    has(doc, 'detector.postAcceleration'),
+  ),
+  numberAt('post_V', 'detector', 'detector front potential (V)', 'detector.postAcceleration.potential_V', LIMITS.potential_V, 10, POTENTIAL_WINDOW, (doc) =>
+    has(doc, 'detector.postAcceleration'),
+  ),
+  {
+    kind: 'boolean',
+    key: 'activeArea',
+    group: 'detector',
+    label: 'limited active area',
+    path: 'detector.activeDiameter_mm',
+    get: (doc) => has(doc, 'detector.activeDiameter_mm'),
+    set: (doc, on, memory) => {
+      if (on === has(doc, 'detector.activeDiameter_mm')) return;
+      if (on) setAt(doc, 'detector.activeDiameter_mm', recall(memory, 'activeArea:on', () => 40));
+      else swapMode(doc, memory, 'detector.activeDiameter_mm', 'activeArea', 'on', undefined);
+    },
+  },
+  numberAt('activeDiameter_mm', 'detector', 'active diameter (mm)', 'detector.activeDiameter_mm', LIMITS.detectorDiameter_mm, 0.5, [1, 100], (doc) =>
+    has(doc, 'detector.activeDiameter_mm'),
+  ),
+
+  {
+    kind: 'boolean',
+    key: 'acquisition',
+    group: 'detector',
+    label: 'simulated digitizer',
+    path: 'acquisition',
+    get: (doc) => has(doc, 'acquisition'),
+    set: (doc, on, memory) => {
+      if (on === has(doc, 'acquisition')) return;
+      if (on) {
+        const settings = recall(memory, 'acquisition:on', () => ({ pulseWidth_ns: 1, detectorJitter_ns: 0.1, triggerJitter_ns: 0.1, shots: 200, sampleInterval_ns: 0.25 }));
+        setAt(doc, 'acquisition', settings);
+      } else swapMode(doc, memory, 'acquisition', 'acquisition', 'on', undefined);
+    },
+  },
+  numberAt('pulseWidth_ns', 'detector', 'single-ion pulse FWHM (ns)', 'acquisition.pulseWidth_ns', LIMITS.pulseWidth_ns, 0.05, [0, 10], (doc) => has(doc, 'acquisition')),
+  numberAt('detectorJitter_ns', 'detector', 'detector jitter sd (ns)', 'acquisition.detectorJitter_ns', LIMITS.jitter_ns, 0.01, [0, 5], (doc) => has(doc, 'acquisition')),
+  numberAt('triggerJitter_ns', 'detector', 'trigger jitter sd (ns)', 'acquisition.triggerJitter_ns', LIMITS.jitter_ns, 0.01, [0, 5], (doc) => has(doc, 'acquisition')),
+  numberAt('shots', 'detector', 'shots summed', 'acquisition.shots', LIMITS.shots, 1, [1, 2000], (doc) => has(doc, 'acquisition')),
+  numberAt('sampleInterval_ns', 'detector', 'sample interval (ns)', 'acquisition.sampleInterval_ns', LIMITS.sampleInterval_ns, 0.01, [0.05, 10], (doc) =>
+    has(doc, 'acquisition'),
+  ),
+  {
+    kind: 'boolean',
+    key: 'quadraticCalibration',
+    group: 'detector',
+    label: 'calibration with b·m/z term',
+    path: 'analysis.quadraticCalibration',
+    visible: (doc) => has(doc, 'analysis.calibrantMz'),
+    get: (doc) => getAt(doc, 'analysis.quadraticCalibration') === true,
+    set: (doc, on) => setAt(doc, 'analysis.quadraticCalibration', on),
+  },
+
+  // Ions (start conditions; species are separate)
+  {
+    kind: 'select',
+    key: 'startPositionKind',
+    group: 'ions',
+    label: 'start position',
+    path: 'ions.startPosition.kind',
+    options: { 'on a surface': 'surface', 'uniform layer': 'uniform', 'gaussian cloud': 'gaussian' },
+    get: (doc) => str(doc, 'ions.startPosition.kind'),
+    set: (doc, kind, memory) => {
+      const from = str(doc, 'ions.startPosition.kind');
+      if (kind === from) return;
+      const gap = firstGap(doc);
+      const defaults: Record<string, () => unknown> = {
+        surface: () => ({ kind: 'surface', position_mm: 0 }),
+        uniform: () => ({ kind: 'uniform', from_mm: 0, to_mm: round(0.2 * gap, 0.01) }),
+        gaussian: () => ({ kind: 'gaussian', mean_mm: round(0.5 * gap, 0.01), sd_mm: round(0.05 * gap, 0.01) }),
+      };
+      swapMode(doc, memory, 'ions.startPosition', 'startPosition', from, recall(memory, `startPosition:${kind}`, defaults[kind] ?? defaults.surface));
+    },
+  },
+  numberAt('position_mm', 'ions', 'start position (mm from repeller)', 'ions.startPosition.position_mm', LIMITS.position_mm, 0.01, [0, 30], is('ions.startPosition.kind', 'surface')),
+  numberAt('from_mm', 'ions', 'layer from (mm)', 'ions.startPosition.from_mm', LIMITS.position_mm, 0.01, [0, 30], is('ions.startPosition.kind', 'uniform')),
+  numberAt('to_mm', 'ions', 'layer to (mm)', 'ions.startPosition.to_mm', LIMITS.position_mm, 0.01, [0, 30], is('ions.startPosition.kind', 'uniform')),
+  numberAt('mean_mm', 'ions', 'cloud centre (mm)', 'ions.startPosition.mean_mm', LIMITS.position_mm, 0.01, [0, 30], is('ions.startPosition.kind', 'gaussian')),
+  numberAt('sd_mm', 'ions', 'cloud sd (mm)', 'ions.startPosition.sd_mm', LIMITS.positionSd_mm, 0.01, [0, 10], is('ions.startPosition.kind', 'gaussian')),
+  {
+    kind: 'select',
+    key: 'startVelocityKind',
+    group: 'ions',
+    label: 'start velocity',
+    path: 'ions.startVelocity.kind',
+    options: { 'normal (m/s)': 'normal', 'energy spread (eV)': 'energy', 'thermal (K)': 'thermal' },
+    get: (doc) => str(doc, 'ions.startVelocity.kind'),
+    set: (doc, kind, memory) => {
+      const from = str(doc, 'ions.startVelocity.kind');
+      if (kind === from) return;
+      const defaults: Record<string, () => unknown> = {
+        normal: () => ({ kind: 'normal', mean_m_per_s: 400, sd_m_per_s: 150, minimum_m_per_s: 0 }),
+        energy: () => ({ kind: 'energy', mean_eV: 1, sd_eV: 0.5 }),
+        thermal: () => ({ kind: 'thermal', temperature_K: 300 }),
+      };
+      swapMode(doc, memory, 'ions.startVelocity', 'startVelocity', from, recall(memory, `startVelocity:${kind}`, defaults[kind] ?? defaults.normal));
+    },
+  },
+  numberAt('vMean', 'ions', 'mean velocity (m/s)', 'ions.startVelocity.mean_m_per_s', LIMITS.velocity_m_per_s, 1, [-2000, 2000], is('ions.startVelocity.kind', 'normal')),
+  numberAt('vSd', 'ions', 'velocity sd (m/s)', 'ions.startVelocity.sd_m_per_s', LIMITS.velocitySd_m_per_s, 1, [0, 1000], is('ions.startVelocity.kind', 'normal')),
+  numberAt('eMean', 'ions', 'mean energy (eV)', 'ions.startVelocity.mean_eV', LIMITS.energy_eV, 0.01, [0, 20], is('ions.startVelocity.kind', 'energy')),
+  numberAt('eSd', 'ions', 'energy sd (eV)', 'ions.startVelocity.sd_eV', LIMITS.energySd_eV, 0.01, [0, 10], is('ions.startVelocity.kind', 'energy')),
+  numberAt('temperature_K', 'ions', 'temperature (K)', 'ions.startVelocity.temperature_K', LIMITS.temperature_K, 1, [0, 2000], is('ions.startVelocity.kind', 'thermal')),
+
+  numberAt('spotRadius_mm', 'ions', 'spot radius (mm)', 'ions.transverse.spotRadius_mm', LIMITS.spotRadius_mm, 0.01, [0, 5]),
+  {
+    kind: 'select',
+    key: 'transverseKind',
+    group: 'ions',
+    label: 'sideways velocity',
+    path: 'ions.transverse.velocity.kind',
+    options: { none: 'none', 'normal (m/s)': 'normal', 'angular (mrad)': 'angular', 'thermal (K)': 'thermal' },
+    get: (doc) => str(doc, 'ions.transverse.velocity.kind') || 'none',
+    set: (doc, kind, memory) => {
+      const from = str(doc, 'ions.transverse.velocity.kind') || 'none';
+      if (kind === from) return;
+      const defaults: Record<string, () => unknown> = {
+        none: () => ({ kind: 'none' }),
+        normal: () => ({ kind: 'normal', sd_m_per_s: 100 }),
+        angular: () => ({ kind: 'angular', sd_mrad: 5 }),
+        thermal: () => ({ kind: 'thermal', temperature_K: 300 }),
+      };
+      swapMode(doc, memory, 'ions.transverse.velocity', 'transverse', from, recall(memory, `transverse:${kind}`, defaults[kind] ?? defaults.none));
+    },
+  },
+  numberAt('transverseSd', 'ions', 'sideways velocity sd (m/s)', 'ions.transverse.velocity.sd_m_per_s', LIMITS.velocitySd_m_per_s, 1, [0, 1000], is('ions.transverse.velocity.kind', 'normal')),
+  numberAt('transverseAngle', 'ions', 'angular spread sd (mrad)', 'ions.transverse.velocity.sd_mrad', LIMITS.angle_mrad, 0.1, [0, 50], is('ions.transverse.velocity.kind', 'angular')),
+  numberAt(
+    'transverseTemperature',
+    'ions',
+    'sideways temperature (K)',
+    'ions.transverse.velocity.temperature_K',
+    LIMITS.temperature_K,
+    1,
+    [0, 2000],
+    is('ions.transverse.velocity.kind', 'thermal'),
+  ),
+
+  // Run
+  numberAt('ions', 'run', 'ions per run', 'run.ions', LIMITS.ions, 1),
+  numberAt('seed', 'run', 'random seed', 'run.seed', LIMITS.seed, 1),
+  {
+    kind: 'select',
+    key: 'engine',
+    group: 'run',
+    label: 'engine',
+    path: 'run.engine',
+    options: { 'closed form where possible': 'auto', 'integrate everything (cross-check)': 'integrator' },
+    get: (doc) => str(doc, 'run.engine') || 'auto',
+    set: (doc, value) => setAt(doc, 'run.engine', value),
+  },
+];
+
+/** Controls of species i (m/z, charge, abundance, label). */
+export function speciesFields(i: number): FieldSpec[] {
+  const base = `ions.species[${i}]`;
+  return [
+    {
+      kind: 'text',
+      key: `species${i}_label`,
+      group: 'ions',
+      label: 'label',
+      path: `${base}.label`,
+      get: (doc) => str(doc, `${base}.label`),
+      set: (doc, value) => (value.trim() ? setAt(doc, `${base}.label`, value) : deleteAt(doc, `${base}.label`)),
+    },
+    numberAt(`species${i}_mz`, 'ions', 'm/z (Th)', `${base}.mz`, LIMITS.mz, 0.0001),
+    numberAt(`species${i}_charge`, 'ions', 'charge state z', `${base}.charge`, LIMITS.charge, 1),
+    numberAt(`species${i}_abundance`, 'ions', 'relative abundance', `${base}.abundance`, LIMITS.abundance, 0.01, undefined, undefined, () => 1),
+    {
+      kind: 'boolean',
+      key: `species${i}_calibrant`,
+      group: 'ions',
+      label: 'mass calibrant',
+      path: 'analysis.calibrantMz',
+      get: (doc) => {
+        const list = getAt(doc, 'analysis.calibrantMz');
+        return Array.isArray(list) && list.includes(getAt(doc, `${base}.mz`));
+      },
+      set: (doc, on) => {
+        const mz = getAt(doc, `${base}.mz`);
+        const list = getAt(doc, 'analysis.calibrantMz');
+        const current = Array.isArray(list) ? (list as unknown[]).filter((m) => m !== mz) : [];
+        if (on) current.push(mz);
+        if (current.length) setAt(doc, 'analysis.calibrantMz', current);
+        else deleteAt(doc, 'analysis.calibrantMz');
+      },
+    },
+  ];
+}
+
+/** The species to add after the last one: 10 % heavier, same charge. */
+export function nextSpecies(doc: unknown): { label: string; mz: number; charge: number; abundance: number } {
+  const list = getAt(doc, 'ions.species');
+  const last = Array.isArray(list) && list.length ? (list[list.length - 1] as { mz?: number; charge?: number }) : {};
+  const mz = Math.round((typeof last.mz === 'number' ? last.mz * 1.1 : 1000) * 1e4) / 1e4;
+  return { label: `species at m/z ${mz}`, mz, charge: typeof last.charge === 'number' ? last.charge : 1, abundance: 1 };
+}
+
+/** Slider span for a value: the field's window, widened to include the value (never past the limits). */
+export function sliderSpan(field: NumberField, value: number): [number, number] | null {
+  if (!field.window) return null;
+  let [lo, hi] = field.window;
+  if (Number.isFinite(value)) {
+    if (value < lo) lo = Math.max(field.limits.min, niceFloor(value));
+    if (value > hi) hi = Math.min(field.limits.max, niceCeil(value));
+  }
+  return [lo, hi];
+}
+
+function niceCeil(x: number): number {
+  if (x <= 0) return -niceFloor(-x);
+  const p = 10 ** Math.floor(Math.log10(x));
+  for (const m of [1, 2, 5, 10]) if (m * p >= x) return m * p;
+  return 10 * p;
+}
+
+function niceFloor(x: number): number {
+  if (x >= 0) {
+    if (x === 0) return 0;
+    const p = 10 ** Math.floor(Math.log10(x));
+    for (const m of [5, 2, 1]) if (m * p <= x) return m * p;
+    return p;
+  }
+  return -niceCeil(-x);
+}
+
+/** The field that answers for a validation issue path: exact match, else the nearest enclosing one. */
+export function fieldForIssue(fields: readonly FieldSpec[], issuePath: string): FieldSpec | undefined {
+  let best: FieldSpec | undefined;
+  for (const f of fields) {
+    if (f.path === issuePath) return f;
+    if (issuePath.startsWith(f.path + '.') && (!best || f.path.length > best.path.length)) best = f;
+  }
+  return best;
+}

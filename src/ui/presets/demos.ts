@@ -1,0 +1,34 @@
+/** The shipped demo setups, bundled with the app and validated like any other input. */
+import demoLinear from '../../../presets/demo-linear-delayed.json';
+import demoSingle from '../../../presets/demo-reflectron-single.json';
+import demoDual from '../../../presets/demo-reflectron-dual.json';
+import { validatePreset } from '../../presets/load';
+import { formatIssues } from '../../presets/issues';
+import type { Preset } from '../../presets/schema';
+
+export interface Demo {
+  readonly id: 'linear' | 'single' | 'dual';
+  readonly preset: Preset;
+}
+
+function checked(doc: unknown, id: string): Preset {
+  const result = validatePreset(doc);
+  if (!result.ok) throw new Error(`shipped demo "${id}" does not validate:\n${formatIssues(result.issues)}`);
+  return result.value;
+}
+
+let cache: Demo[] | null = null;
+
+/** The demo the app opens on comes first. */
+export function demos(): Demo[] {
+  cache ??= [
+    { id: 'linear', preset: checked(demoLinear, 'linear') },
+    { id: 'single', preset: checked(demoSingle, 'single') },
+    { id: 'dual', preset: checked(demoDual, 'dual') },
+  ];
+  return cache;
+}
+
+export function demo(id: Demo['id']): Preset {
+  return structuredClone(demos().find((d) => d.id === id)!.preset);
+}

@@ -1,0 +1,70 @@
+/**
+ * The 3D view draws paths with closed-form uniform-field segments (src/physics/trajectory.ts). Parts
+ * the engine integrates numerically are drawn from a close stand-in: a shaped mirror field as uniform
+ * slabs whose boundary potentials are the profile's own (so the turning depth is right to within a
+ * slab's linear interpolation), and a sloped pulse edge as the step with the same time-integrated
+ * field (a linear ramp of length T acts like a step T/2 later, an RC edge of time constant τ like a
+ * step τ later). The table and spectrum always come from the engine itself.
+ */
+import type { AnalyserModel, MirrorStage } from '../../physics/analyser';
+
+/** Slabs for a shaped mirror (the exact plan holds at most 8 stages). */
+export const PROFILE_SLABS = 8;
+
+export interface DrawableModel {
+  readonly model: AnalyserModel;
+  /** What was replaced by a stand-in, for the legend; empty when the drawing is exact. */
+  readonly approximations: readonly string[];
+}
+
+export function profilePotential_V(driftPotential_V: number, coefficients_V: ArrayLike<number>, u: number): number {
+  let v = driftPotential_V;
+  let power = u;
+  for (let k = 0; k < coefficients_V.length; k++) {
+    v += coefficients_V[k] * power;
+    power *= u;
+  }
+  return v;
+}
+
+export function drawableModel(model: AnalyserModel): DrawableModel {
+  const approximations: string[] = [];
+  let source = model.source;
+  const rise = source.rise;
+  if (rise && rise.kind !== 'step') {
+    const shift = rise.kind === 'linear' ? rise.riseTime_s / 2 : rise.kind === 'exponential' ? rise.timeConstant_s : 0;
+    source = { ...source, delay_s: source.delay_s + shift, rise: { kind: 'step' } };
+    approximations.push(rise.kind === 'table' ? 'pulse drawn as a step at the delay' : 'pulse edge drawn as its equivalent step');
+  }
+  let mirror = model.mirror;
+  if (mirror && mirror.profile) {
+    const { depth_m, coefficients_V } = mirror.profile;
+    const stages: MirrorStage[] = [];
+    for (let k = 1; k <= PROFILE_SLABS; k++) {
+      stages.push({ length_m: depth_m / PROFILE_SLABS, exitPotential_V: profilePotential_V(model.drift.potential_V, coefficients_V, k / PROFILE_SLABS) });
+    }
+    mirror = { ...mirror, stages, profile: null, innerGridTransmission: stages.slice(1).map(() => 1) };
+    approximations.push(`shaped mirror drawn as ${PROFILE_SLABS} uniform slabs`);
+  } else if (mirror && mirror.stages.length > PROFILE_SLABS) {
+    // A long tabulated mirror: resample its piecewise-linear potential at the slab boundaries.
+    const xs = [0];
+    const vs = [model.drift.potential_V];
+    for (const st of mirror.stages) {
+      xs.push(xs[xs.length - 1] + st.length_m);
+      vs.push(st.exitPotential_V);
+    }
+    const depth = xs[xs.length - 1];
+    const at = (x: number): number => {
+      let i = 1;
+      while (i < xs.length - 1 && xs[i] < x) i++;
+      const f = (x - xs[i - 1]) / (xs[i] - xs[i - 1]);
+      return vs[i - 1] + f * (vs[i] - vs[i - 1]);
+    };
+    const stages: MirrorStage[] = [];
+    for (let k = 1; k <= PROFILE_SLABS; k++) stages.push({ length_m: depth / PROFILE_SLABS, exitPotential_V: at((k * depth) / PROFILE_SLABS) });
+    mirror = { ...mirror, stages, innerGridTransmission: stages.slice(1).map(() => 1) };
+    approximations.push(`tabulated mirror drawn as ${PROFILE_SLABS} uniform slabs`);
+  }
+  if (!approximations.length) return { model, approximations };
+  return { model: { ...model, source, mirror, forceIntegrator: false }, approximations };
+}
