@@ -121,8 +121,16 @@ class PlaneOnInterpolant implements ScalarFunction {
 const planeProbe = new PlaneOnInterpolant();
 const rootReport = createRootReport();
 
-/** Tolerances: measured on B2 and the shipped presets, relative 1e-10 keeps flight times within ~1e-13 of the references. */
-const options = createSolveOptions({ rtol: 1e-10, atol: Float64Array.of(1e-16, 1e-11), maxSteps: 200_000 });
+/**
+ * Tolerances, measured: `precise` (relative 1e-10) keeps the integrated crossings of static regions
+ * within ~1e-13 of the closed form on the shipped presets (the forced-integrator cross-check) and is
+ * used for non-uniform mirrors; `pulse` (relative 1e-7) is used for source stages whose potentials
+ * rise while the ions cross them, where it keeps benchmark B2's flight times within 8e-12 of the
+ * independent reference (1e-8 gives 1.3e-12 at ~35 % more cost).
+ */
+const precise = createSolveOptions({ rtol: 1e-10, atol: Float64Array.of(1e-16, 1e-11), maxSteps: 200_000 });
+const pulse = createSolveOptions({ rtol: 1e-7, atol: Float64Array.of(1e-16, 1e-11), maxSteps: 200_000 });
+let options = precise;
 const workspace = createWorkspace(DOP853, 2);
 const result = createResult(2, 4);
 const y0 = new Float64Array(2);
@@ -194,6 +202,7 @@ function crossingInLastStep(st: NumericState, plane: number, exit: number): numb
 
 /** Cross [lo, hi] with constant acceleration a (used when the integrator is forced everywhere). */
 export function crossUniformNumeric(st: NumericState, a: number, lo: number, hi: number, tEnd: number): number {
+  options = precise;
   ctx.law = Law.Uniform;
   ctx.a = a;
   ctx.lo = lo;
@@ -202,7 +211,17 @@ export function crossUniformNumeric(st: NumericState, a: number, lo: number, hi:
 }
 
 /** Cross source stage `stage` (absolute z between its planes) under time-dependent potentials. */
-export function crossSourceStageNumeric(st: NumericState, source: SourceModel, qOverM: number, stage: number, lo: number, hi: number, tEnd: number): number {
+export function crossSourceStageNumeric(
+  st: NumericState,
+  source: SourceModel,
+  qOverM: number,
+  stage: number,
+  lo: number,
+  hi: number,
+  tEnd: number,
+  crossCheck: boolean,
+): number {
+  options = crossCheck ? precise : pulse;
   ctx.law = Law.SourceStage;
   ctx.qOverM = qOverM;
   ctx.source = source;
@@ -223,6 +242,7 @@ export function crossSourceStageNumeric(st: NumericState, source: SourceModel, q
 
 /** Inside a polynomial-profile mirror: x from the entrance grid (0) to the back plate (depth). */
 export function crossProfileNumeric(st: NumericState, profile: PolynomialProfile, qOverM: number, tEnd: number): number {
+  options = precise;
   ctx.law = Law.Polynomial;
   ctx.qOverM = qOverM;
   ctx.profile = profile;

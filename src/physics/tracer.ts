@@ -39,7 +39,7 @@ function sourceNumeric(st: IonState, plan: ExactPlan, model: AnalyserModel): boo
     const lo = plan.sourcePlane_m[j];
     const hi = plan.sourcePlane_m[j + 1];
     const tEnd = Math.min(settleAt, tLimit, nextBreakpoint_s(src, st.t));
-    const exit = crossSourceStageNumeric(st, src, plan.qOverM, j, lo, hi, tEnd);
+    const exit = crossSourceStageNumeric(st, src, plan.qOverM, j, lo, hi, tEnd, model.forceIntegrator);
     if (exit === Exit.TIME_LIMIT && st.t < tLimit) {
       if (st.t >= settleAt) return extractExact(st, plan); // static from here on: closed form again
       continue; // a jump or kink of the waveform: restart the integration there

@@ -15,9 +15,10 @@ import { createRootReport, findRootBrent, type ScalarFunction } from './brent';
 import { evaluateDenseOutput, prepareDenseOutput } from './denseOutput';
 import type { RhsFunction, RungeKuttaWorkspace, SolveResult } from './rungeKutta';
 
-/** −1: only downward crossings (g goes from + to −); +1: only upward; 0: both. */
+/** −1: only downward crossings (g goes from + to −); +1: only upward (− to +); 0: both. */
 export type EventDirection = -1 | 0 | 1;
 
+/** g(t, y, context); `y` is a workspace buffer: read it, do not keep it. */
 export type EventFunction<C> = (t: number, y: Float64Array, context: C) => number;
 
 export interface OdeEvent<C> {

@@ -1,5 +1,5 @@
 /** Embedded Runge–Kutta integrator with error control, dense output and events. */
-export { DOP853, DOPRI5, type RungeKuttaTableau } from './tableaus';
+export { DOP853, DOPRI5, compressRows, type RungeKuttaTableau, type SparseRows } from './tableaus';
 export {
   MAX_FACTOR,
   MESSAGE_DONE,

@@ -7,8 +7,6 @@ import {
   createWorkspace,
   defineEvent,
   defineProblem,
-  evaluateDenseOutput,
-  prepareDenseOutput,
   solve,
   type EventDirection,
   type RhsFunction,
@@ -185,25 +183,5 @@ describe.each(TABLEAUS)('$name: several events in one step', (tab: RungeKuttaTab
     expect(Array.from(result.eventDirection.subarray(0, 2))).toEqual([-1, -1]);
     expect(Math.abs(result.eventTime[0] - 7)).toBeLessThan(1e-14);
     expect(Math.abs(result.eventTime[1] - 3)).toBeLessThan(1e-14);
-  });
-});
-
-describe.each(TABLEAUS)('$name dense output after a solve', (tab: RungeKuttaTableau) => {
-  it('interpolates the last step to the tolerance and meets its end points exactly', () => {
-    const ws = createWorkspace(tab, 2);
-    const result = createResult(2);
-    const problem = defineProblem(oscillatorRhs, null);
-    solve(ws, problem, 0, [1, 0], 5, OPTIONS, result);
-    expect(result.status).toBe('done');
-    prepareDenseOutput(ws, oscillatorRhs, null);
-    const out = new Float64Array(2);
-    expect(Array.from(evaluateDenseOutput(ws, ws.t, out))).toEqual(Array.from(ws.y));
-    expect(Array.from(evaluateDenseOutput(ws, ws.tOld, out))).toEqual(Array.from(ws.yOld));
-    for (let j = 1; j < 10; j++) {
-      const t = ws.tOld + (j / 10) * (ws.t - ws.tOld);
-      evaluateDenseOutput(ws, t, out);
-      expect(Math.abs(out[0] - Math.cos(t))).toBeLessThan(1e-9);
-      expect(Math.abs(out[1] + Math.sin(t))).toBeLessThan(1e-9);
-    }
   });
 });

@@ -155,6 +155,22 @@ describe.each(TABLEAUS)('$name on the harmonic oscillator', (tab) => {
   });
 });
 
+describe.each(TABLEAUS)('$name in an odd dimension (3 components)', (tab) => {
+  it('integrates x′ = −y, y′ = x, z′ = −z (exact cos t, sin t, e^−t) to the tolerance', () => {
+    const rotation = defineProblem<null>((_t, y, dydt) => {
+      dydt[0] = -y[1];
+      dydt[1] = y[0];
+      dydt[2] = -y[2];
+    }, null);
+    const result = createResult(3);
+    solve(createWorkspace(tab, 3), rotation, 0, [1, 0, 1], 3, createSolveOptions({ rtol: 1e-10, atol: 1e-12 }), result);
+    expect(result.status).toBe('done');
+    expect(Math.abs(result.y[0] - Math.cos(3))).toBeLessThan(1e-9);
+    expect(Math.abs(result.y[1] - Math.sin(3))).toBeLessThan(1e-9);
+    expect(Math.abs(result.y[2] - Math.exp(-3)) / Math.exp(-3)).toBeLessThan(1e-9);
+  });
+});
+
 describe('failures are reported, never thrown, and leave no NaN', () => {
   it('step limit', () => {
     const result = createResult(1);
