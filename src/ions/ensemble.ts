@@ -11,6 +11,11 @@ export interface SpeciesInfo {
   readonly charge: number;
   /** Relative abundance as given (not normalised). */
   readonly abundance: number;
+  /** Index of the preset species this block belongs to (isotopologue peaks of one species share it). */
+  readonly parent?: number;
+  /** For an isotopologue peak: extra neutrons (M+shift) and its fraction of the species. */
+  readonly isotopeShift?: number;
+  readonly isotopeFraction?: number;
 }
 
 export interface Ensemble {

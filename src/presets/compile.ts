@@ -9,6 +9,7 @@ import { mmToM, nsToS } from '../physics/units';
 import type { SpeciesInfo } from '../ions/ensemble';
 import { NO_TRANSVERSE, type PopulationSpec, type StartPositionSpec, type StartVelocitySpec, type TransverseSpec } from '../ions/population';
 import type { PresetIssue } from './issues';
+import { isotopeBlocks, resolveChemistry } from './speciesChemistry';
 import type { Preset } from './schema';
 
 /** Longest flight followed before an ion is reported as timed out. */
@@ -124,12 +125,15 @@ export function compilePreset(preset: Preset): CompiledPreset {
     forceIntegrator: preset.run.engine === 'integrator',
   };
 
-  const species: SpeciesInfo[] = preset.ions.species.map((s) => ({
-    label: s.label ?? `m/z ${s.mz}${s.charge > 1 ? ` (${s.charge}${preset.polarity === 'positive' ? '+' : '−'})` : ''}`,
-    mz: s.mz,
-    charge: s.charge,
-    abundance: s.abundance,
-  }));
+  const species: SpeciesInfo[] = preset.ions.species.flatMap((s, parent): SpeciesInfo[] => {
+    const label = s.label ?? (s.formula ? `${s.formula} ${s.adduct}` : `m/z ${s.mz}${s.charge > 1 ? ` (${s.charge}${preset.polarity === 'positive' ? '+' : '−'})` : ''}`);
+    if (s.formula) {
+      // Validated on load, so the chemistry resolves here.
+      const chem = resolveChemistry({ formula: s.formula, adduct: s.adduct ?? 'protonated', charge: s.charge, polarity: preset.polarity });
+      if (chem.ok) return isotopeBlocks(chem.value, label, s.abundance, s.charge, parent);
+    }
+    return [{ label, mz: s.mz, charge: s.charge, abundance: s.abundance, parent }];
+  });
   const population: PopulationSpec = {
     species,
     totalIons: preset.run.ions,

@@ -7,6 +7,7 @@ import { checkPreset } from './compile';
 import { jsonPath, type PresetIssue, type PresetResult } from './issues';
 import { migratePreset } from './migrate';
 import { presetSchema, type Preset } from './schema';
+import { fillChemistryMz } from './speciesChemistry';
 
 /** Allowed values of the discriminating keys, for messages. */
 const DISCRIMINATOR_VALUES: Record<string, string> = {
@@ -37,14 +38,17 @@ export function validatePreset(doc: unknown): PresetResult<Preset> {
   if (!migrated.ok) return migrated;
   const parsed = presetSchema.safeParse(migrated.value);
   if (!parsed.success) return { ok: false, issues: zodIssues(parsed.error, migrated.value) };
-  const issues = checkPreset(parsed.data);
-  return issues.length ? { ok: false, issues } : { ok: true, value: parsed.data };
+  const chemistry = fillChemistryMz(parsed.data.ions.species, parsed.data.polarity);
+  if (!chemistry.ok) return chemistry;
+  const preset: Preset = { ...parsed.data, ions: { ...parsed.data.ions, species: chemistry.value } };
+  const issues = checkPreset(preset);
+  return issues.length ? { ok: false, issues } : { ok: true, value: preset };
 }
 
 function zodIssues(error: z.ZodError, doc: unknown): PresetIssue[] {
   return error.issues.map((issue) => {
     const path = jsonPath(issue.path);
-    if (issue.code !== 'unrecognized_keys' && valueAt(doc, issue.path) === undefined) return { path, message: 'is required' };
+    if (issue.code !== 'unrecognized_keys' && issue.code !== 'custom' && valueAt(doc, issue.path) === undefined) return { path, message: 'is required' };
     if (issue.code === 'unrecognized_keys') {
       return { path, message: `unknown key${issue.keys.length > 1 ? 's' : ''} ${issue.keys.map((k) => `"${k}"`).join(', ')}` };
     }

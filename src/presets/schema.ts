@@ -179,12 +179,28 @@ const detectorSchema = z.strictObject({
   offsetY_mm: ranged(LIMITS.detectorOffset_mm, 'mm').default(0),
 });
 
-const speciesSchema = z.strictObject({
-  label: z.string().max(80).optional(),
-  mz: ranged(LIMITS.mz, 'Th (m/z)'),
-  charge: rangedInt(LIMITS.charge, '(charge state, sign from polarity)'),
-  abundance: ranged(LIMITS.abundance, '(relative)').default(1),
-});
+/**
+ * A species by m/z, or by chemistry: an elemental formula of the neutral molecule with an ionising
+ * adduct (e.g. "protonated", "[M+Na]+", "[M-H]-"); then m/z is computed (and any given mz replaced)
+ * and its isotope envelope is traced. The polarity of the preset gives the charge its sign.
+ */
+const speciesSchema = z
+  .strictObject({
+    label: z.string().max(80).optional(),
+    mz: ranged(LIMITS.mz, 'Th (m/z)').optional(),
+    formula: z.string().min(1).max(500).optional(),
+    adduct: z.string().min(1).max(40).optional(),
+    charge: rangedInt(LIMITS.charge, '(charge state, sign from polarity)'),
+    abundance: ranged(LIMITS.abundance, '(relative)').default(1),
+  })
+  .transform((s, ctx) => {
+    if (s.formula === undefined) {
+      if (s.adduct !== undefined) ctx.addIssue({ code: 'custom', path: ['formula'], message: 'is required with an adduct' });
+      if (s.mz === undefined) ctx.addIssue({ code: 'custom', path: ['mz'], message: 'give either mz or a formula with an adduct' });
+      return { ...s, mz: s.mz ?? 0 };
+    }
+    return { ...s, mz: s.mz ?? 0, adduct: s.adduct ?? 'protonated' };
+  });
 
 const startPositionSchema = z.discriminatedUnion('kind', [
   z.strictObject({ kind: z.literal('surface'), position_mm: ranged(LIMITS.position_mm, 'mm') }),

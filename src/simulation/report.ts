@@ -29,6 +29,26 @@ export interface SpeciesReport {
   readonly peak: SpectrumPeakReport | null;
   /** Calibrated mass error of this species' peak (null for calibrants or without a calibration). */
   readonly massError_ppm: number | null;
+  /**
+   * For a species given by formula: its traced isotopologue peaks (m/z, fraction of the species,
+   * flight time, FWHM, R). The species' own figures above are those of its most abundant peak,
+   * except ions/detected/transmission/fates, which count all its peaks. Empty for a species given by m/z.
+   */
+  readonly isotopePeaks: IsotopePeakReport[];
+  /** Index of the ensemble block (isotope peak) whose figures the species reports. */
+  readonly mainBlock: number;
+}
+
+export interface IsotopePeakReport {
+  readonly mz: number;
+  /** Fraction of the species' molecules in this isotopic composition (0..1). */
+  readonly abundance: number;
+  /** M+n: extra neutrons relative to the monoisotopic composition. */
+  readonly shift: number;
+  readonly flightTime_ns: number | null;
+  readonly fwhm_ns: number | null;
+  readonly resolvingPower: number | null;
+  readonly transmission: number;
 }
 
 export interface RunReport {
@@ -45,9 +65,9 @@ export function attachAnalysis(report: RunReport, analysis: AnalysisSections): R
   const cal = analysis.calibration && 'unknowns' in analysis.calibration ? analysis.calibration : null;
   return {
     ...report,
-    species: report.species.map((s, i) => ({
+    species: report.species.map((s) => ({
       ...s,
-      peak: analysis.speciesPeaks[i] ?? null,
+      peak: analysis.speciesPeaks[s.mainBlock] ?? null,
       massError_ppm: cal?.unknowns.find((u) => u.mz === s.mz)?.error_ppm ?? null,
     })),
     calibration: analysis.calibration,
@@ -57,35 +77,96 @@ export function attachAnalysis(report: RunReport, analysis: AnalysisSections): R
 
 const nsOrNull = (s: number | null): number | null => (s === null ? null : sToNs(s));
 
+/** Per preset species, its range of ensemble blocks [first, end): isotope peaks of one species are contiguous. */
+export function speciesBlockRanges(ens: Ensemble): Int32Array {
+  const starts: number[] = [0];
+  for (let b = 1; b < ens.species.length; b++) {
+    if ((ens.species[b].parent ?? b) !== (ens.species[b - 1].parent ?? b - 1)) starts.push(b);
+  }
+  starts.push(ens.species.length);
+  return Int32Array.from(starts);
+}
+
+/** Ion index boundaries per preset species (all its isotope peaks together), length species + 1. */
+export function speciesIonStart(ens: Ensemble): Int32Array {
+  const ranges = speciesBlockRanges(ens);
+  return ranges.map((b) => ens.speciesStart[b]);
+}
+
+function blockReport(ens: Ensemble, trace: TraceResult, s: number): SpeciesReport {
+  const from = ens.speciesStart[s];
+  const to = ens.speciesStart[s + 1];
+  let detected = 0;
+  for (let i = from; i < to; i++) if (trace.fate[i] === Fate.DETECTED) detected++;
+  const times = new Float64Array(detected);
+  for (let i = from, k = 0; i < to; i++) if (trace.fate[i] === Fate.DETECTED) times[k++] = trace.flightTime_s[i];
+  times.sort();
+  const stats = arrivalStats(times);
+  const info = ens.species[s];
+  return {
+    label: info.label,
+    mz: info.mz,
+    charge: info.charge,
+    ions: to - from,
+    detected,
+    transmission: to > from ? detected / (to - from) : 0,
+    flightTime_ns: nsOrNull(stats.mean_s),
+    medianFlightTime_ns: nsOrNull(stats.median_s),
+    sdFlightTime_ns: nsOrNull(stats.sd_s),
+    fwhm_ns: nsOrNull(stats.fwhm_s),
+    fwhmShortest_ns: nsOrNull(stats.fwhmShortest_s),
+    resolvingPower: stats.resolvingPower,
+    resolvingPowerShortest: stats.resolvingPowerShortest,
+    fates: countFates(trace.fate, from, to),
+    peak: null,
+    massError_ppm: null,
+    isotopePeaks: [],
+    mainBlock: s,
+  };
+}
+
 export function buildReport(ens: Ensemble, trace: TraceResult): RunReport {
+  const ranges = speciesBlockRanges(ens);
   const species: SpeciesReport[] = [];
-  for (let s = 0; s < ens.species.length; s++) {
-    const from = ens.speciesStart[s];
-    const to = ens.speciesStart[s + 1];
-    let detected = 0;
-    for (let i = from; i < to; i++) if (trace.fate[i] === Fate.DETECTED) detected++;
-    const times = new Float64Array(detected);
-    for (let i = from, k = 0; i < to; i++) if (trace.fate[i] === Fate.DETECTED) times[k++] = trace.flightTime_s[i];
-    times.sort();
-    const stats = arrivalStats(times);
-    const info = ens.species[s];
+  for (let k = 0; k + 1 < ranges.length; k++) {
+    const first = ranges[k];
+    const end = ranges[k + 1];
+    const isotopic = ens.species[first].isotopeFraction !== undefined;
+    if (!isotopic) {
+      species.push(blockReport(ens, trace, first));
+      continue;
+    }
+    const blocks = [];
+    for (let b = first; b < end; b++) blocks.push(blockReport(ens, trace, b));
+    let main = 0;
+    let mono = 0;
+    for (let j = 0; j < blocks.length; j++) {
+      const info = ens.species[first + j];
+      if ((info.isotopeFraction ?? 0) > (ens.species[first + main].isotopeFraction ?? 0)) main = j;
+      if (info.isotopeShift === 0) mono = j;
+    }
+    const ions = blocks.reduce((a, b) => a + b.ions, 0);
+    const detected = blocks.reduce((a, b) => a + b.detected, 0);
+    const from = ens.speciesStart[first];
+    const to = ens.speciesStart[end];
     species.push({
-      label: info.label,
-      mz: info.mz,
-      charge: info.charge,
-      ions: to - from,
+      ...blocks[main],
+      label: blocks[main].label.replace(/ M\+\d+$/, ''),
+      mz: blocks[mono].mz,
+      ions,
       detected,
-      transmission: to > from ? detected / (to - from) : 0,
-      flightTime_ns: nsOrNull(stats.mean_s),
-      medianFlightTime_ns: nsOrNull(stats.median_s),
-      sdFlightTime_ns: nsOrNull(stats.sd_s),
-      fwhm_ns: nsOrNull(stats.fwhm_s),
-      fwhmShortest_ns: nsOrNull(stats.fwhmShortest_s),
-      resolvingPower: stats.resolvingPower,
-      resolvingPowerShortest: stats.resolvingPowerShortest,
+      transmission: ions > 0 ? detected / ions : 0,
       fates: countFates(trace.fate, from, to),
-      peak: null,
-      massError_ppm: null,
+      mainBlock: first + main,
+      isotopePeaks: blocks.map((b, j) => ({
+        mz: b.mz,
+        abundance: ens.species[first + j].isotopeFraction ?? 0,
+        shift: ens.species[first + j].isotopeShift ?? 0,
+        flightTime_ns: b.flightTime_ns,
+        fwhm_ns: b.fwhm_ns,
+        resolvingPower: b.resolvingPower,
+        transmission: b.transmission,
+      })),
     });
   }
   const fates = countFates(trace.fate);

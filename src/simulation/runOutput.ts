@@ -1,6 +1,7 @@
 /** Turns a simulation result into the engine service's `RunOutput` (shared by the worker and in-process callers). */
 import type { RunOutput, RunRequest } from '../tuning/api';
 import { simulate } from './run';
+import { speciesIonStart } from './report';
 
 export function runRequest(request: RunRequest, now: () => number = () => performance.now()): RunOutput {
   const start = now();
@@ -9,7 +10,8 @@ export function runRequest(request: RunRequest, now: () => number = () => perfor
     report: result.report,
     flightTime_s: result.trace.flightTime_s,
     fate: result.trace.fate,
-    speciesStart: result.ensemble.speciesStart,
+    // Per reported species (a species' isotope peaks together), matching report.species.
+    speciesStart: speciesIonStart(result.ensemble),
     elapsed_ms: now() - start,
   };
 }

@@ -20,7 +20,7 @@ export interface RunOutput {
   /** Per-ion flight times (s) and fate codes, same order as the ensemble (species blocks). */
   readonly flightTime_s: Float64Array;
   readonly fate: Uint8Array;
-  /** Species block boundaries, length species + 1. */
+  /** Ion index boundaries per reported species (all of its isotope peaks), length species + 1. */
   readonly speciesStart: Int32Array;
   /** Wall-clock time the run took inside the engine (ms), for the app's status line. */
   readonly elapsed_ms: number;
