@@ -197,9 +197,16 @@ const speciesSchema = z
     if (s.formula === undefined) {
       if (s.adduct !== undefined) ctx.addIssue({ code: 'custom', path: ['formula'], message: 'is required with an adduct' });
       if (s.mz === undefined) ctx.addIssue({ code: 'custom', path: ['mz'], message: 'give either mz or a formula with an adduct' });
-      return { ...s, mz: s.mz ?? 0 };
     }
-    return { ...s, mz: s.mz ?? 0, adduct: s.adduct ?? 'protonated' };
+    // One key order whatever the input's, so that a preset saved and read back gives the same text;
+    // a formula species' mz is filled in from its chemistry when the preset is loaded.
+    return {
+      ...(s.label === undefined ? {} : { label: s.label }),
+      mz: s.mz ?? 0,
+      ...(s.formula === undefined ? {} : { formula: s.formula, adduct: s.adduct ?? 'protonated' }),
+      charge: s.charge,
+      abundance: s.abundance,
+    };
   });
 
 const startPositionSchema = z.discriminatedUnion('kind', [

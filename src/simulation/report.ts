@@ -31,8 +31,8 @@ export interface SpeciesReport {
   readonly massError_ppm: number | null;
   /**
    * For a species given by formula: its traced isotopologue peaks (m/z, fraction of the species,
-   * flight time, FWHM, R). The species' own figures above are those of its most abundant peak,
-   * except ions/detected/transmission/fates, which count all its peaks. Empty for a species given by m/z.
+   * flight time, FWHM, R). The species' own figures above are those of its monoisotopic peak (as m/z
+   * is), except ions/detected/transmission/fates, which count all its peaks. Empty for a species given by m/z.
    */
   readonly isotopePeaks: IsotopePeakReport[];
   /** Index of the ensemble block (isotope peak) whose figures the species reports. */
@@ -138,13 +138,12 @@ export function buildReport(ens: Ensemble, trace: TraceResult): RunReport {
     }
     const blocks = [];
     for (let b = first; b < end; b++) blocks.push(blockReport(ens, trace, b));
+    // The monoisotopic peak speaks for the species (its m/z is the species' m/z); failing that, the largest.
     let main = 0;
-    let mono = 0;
     for (let j = 0; j < blocks.length; j++) {
-      const info = ens.species[first + j];
-      if ((info.isotopeFraction ?? 0) > (ens.species[first + main].isotopeFraction ?? 0)) main = j;
-      if (info.isotopeShift === 0) mono = j;
+      if ((ens.species[first + j].isotopeFraction ?? 0) > (ens.species[first + main].isotopeFraction ?? 0)) main = j;
     }
+    for (let j = 0; j < blocks.length; j++) if (ens.species[first + j].isotopeShift === 0) main = j;
     const ions = blocks.reduce((a, b) => a + b.ions, 0);
     const detected = blocks.reduce((a, b) => a + b.detected, 0);
     const from = ens.speciesStart[first];
@@ -152,7 +151,6 @@ export function buildReport(ens: Ensemble, trace: TraceResult): RunReport {
     species.push({
       ...blocks[main],
       label: blocks[main].label.replace(/ M\+\d+$/, ''),
-      mz: blocks[mono].mz,
       ions,
       detected,
       transmission: ions > 0 ? detected / ions : 0,

@@ -11,7 +11,7 @@ import { accumulate, binCentres, binsForWidth, detectedExtent, paddedRange } fro
 import { axis, chartSize, fitChart, followSize, withAlpha } from '../charts/theme';
 import { byId, el } from '../dom';
 import { fixed, formatR, percent, signed } from '../format';
-import { demo, demos } from '../presets/demos';
+import { demo, demos, type Demo } from '../presets/demos';
 import { buildRunView } from '../results/runView';
 import { speciesColours } from '../colors';
 import { describeSetup, diffSpecies, otherMode, runFigures } from './compareModel';
@@ -59,7 +59,7 @@ export class CompareView {
     const working = this.app.working();
     if (choice === 'other-mode') return otherMode(working, demo('dual'));
     if (choice === 'snapshot') return this.snapshot ?? (this.snapshot = structuredClone(working));
-    if (choice.startsWith('demo:')) return demo(choice.slice(5) as 'linear' | 'single' | 'dual');
+    if (choice.startsWith('demo:')) return demo(choice.slice(5) as Demo['id']);
     if (choice.startsWith('record:') && this.app.store) return (await this.app.store.get(choice.slice(7)))?.preset ?? null;
     return null;
   }

@@ -2,12 +2,13 @@
 import demoLinear from '../../../presets/demo-linear-delayed.json';
 import demoSingle from '../../../presets/demo-reflectron-single.json';
 import demoDual from '../../../presets/demo-reflectron-dual.json';
+import demoIsotopes from '../../../presets/demo-peptide-isotopes.json';
 import { validatePreset } from '../../presets/load';
 import { formatIssues } from '../../presets/issues';
 import type { Preset } from '../../presets/schema';
 
 export interface Demo {
-  readonly id: 'linear' | 'single' | 'dual';
+  readonly id: 'linear' | 'single' | 'dual' | 'isotopes';
   readonly preset: Preset;
 }
 
@@ -25,6 +26,7 @@ export function demos(): Demo[] {
     { id: 'linear', preset: checked(demoLinear, 'linear') },
     { id: 'single', preset: checked(demoSingle, 'single') },
     { id: 'dual', preset: checked(demoDual, 'dual') },
+    { id: 'isotopes', preset: checked(demoIsotopes, 'isotopes') },
   ];
   return cache;
 }
