@@ -15,6 +15,7 @@
  * order 1 (first-order focus, Wiley & McLaren 1955): only the first term is negligible; order 2
  * (second-order focus): both are.
  */
+import { createRootReport, findRootBrent } from '../physics/integrator';
 import { ELEMENTARY_CHARGE_C } from '../physics/constants';
 
 /** Flight time (s) of the reference ion from start position z0 (m) and axial start energy U0 (J). */
@@ -232,78 +233,9 @@ export function findSpaceFocusPlane(
   }
   const k = crossings[0];
   if (slopes[k] === 0) return { driftLength_m: drifts[k], driftLength_mm: drifts[k] * 1e3, otherCrossings: crossings.length - 1, iterations: 0 };
-  const root = brentRoot(slope, drifts[k], drifts[k + 1], slopes[k], slopes[k + 1], 1e-12 * (hi - lo), 100);
+  const report = createRootReport();
+  const x = findRootBrent({ evaluate: slope }, drifts[k], drifts[k + 1], slopes[k], slopes[k + 1], 0.5e-12 * (hi - lo), 100, report);
+  const root = { x, iterations: report.evaluations };
   if (failed) return { driftLength_m: null, reason: 'flight time not finite around z0 while refining the focus' };
   return { driftLength_m: root.x, driftLength_mm: root.x * 1e3, otherCrossings: crossings.length - 1, iterations: root.iterations };
-}
-
-/**
- * Zero of f in [a, b] with f(a)·f(b) < 0 by Brent's method (inverse quadratic interpolation with
- * bisection safeguard), in the form given by Press et al., Numerical Recipes 3rd ed., §9.3.
- */
-export function brentRoot(
-  f: (x: number) => number,
-  a: number,
-  b: number,
-  fa: number,
-  fb: number,
-  tolerance: number,
-  maxIterations: number,
-): { x: number; iterations: number } {
-  let c = b;
-  let fc = fb;
-  let d = b - a;
-  let e = d;
-  for (let iter = 1; iter <= maxIterations; iter++) {
-    if ((fb > 0 && fc > 0) || (fb < 0 && fc < 0)) {
-      c = a;
-      fc = fa;
-      d = b - a;
-      e = d;
-    }
-    if (Math.abs(fc) < Math.abs(fb)) {
-      a = b;
-      b = c;
-      c = a;
-      fa = fb;
-      fb = fc;
-      fc = fa;
-    }
-    const tol1 = 2 * Number.EPSILON * Math.abs(b) + 0.5 * tolerance;
-    const xm = 0.5 * (c - b);
-    if (Math.abs(xm) <= tol1 || fb === 0) return { x: b, iterations: iter };
-    if (Math.abs(e) >= tol1 && Math.abs(fa) > Math.abs(fb)) {
-      const s = fb / fa;
-      let p: number;
-      let q: number;
-      if (a === c) {
-        p = 2 * xm * s;
-        q = 1 - s;
-      } else {
-        const qa = fa / fc;
-        const r = fb / fc;
-        p = s * (2 * xm * qa * (qa - r) - (b - a) * (r - 1));
-        q = (qa - 1) * (r - 1) * (s - 1);
-      }
-      if (p > 0) q = -q;
-      p = Math.abs(p);
-      const min1 = 3 * xm * q - Math.abs(tol1 * q);
-      const min2 = Math.abs(e * q);
-      if (2 * p < Math.min(min1, min2)) {
-        e = d;
-        d = p / q;
-      } else {
-        d = xm;
-        e = d;
-      }
-    } else {
-      d = xm;
-      e = d;
-    }
-    a = b;
-    fa = fb;
-    b += Math.abs(d) > tol1 ? d : xm >= 0 ? tol1 : -tol1;
-    fb = f(b);
-  }
-  return { x: b, iterations: maxIterations };
 }
