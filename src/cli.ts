@@ -11,6 +11,7 @@ import { formatCsv, formatTable } from './simulation/format';
 import { isTuningCommand, runTuningCommand, type TuningCliOptions } from './cli/tuningCommand';
 import { TUNING_USAGE } from './cli/tuningArgs';
 import type { SpectrumSection } from './simulation/analysisReport';
+import { compareWithIdeal, formatIdealComparison } from './simulation/idealComparison';
 
 export const USAGE = `Usage: npm run sim -- <preset.json> [--json | --csv] [--ions N] [--seed S]
 
@@ -20,6 +21,8 @@ export const USAGE = `Usage: npm run sim -- <preset.json> [--json | --csv] [--io
   --ions N        override the preset's ion count (${LIMITS.ions.min}..${LIMITS.ions.max})
   --seed S        override the preset's random seed (${LIMITS.seed.min}..${LIMITS.seed.max})
   --spectrum      with --json: add the simulated spectrum (time_ns, intensity, mz arrays; needs "acquisition")
+  --compare-ideal also run the same instrument with ideal grids in place of solved fields and print both
+                  (flight time, FWHM, R, transmission; in --json as "idealComparison")
   --help          show this text
 
 ${TUNING_USAGE}`;
@@ -28,6 +31,7 @@ export interface CliArgs {
   presetPath: string;
   format: 'table' | 'json' | 'csv';
   spectrum?: boolean;
+  compareIdeal?: boolean;
   ions?: number;
   seed?: number;
 }
@@ -41,11 +45,14 @@ export function parseArgs(argv: readonly string[]): ArgsResult {
   let ions: number | undefined;
   let seed: number | undefined;
   let spectrum = false;
+  let compareIdeal = false;
   for (let i = 0; i < argv.length; i++) {
     const arg = argv[i];
     if (arg === '--help' || arg === '-h') return { ok: false, issues: [], help: true };
     if (arg === '--spectrum') {
       spectrum = true;
+    } else if (arg === '--compare-ideal') {
+      compareIdeal = true;
     } else if (arg === '--json' || arg === '--csv') {
       format = arg === '--json' ? 'json' : 'csv';
     } else if (arg === '--ions' || arg === '--seed') {
@@ -68,7 +75,7 @@ export function parseArgs(argv: readonly string[]): ArgsResult {
   if (issues.length || presetPath === undefined) return { ok: false, issues };
   if (spectrum && format !== 'json') issues.push({ path: '--spectrum', message: 'needs --json' });
   if (issues.length) return { ok: false, issues };
-  return { ok: true, args: { presetPath, format, ions, seed, spectrum } };
+  return { ok: true, args: { presetPath, format, ions, seed, spectrum, compareIdeal } };
 }
 
 export interface CliIo {
@@ -119,6 +126,7 @@ export function main(argv: readonly string[], io: CliIo = processIo, options: Tu
   }
   const result = simulate(loaded.value, { ions: args.ions, seed: args.seed, withSpectrum: args.spectrum });
   const preset = loaded.value;
+  const comparison = args.compareIdeal ? compareWithIdeal(preset, result.report, { ions: args.ions, seed: args.seed }) : null;
   if (args.format === 'json') {
     const out = {
       preset: preset.name,
@@ -130,12 +138,15 @@ export function main(argv: readonly string[], io: CliIo = processIo, options: Tu
       calibration: result.report.calibration,
       focus: result.report.focus,
       ...(args.spectrum ? { spectrum: spectrumJson(result.analysis.spectrum) } : {}),
+      ...(comparison ? { idealComparison: comparison } : {}),
     };
     io.out(JSON.stringify(out) + '\n');
   } else if (args.format === 'csv') {
     io.out(formatCsv(result.report));
+    if (comparison) io.err(formatIdealComparison(comparison)); // keeps stdout a clean CSV
   } else {
     io.out(formatTable(preset, result));
+    if (comparison) io.out(formatIdealComparison(comparison));
   }
   return 0;
 }

@@ -4,6 +4,8 @@
  * src/presets/compile.ts; read by the engines. Positions along the axis are measured from the
  * repeller; the mirror is unfolded, so "path" lengths after the source add up along the flight.
  */
+import type { SolvedMirrorModel } from './solvedMirror';
+import type { SolvedSourceModel } from './solvedSource';
 
 /** Potential of one electrode plane: `hold_V` until `switch_s`, then `final_V` (an ideal step). */
 export interface ElectrodeDrive {
@@ -38,6 +40,8 @@ export interface SourceModel {
   /** Transmission of each plane (index as `planes`; the repeller's entry is unused), 1 = fully open. */
   readonly planeTransmission: readonly number[];
   readonly rise: RiseModel;
+  /** Plates with apertures and a solved field instead of the ideal grids (src/physics/solvedSource.ts). */
+  readonly solved?: SolvedSourceModel | null;
 }
 
 export interface MirrorStage {
@@ -63,6 +67,8 @@ export interface MirrorModel {
   /** Transmission of the grid closing each stage except the last (the back plate), then of the entrance grid. */
   readonly entranceGridTransmission: number;
   readonly innerGridTransmission: readonly number[];
+  /** Gridless mirror with a solved field (src/physics/solvedMirror.ts); stages and profile are then unused. */
+  readonly solved?: SolvedMirrorModel | null;
 }
 
 export interface PostAccelerationModel {
@@ -95,7 +101,12 @@ export interface AnalyserModel {
 
 /** True when some region has no closed form and must be integrated. */
 export function needsIntegrator(model: AnalyserModel): boolean {
-  return model.forceIntegrator || model.source.rise.kind !== 'step' || (model.mirror?.profile ?? null) !== null;
+  return model.forceIntegrator || model.source.rise.kind !== 'step' || (model.mirror?.profile ?? null) !== null || hasSolvedRegion(model);
+}
+
+/** True when some region's field is solved: ions are traced in 3-D there and the tracer fills the detector-plane position. */
+export function hasSolvedRegion(model: AnalyserModel): boolean {
+  return (model.mirror?.solved ?? null) !== null || (model.source.solved ?? null) !== null;
 }
 
 /** Total source depth (repeller to ground grid). */

@@ -8,8 +8,11 @@
  * per-species `ExactPlan`, both reused, so the per-ion loop allocates nothing.
  */
 import type { AnalyserModel } from './analyser';
+import { hasSolvedRegion } from './analyser';
 import { chargeToMass_C_per_kg } from './constants';
 import { Fate } from './fates';
+import { mirrorSolved, startTransverse, transverseX, transverseY, type SolvedMirrorModel } from './solvedMirror';
+import { sourceSolved, type SolvedSourceModel } from './solvedSource';
 import { createMotion, crossForward, Crossing, enterStage, firstExit } from './uniformField';
 import type { Ensemble, TraceResult } from '../ions/ensemble';
 
@@ -50,9 +53,14 @@ export interface ExactPlan {
   postAcceleration: number;
   postGridTransmission: number;
   maxFlightTime_s: number;
+  /** Gridless mirror with a solved field (traced in 3-D, src/physics/solvedMirror.ts); null otherwise. */
+  solvedMirror: SolvedMirrorModel | null;
+  /** Source with a solved field (traced in 3-D from the start, src/physics/solvedSource.ts); null otherwise. */
+  solvedSource: SolvedSourceModel | null;
 }
 
-const MAX_STAGES = 8;
+// Enough for tabulated mirror profiles, which become one uniform stage per table segment.
+const MAX_STAGES = 256;
 
 export function createExactPlan(): ExactPlan {
   return {
@@ -73,6 +81,8 @@ export function createExactPlan(): ExactPlan {
     postAcceleration: 0,
     postGridTransmission: 1,
     maxFlightTime_s: 0,
+    solvedMirror: null,
+    solvedSource: null,
   };
 }
 
@@ -110,6 +120,8 @@ export function prepareExactPlan(plan: ExactPlan, model: AnalyserModel, mz: numb
   plan.postAcceleration = post ? (k * (model.drift.potential_V - post.potential_V)) / post.gap_m : 0;
   plan.postGridTransmission = post ? post.gridTransmission : 1;
   plan.maxFlightTime_s = model.maxFlightTime_s;
+  plan.solvedMirror = model.mirror?.solved ?? null;
+  plan.solvedSource = model.source.solved ?? null;
   return plan;
 }
 
@@ -217,8 +229,9 @@ export function postAccelerateExact(st: IonState, plan: ExactPlan): boolean {
 /** Everything after the source: drift, mirror and return drift (if any), post-acceleration, detector. */
 export function flyAfterSourceExact(st: IonState, plan: ExactPlan): void {
   if (!driftExact(st, plan.driftLength_m)) return;
-  if (plan.mirrorStageCount > 0) {
-    if (!mirrorExact(st, plan)) return;
+  if (plan.mirrorStageCount > 0 || plan.solvedMirror !== null) {
+    // A solved mirror has no closed form: it is traced in 3-D (the rest stays closed-form).
+    if (!(plan.solvedMirror === null ? mirrorExact(st, plan) : mirrorSolved(st, plan, plan.solvedMirror, plan.maxFlightTime_s))) return;
     if (!driftExact(st, plan.returnLength_m)) return;
   }
   if (!postAccelerateExact(st, plan)) return;
@@ -227,7 +240,8 @@ export function flyAfterSourceExact(st: IonState, plan: ExactPlan): void {
 
 /** One ion from its start to its fate, entirely in closed form. */
 export function traceOneExact(st: IonState, plan: ExactPlan): void {
-  if (holdExact(st, plan) && extractExact(st, plan)) flyAfterSourceExact(st, plan);
+  const leftSource = plan.solvedSource === null ? holdExact(st, plan) && extractExact(st, plan) : sourceSolved(st, plan, plan.solvedSource, plan.maxFlightTime_s);
+  if (leftSource) flyAfterSourceExact(st, plan);
   if (st.fate === Fate.TIMED_OUT || !(st.t <= plan.maxFlightTime_s)) {
     st.fate = Fate.TIMED_OUT;
     st.t = plan.maxFlightTime_s;
@@ -242,6 +256,8 @@ export function traceExact(model: AnalyserModel, ens: Ensemble, out: TraceResult
   const { z0_m, vz0_m_per_s } = ens;
   const { flightTime_s, fate, finalSpeed_m_per_s, weight } = out;
   const st = scratchState;
+  // Solved regions bend transverse paths: the detector-plane position comes from where the ion left them.
+  const solved = hasSolvedRegion(model);
   for (let s = 0; s < ens.species.length; s++) {
     const plan = prepareExactPlan(scratchPlan, model, ens.species[s].mz);
     const end = ens.speciesStart[s + 1];
@@ -251,13 +267,19 @@ export function traceExact(model: AnalyserModel, ens: Ensemble, out: TraceResult
       st.v = vz0_m_per_s[i];
       st.fate = Fate.UNSET;
       st.w = 1;
+      if (solved) startTransverse(ens.x0_m[i], ens.y0_m[i], ens.vx0_m_per_s[i], ens.vy0_m_per_s[i]);
       traceOneExact(st, plan);
+      if (solved) {
+        out.detectorX_m[i] = transverseX(st.t);
+        out.detectorY_m[i] = transverseY(st.t);
+      }
       flightTime_s[i] = st.t;
       fate[i] = st.fate;
       finalSpeed_m_per_s[i] = st.fate === Fate.DETECTED ? Math.abs(st.v) : 0;
       weight[i] = st.w;
     }
   }
+  if (solved) startTransverse(0, 0, 0, 0); // single-ion callers trace on the axis
 }
 
 /**
@@ -270,10 +292,12 @@ export function applyDetectorPlane(model: AnalyserModel, ens: Ensemble, out: Tra
   const r2 = aperture ? aperture.radius_m * aperture.radius_m : Infinity;
   const cx = aperture ? aperture.centreX_m : 0;
   const cy = aperture ? aperture.centreY_m : 0;
+  // Solved-field regions change the transverse velocity: there the tracer has filled the positions.
+  const filledByTracer = hasSolvedRegion(model);
   for (let i = 0; i < ens.count; i++) {
     const t = out.flightTime_s[i];
-    const x = ens.x0_m[i] + ens.vx0_m_per_s[i] * t;
-    const y = ens.y0_m[i] + ens.vy0_m_per_s[i] * t;
+    const x = filledByTracer ? out.detectorX_m[i] : ens.x0_m[i] + ens.vx0_m_per_s[i] * t;
+    const y = filledByTracer ? out.detectorY_m[i] : ens.y0_m[i] + ens.vy0_m_per_s[i] * t;
     out.detectorX_m[i] = x;
     out.detectorY_m[i] = y;
     if (out.fate[i] === Fate.DETECTED && (x - cx) * (x - cx) + (y - cy) * (y - cy) > r2) out.fate[i] = Fate.MISSED_DETECTOR;

@@ -4,6 +4,7 @@
  * everywhere when the model asks for the integrator as a cross-check. Same fates as the exact engine.
  */
 import type { AnalyserModel } from './analyser';
+import { hasSolvedRegion } from './analyser';
 import {
   createExactPlan,
   createIonState,
@@ -18,6 +19,8 @@ import {
 } from './exactEngine';
 import { Fate } from './fates';
 import { Exit, crossProfileNumeric, crossSourceStageNumeric, crossUniformNumeric } from './numericRegions';
+import { mirrorSolved, startTransverse, transverseX, transverseY } from './solvedMirror';
+import { sourceSolved } from './solvedSource';
 import { nextBreakpoint_s, settleTime_s, switchStart_s } from './waveforms';
 import type { Ensemble, TraceResult } from '../ions/ensemble';
 
@@ -131,7 +134,9 @@ export function traceOneMixed(st: IonState, plan: ExactPlan, model: AnalyserMode
   const src = model.source;
   const numericSource = forced || src.rise.kind !== 'step';
   let alive: boolean;
-  if (!numericSource) {
+  if (src.solved) {
+    alive = sourceSolved(st, plan, src.solved, tLimit);
+  } else if (!numericSource) {
     alive = holdExactUntil(st, plan, plan.delay_s) && extractExact(st, plan);
   } else {
     // Before the potentials start to change the hold field is static: closed form unless forced.
@@ -139,7 +144,8 @@ export function traceOneMixed(st: IonState, plan: ExactPlan, model: AnalyserMode
   }
   if (alive) alive = forced ? driftNumeric(st, plan.driftLength_m, tLimit) : driftExact(st, plan.driftLength_m);
   if (alive && model.mirror) {
-    if (model.mirror.profile) alive = mirrorProfileNumeric(st, plan, model);
+    if (model.mirror.solved) alive = mirrorSolved(st, plan, model.mirror.solved, tLimit);
+    else if (model.mirror.profile) alive = mirrorProfileNumeric(st, plan, model);
     else alive = forced ? mirrorStagesNumeric(st, plan, tLimit) : mirrorExact(st, plan);
     if (alive) alive = forced ? driftNumeric(st, plan.returnLength_m, tLimit) : driftExact(st, plan.returnLength_m);
   }
@@ -158,6 +164,8 @@ const scratchState = createIonState();
 /** Trace every ion of `ens` with the mixed tracer, writing into `out`. */
 export function traceMixed(model: AnalyserModel, ens: Ensemble, out: TraceResult): void {
   const st = scratchState;
+  // Solved regions bend transverse paths: the detector-plane position comes from where the ion left them.
+  const solved = hasSolvedRegion(model);
   for (let s = 0; s < ens.species.length; s++) {
     const plan = prepareExactPlan(scratchPlan, model, ens.species[s].mz);
     const end = ens.speciesStart[s + 1];
@@ -167,11 +175,17 @@ export function traceMixed(model: AnalyserModel, ens: Ensemble, out: TraceResult
       st.v = ens.vz0_m_per_s[i];
       st.fate = Fate.UNSET;
       st.w = 1;
+      if (solved) startTransverse(ens.x0_m[i], ens.y0_m[i], ens.vx0_m_per_s[i], ens.vy0_m_per_s[i]);
       traceOneMixed(st, plan, model);
+      if (solved) {
+        out.detectorX_m[i] = transverseX(st.t);
+        out.detectorY_m[i] = transverseY(st.t);
+      }
       out.flightTime_s[i] = st.t;
       out.fate[i] = st.fate;
       out.finalSpeed_m_per_s[i] = st.fate === Fate.DETECTED ? Math.abs(st.v) : 0;
       out.weight[i] = st.w;
     }
   }
+  startTransverse(0, 0, 0, 0); // single-ion callers trace on the axis
 }

@@ -8,6 +8,8 @@ import { ELEMENTARY_CHARGE_C } from '../physics/constants';
 import { mmToM, nsToS } from '../physics/units';
 import type { SpeciesInfo } from '../ions/ensemble';
 import { NO_TRANSVERSE, type PopulationSpec, type StartPositionSpec, type StartVelocitySpec, type TransverseSpec } from '../ions/population';
+import { checkSolvedMirror, checkSolvedSource, compileSolvedMirror, compileSolvedSource } from './compileFields';
+import type { SolvedSourceModel } from '../physics/solvedSource';
 import type { PresetIssue } from './issues';
 import { isotopeBlocks, resolveChemistry } from './speciesChemistry';
 import type { Preset } from './schema';
@@ -66,6 +68,8 @@ export function checkPreset(preset: Preset): PresetIssue[] {
       issues.push({ path: 'mirror.profile.points', message: `the last point's depth (${last} mm) must equal mirror.depth_mm (${m.depth_mm} mm), where the back plate is` });
     }
   }
+  if (m.type === 'solved') issues.push(...checkSolvedMirror(m, preset.drift.potential_V));
+  if (preset.source.solved) issues.push(...checkSolvedSource(preset));
   const acq = preset.acquisition;
   if (acq && acq.recordLength_us !== undefined && (acq.recordLength_us * 1e3) / acq.sampleInterval_ns > 1 << 24) {
     issues.push({ path: 'acquisition.recordLength_us', message: `gives more than ${1 << 24} samples at this sample interval` });
@@ -124,6 +128,9 @@ export function compilePreset(preset: Preset): CompiledPreset {
     maxFlightTime_s: MAX_FLIGHT_TIME_S,
     forceIntegrator: preset.run.engine === 'integrator',
   };
+
+  // A solved source needs the compiled waveform (planes, delay, rise) of the ideal source model.
+  if (src.solved) (model.source as { solved?: SolvedSourceModel | null }).solved = compileSolvedSource(preset, model.source);
 
   const species: SpeciesInfo[] = preset.ions.species.flatMap((s, parent): SpeciesInfo[] => {
     const label = s.label ?? (s.formula ? `${s.formula} ${s.adduct}` : `m/z ${s.mz}${s.charge > 1 ? ` (${s.charge}${preset.polarity === 'positive' ? '+' : '−'})` : ''}`);
@@ -219,6 +226,15 @@ function mirrorModel(mirror: Preset['mirror'], driftPotential: number): MirrorMo
   switch (mirror.type) {
     case 'none':
       return null;
+    case 'solved':
+      return {
+        stages: [],
+        profile: null,
+        returnLength_m: mmToM(mirror.returnLength_mm),
+        entranceGridTransmission: 1,
+        innerGridTransmission: [],
+        solved: compileSolvedMirror(mirror, driftPotential),
+      };
     case 'single':
     case 'dual':
       return {

@@ -12,7 +12,7 @@ import { fillChemistryMz } from './speciesChemistry';
 /** Allowed values of the discriminating keys, for messages. */
 const DISCRIMINATOR_VALUES: Record<string, string> = {
   mode: '"static", "delayed"',
-  type: '"none", "single", "dual", "profile"',
+  type: '"none", "single", "dual", "profile", "solved"',
   shape: '"step", "linear", "exponential", "table"',
   kind: 'see presets/preset.schema.json for the kinds allowed here',
 };

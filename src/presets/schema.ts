@@ -5,6 +5,7 @@
  * are refused instead of being merged into application state.
  */
 import { z } from 'zod';
+import { solvedMirrorSchema, solvedSourceSchema } from './fieldsSchema';
 
 // Zod compiles validators with `new Function` unless told not to; the app runs under a CSP without eval.
 z.config({ jitless: true });
@@ -110,6 +111,8 @@ const sourceSchema = z.strictObject({
   /** The source's last grid; it sits at the drift-tube potential. */
   groundGrid: groundGridSchema,
   extraction: extractionSchema,
+  /** Plates with apertures instead of ideal grids, field solved (src/presets/fieldsSchema.ts). */
+  solved: solvedSourceSchema.optional(),
 });
 
 const driftSchema = z.strictObject({
@@ -130,7 +133,7 @@ const axialProfileSchema = z.discriminatedUnion('kind', [
     points: z
       .array(z.tuple([ranged({ min: 0, max: LIMITS.mirrorStage_mm.max }, 'mm'), potential()]))
       .min(2)
-      .max(10_000)
+      .max(256, { error: 'at most 256 points (each segment is traced as a uniform stage)' })
       .refine((pts) => pts.every((p, i) => i === 0 || p[0] > pts[i - 1][0]), { error: 'depths must increase strictly' }),
   }),
 ]);
@@ -162,6 +165,8 @@ const mirrorSchema = z.discriminatedUnion('type', [
     returnLength_mm: ranged(LIMITS.driftLength_mm, 'mm', true),
     entranceGridTransmission: transmission(),
   }),
+  /** Gridless ring-stack mirror with a solved field (src/presets/fieldsSchema.ts). */
+  solvedMirrorSchema,
 ]);
 
 const detectorSchema = z.strictObject({

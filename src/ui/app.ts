@@ -31,6 +31,7 @@ import { buildRunView, type RunView } from './results/runView';
 import { peakTableCsv } from './results/peakCsv';
 import { AnalyserScene } from './scene/analyserScene';
 import { drawableModel } from './scene/drawableModel';
+import { fillEquipotentials } from './scene/equipotentials';
 import { buildLayout } from './scene/layout';
 import { createDrawnIons, traceDrawnIons } from './scene/paths';
 import { IdbPresetStore } from './storage/idbPresetStore';
@@ -212,7 +213,9 @@ export async function startApp(): Promise<void> {
     const compiled = compilePreset(job.preset);
     const drawable = drawableModel(compiled.model);
     if (scene) {
-      scene.setLayout(buildLayout(drawable.model, job.preset.detector.activeDiameter_mm));
+      const layout = buildLayout(drawable.model, job.preset.detector.activeDiameter_mm);
+      scene.setLayout(layout);
+      scene.setEquipotentials((buffer) => fillEquipotentials(compiled.model, layout, buffer));
       traceDrawnIons(drawn, { ...compiled, model: drawable.model });
       scene.setIons(drawn);
     }

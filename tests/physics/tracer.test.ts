@@ -38,9 +38,13 @@ describe('engine choice: exact engine and forced integrator agree', () => {
     const numeric = allocateTraceResult(ens.count);
     traceExact(model, ens, exact);
     traceMixed({ ...model, forceIntegrator: true }, ens, numeric);
+    // A solved (gridless) mirror has no closed form and is integrated on both paths; its adaptive 3-D
+    // integration turns the ~1e-11 entry differences into flight-time differences at its error level
+    // (relative ~1e-6, src/fields/solvedTracer.ts). Every other region must agree to rounding.
+    const tolerance = r.value.mirror.type === 'solved' ? 1e-5 : 1e-10;
     for (let i = 0; i < ens.count; i++) {
       expect(numeric.fate[i]).toBe(exact.fate[i]);
-      expect(Math.abs(numeric.flightTime_s[i] - exact.flightTime_s[i]) / exact.flightTime_s[i]).toBeLessThan(1e-10);
+      expect(Math.abs(numeric.flightTime_s[i] - exact.flightTime_s[i]) / exact.flightTime_s[i]).toBeLessThan(tolerance);
       expect(Math.abs(numeric.weight[i] - exact.weight[i])).toBeLessThan(1e-12);
     }
   });

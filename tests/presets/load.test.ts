@@ -57,7 +57,7 @@ describe('validation errors name the field and the allowed range', () => {
     });
     expect(issues).toContainEqual({ path: 'drift.length_mm', message: 'must be a number > 1 and ≤ 50000 mm' });
     expect(issues).toContainEqual({ path: 'run.seed', message: 'is required' });
-    expect(issues).toContainEqual({ path: 'mirror.type', message: 'is not one of the allowed values ("none", "single", "dual", "profile")' });
+    expect(issues).toContainEqual({ path: 'mirror.type', message: 'is not one of the allowed values ("none", "single", "dual", "profile", "solved")' });
   });
   it('not JSON, not an object, too large', () => {
     expect(parsePresetText('{').ok).toBe(false);

@@ -30,6 +30,7 @@ import {
 import { OrbitControls } from 'three/addons/controls/OrbitControls.js';
 import { Fate } from '../../physics/fates';
 import { potentialRgb } from '../colors';
+import { MAX_EQUIPOTENTIAL_SEGMENTS } from './equipotentials';
 import { MAX_MIRROR_RINGS, type FrameBox, type SceneLayout } from './layout';
 import { fillPaths, MAX_DRAWN_IONS, positionAt, type DrawnIons } from './paths';
 
@@ -82,6 +83,10 @@ export class AnalyserScene {
   private readonly detector: Mesh;
   private readonly paths: LineSegments;
   private readonly pathGeometry = new BufferGeometry();
+  /** Equipotential lines of solved regions, shown in the cut view (one buffer, allocated once). */
+  private readonly equipotentials: LineSegments;
+  private readonly equipotentialGeometry = new BufferGeometry();
+  private equipotentialCount = 0;
   private readonly packets: Points;
   private readonly packetGeometry = new BufferGeometry();
   private readonly packetPositions = new Float32Array(3 * MAX_DRAWN_IONS);
@@ -139,6 +144,14 @@ export class AnalyserScene {
     this.paths = new LineSegments(this.pathGeometry, this.keepMaterial(new LineBasicMaterial({ vertexColors: true, transparent: true, opacity: 0.75 })));
     this.paths.frustumCulled = false;
     this.scene.add(this.paths);
+
+    this.equipotentialGeometry.setAttribute('position', new BufferAttribute(new Float32Array(12 * MAX_EQUIPOTENTIAL_SEGMENTS), 3));
+    this.equipotentialGeometry.setDrawRange(0, 0);
+    this.geometries.push(this.equipotentialGeometry);
+    this.equipotentials = new LineSegments(this.equipotentialGeometry, this.keepMaterial(new LineBasicMaterial({ color: 0xe0b040, transparent: true, opacity: 0.7 })));
+    this.equipotentials.frustumCulled = false;
+    this.equipotentials.visible = false;
+    this.scene.add(this.equipotentials);
 
     this.packetGeometry.setAttribute('position', new BufferAttribute(this.packetPositions, 3));
     this.packetGeometry.setAttribute('color', new BufferAttribute(this.packetColours, 3));
@@ -232,6 +245,19 @@ export class AnalyserScene {
     this.requestRender();
   }
 
+  /**
+   * Equipotential lines (cut view only): `fill` writes line-segment vertices into the preallocated
+   * buffer and returns their count (see equipotentials.ts); 0 hides them.
+   */
+  setEquipotentials(fill: (buffer: Float32Array) => number): void {
+    const pos = this.equipotentialGeometry.getAttribute('position') as BufferAttribute;
+    this.equipotentialCount = fill(pos.array as Float32Array);
+    pos.needsUpdate = true;
+    this.equipotentialGeometry.setDrawRange(0, this.equipotentialCount);
+    this.equipotentials.visible = this.cut && this.equipotentialCount > 0;
+    this.requestRender();
+  }
+
   /** New drawn ions: paths written into the preallocated buffer, packets reset to the current time. */
   setIons(ions: DrawnIons): void {
     if (!this.layout) return;
@@ -306,6 +332,7 @@ export class AnalyserScene {
       m.clippingPlanes = on ? [this.cutPlane] : null;
       m.needsUpdate = true;
     }
+    this.equipotentials.visible = on && this.equipotentialCount > 0;
     this.requestRender();
   }
 

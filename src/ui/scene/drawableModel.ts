@@ -6,7 +6,16 @@
  * field (a linear ramp of length T acts like a step T/2 later, an RC edge of time constant τ like a
  * step τ later). The table and spectrum always come from the engine itself.
  */
+import { createFieldSample, sampleField } from '../../fields/interpolate';
 import type { AnalyserModel, MirrorStage } from '../../physics/analyser';
+import type { SolvedMirrorModel } from '../../physics/solvedMirror';
+
+/** Entry plane to the front face of the last solid electrode reaching the axis (the back plate). */
+export function solvedMirrorDepth_m(solved: SolvedMirrorModel): number {
+  let face = solved.region.farZ_m;
+  for (const e of solved.region.map.mesh.layout.electrodes) if (!e.transparent && e.rMin_m === 0) face = Math.min(face, e.zMin_m);
+  return face - solved.region.entryZ_m;
+}
 
 /** Slabs for a shaped mirror (the exact plan holds at most 8 stages). */
 export const PROFILE_SLABS = 8;
@@ -36,8 +45,25 @@ export function drawableModel(model: AnalyserModel): DrawableModel {
     source = { ...source, delay_s: source.delay_s + shift, rise: { kind: 'step' } };
     approximations.push(rise.kind === 'table' ? 'pulse drawn as a step at the delay' : 'pulse edge drawn as its equivalent step');
   }
+  if (source.solved) {
+    // An aperture (solved) source is drawn with ideal grids at the plates' positions.
+    source = { ...source, solved: null };
+    approximations.push('aperture source drawn with ideal grids');
+  }
   let mirror = model.mirror;
-  if (mirror && mirror.profile) {
+  if (mirror && mirror.solved) {
+    // A gridless (solved) mirror: slabs whose boundary potentials are the solved potential on the axis.
+    const solved = mirror.solved;
+    const depth_m = solvedMirrorDepth_m(mirror.solved);
+    const sample = createFieldSample();
+    const stages: MirrorStage[] = [];
+    for (let k = 1; k <= PROFILE_SLABS; k++) {
+      sampleField(solved.region.map, 0, solved.region.entryZ_m + (k * depth_m) / PROFILE_SLABS, sample);
+      stages.push({ length_m: depth_m / PROFILE_SLABS, exitPotential_V: solved.referencePotential_V + sample.potential_V });
+    }
+    mirror = { ...mirror, stages, profile: null, solved: null, innerGridTransmission: stages.slice(1).map(() => 1) };
+    approximations.push(`gridless mirror drawn as ${PROFILE_SLABS} uniform slabs of its solved axis potential`);
+  } else if (mirror && mirror.profile) {
     const { depth_m, coefficients_V } = mirror.profile;
     const stages: MirrorStage[] = [];
     for (let k = 1; k <= PROFILE_SLABS; k++) {
