@@ -4,10 +4,10 @@
  * both to relative residual 1e-9 (definition in src/fields/laplace.ts), from the same zero start.
  *
  * Reported:
- *  field_solve_s          multigrid solve, wall seconds (median of 5; the one-off setup is separate);
+ *  field_solve_s          multigrid solve, wall seconds (best of 5; the one-off setup is separate);
  *                         *_cpu_s figures are this process's CPU seconds, steadier on a shared machine
  *  field_mg_setup_s       building the Galerkin coarse grids (once per mesh, shared by all unit fields)
- *  field_sor_s            SOR with ω from the Lanczos estimate of the actual mesh's Jacobi radius
+ *  field_sor_s            SOR (best of 3) with ω from the Lanczos estimate of the actual mesh's Jacobi radius
  *                         (the best case for SOR; the estimate's own cost is field_sor_omega_s)
  *  field_sor_box_s        SOR with the cheap empty-can ω estimate (the SorSolver default)
  *  field_speedup          field_sor_s / field_solve_s (field_speedup_cpu: the same in CPU seconds)
@@ -84,7 +84,6 @@ function timed<T>(run: () => T): { wall_s: number; cpu_s: number; value: T } {
   return { wall_s, cpu_s: (cpu.user + cpu.system) / 1e6, value };
 }
 
-const median = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)];
 
 export function benchField(): Record<string, number | string> {
   // Warm the JIT on a small copy of the geometry so that neither solver pays for compilation.
@@ -105,13 +104,22 @@ export function benchField(): Record<string, number | string> {
   }
   const mgReport = mgRuns[mgRuns.length - 1].value;
   if (!mgReport.converged) throw new Error(`multigrid did not converge: ${mgReport.note}`);
-  const mgWall = median(mgRuns.map((r) => r.wall_s));
-  const mgCpu = median(mgRuns.map((r) => r.cpu_s));
+  // Best of the runs for both solvers: the least disturbed by other work on a shared machine.
+  const mgWall = Math.min(...mgRuns.map((r) => r.wall_s));
+  const mgCpu = Math.min(...mgRuns.map((r) => r.cpu_s));
 
   const spectrum = timed(() => jacobiSpectralRadius(mesh));
   const omega = 2 / (1 + Math.sqrt(1 - spectrum.value.rho * spectrum.value.rho));
-  const sorPhi = freshPotential(mesh);
-  const sor = timed(() => new SorSolver(mesh, omega).solve(sorPhi, { relativeTolerance: TOLERANCE }));
+  let sorPhi = freshPotential(mesh);
+  let sor = timed(() => new SorSolver(mesh, omega).solve(sorPhi, { relativeTolerance: TOLERANCE }));
+  for (let run = 1; run < 3; run++) {
+    const phi = freshPotential(mesh);
+    const again = timed(() => new SorSolver(mesh, omega).solve(phi, { relativeTolerance: TOLERANCE }));
+    if (again.wall_s < sor.wall_s) {
+      sor = again;
+      sorPhi = phi;
+    }
+  }
 
   const boxOmega = estimateSorOmega(mesh);
   const boxPhi = freshPotential(mesh);
