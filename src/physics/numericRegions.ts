@@ -74,7 +74,8 @@ function acceleration(c: RegionContext, t: number, x: number): number {
           return s >= c.riseTime_s ? c.aFinal : c.aHold + ((c.aFinal - c.aHold) * s) / c.riseTime_s;
         }
         case RISE_EXPONENTIAL:
-          return c.aHold - (c.aFinal - c.aHold) * Math.expm1(-(t - c.delay_s) / c.riseTime_s);
+          // 1 − e^{−s/τ} with exp rather than expm1: faster, and its absolute error (~1e-16·Δa) is negligible.
+          return c.aFinal - (c.aFinal - c.aHold) * Math.exp(-(t - c.delay_s) / c.riseTime_s);
         default: {
           const src = c.source!;
           return (c.qOverM * (planePotential_V(src, c.stage, t) - planePotential_V(src, c.stage + 1, t))) / c.gap_m;
