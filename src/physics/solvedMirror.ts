@@ -39,6 +39,15 @@ export interface TransverseRecord {
 
 export const transverse: TransverseRecord = { x0: 0, y0: 0, vx0: 0, vy0: 0, tRef: 0, xRef: 0, yRef: 0, vxRef: 0, vyRef: 0 };
 
+/** The ion left a solved region: its straight transverse motion continues from this state. */
+export function leftSolvedRegion(ion: { readonly t: number; readonly x: number; readonly y: number; readonly vx: number; readonly vy: number }): void {
+  transverse.tRef = ion.t;
+  transverse.xRef = ion.x;
+  transverse.yRef = ion.y;
+  transverse.vxRef = ion.vx;
+  transverse.vyRef = ion.vy;
+}
+
 /** Set the start of the next ion's transverse motion (zeros for an on-axis ion). */
 export function startTransverse(x0: number, y0: number, vx0: number, vy0: number): void {
   transverse.x0 = transverse.xRef = x0;
@@ -73,11 +82,7 @@ export function mirrorSolved(st: IonState, plan: ExactPlan, mirror: SolvedMirror
   ion.vz = st.v;
   const exit = traceSolvedRegion(ion, region, plan.qOverM, tLimit_s);
   st.t = ion.t;
-  transverse.tRef = ion.t;
-  transverse.xRef = ion.x;
-  transverse.yRef = ion.y;
-  transverse.vxRef = ion.vx;
-  transverse.vyRef = ion.vy;
+  leftSolvedRegion(ion);
   switch (exit) {
     case SolvedExit.ENTRY:
       st.v = -ion.vz; // speed along the unfolded return path

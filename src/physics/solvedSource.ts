@@ -11,7 +11,7 @@ import type { UnitFieldSet } from '../fields/unitSolutions';
 import type { SourceModel } from './analyser';
 import type { ExactPlan, IonState } from './exactEngine';
 import { Fate } from './fates';
-import { transverse } from './solvedMirror';
+import { leftSolvedRegion, transverse } from './solvedMirror';
 import { nextBreakpoint_s } from './waveforms';
 
 export interface SolvedSourceModel {
@@ -50,11 +50,7 @@ export function sourceSolved(st: IonState, plan: ExactPlan, source: SolvedSource
     if (exit !== SolvedExit.TIME_LIMIT || !(ion.t < tLimit_s)) break;
   }
   st.t = ion.t;
-  transverse.tRef = ion.t;
-  transverse.xRef = ion.x;
-  transverse.yRef = ion.y;
-  transverse.vxRef = ion.vx;
-  transverse.vyRef = ion.vy;
+  leftSolvedRegion(ion);
   switch (exit) {
     case SolvedExit.FAR:
       if (ion.t < source.timing.delay_s) {
