@@ -237,7 +237,7 @@ export async function startApp(): Promise<void> {
 
   const renderLegend = (preset: Preset, colours: string[], labels: string[], approximations: readonly string[]): void => {
     const items = labels.slice(0, 16).map((label, i) =>
-      el('li', {}, el('span', { className: 'swatch', 'data-colour': colours[i] }), `${label} · m/z ${preset.ions.species[i]?.mz ?? ''}`),
+      el('li', {}, el('span', { className: 'swatch', 'data-colour': colours[i] }), `${label} · m/z ${preset.ions.species[i]?.mz.toFixed(4) ?? ''}`),
     );
     legend.replaceChildren(
       el('ul', { 'aria-label': 'Ion species by m/z' }, ...items),
