@@ -18,8 +18,8 @@
  *
  * Run: npx tsx bench/integratorBench.ts  (prints the figures as JSON).
  */
-import { createRequire } from 'node:module';
 import os from 'node:os';
+import { OdexSolverClass } from '../tests/support/odex';
 import { pathToFileURL } from 'node:url';
 import { ATOMIC_MASS_CONSTANT_KG, ELEMENTARY_CHARGE_C } from '../src/physics/constants';
 import {
@@ -269,25 +269,6 @@ function measureErrors(speeds: Float64Array, gridTime: Float64Array, gridSpeed: 
   return { maxRelErrorGridTime, maxRelErrorGridSpeed, maxRelErrorFlightTime };
 }
 
-// --- odex (loaded through require: its package ships TypeScript sources that our strict
-// compiler settings would otherwise type-check) ---
-type OdexDense = (component: number, x: number) => number;
-interface OdexSolver {
-  absoluteTolerance: number | number[];
-  relativeTolerance: number | number[];
-  denseOutput: boolean;
-  maxSteps: number;
-  solve(
-    f: (x: number, y: number[]) => number[],
-    x0: number,
-    y0: number[],
-    xEnd: number,
-    solOut?: (n: number, xOld: number, x: number, y: number[], dense?: OdexDense) => boolean | void,
-  ): { y: number[]; outcome: number; nEval: number; nAccept: number; nReject: number };
-}
-const { Solver: OdexSolverClass } = createRequire(import.meta.url)('odex') as {
-  Solver: new (n: number) => OdexSolver;
-};
 
 function runOdex(rtol: number, speeds: Float64Array): RunFigures {
   const solver = new OdexSolverClass(2);

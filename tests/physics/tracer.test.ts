@@ -3,7 +3,6 @@
  * integrator everywhere on request. Checked against closed forms, an independent reference for the
  * rising pulse, textbook mechanics for the harmonic mirror, and the `odex` ODE solver from npm.
  */
-import { createRequire } from 'node:module';
 import { readFileSync, readdirSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { b2Preset, b2ReferenceFlightTime } from '../../bench/problems/b2';
@@ -19,6 +18,7 @@ import { parsePresetText, validatePreset } from '../../src/presets/load';
 import type { Preset, PresetInput } from '../../src/presets/schema';
 import { traceSingleIon } from '../../src/simulation/singleIon';
 import { buildModel } from '../helpers';
+import { OdexSolverClass } from '../support/odex';
 
 const load = (doc: unknown): Preset => {
   const r = validatePreset(doc);
@@ -152,19 +152,9 @@ describe('non-uniform mirrors', () => {
       const u = x / d;
       return (-qm * (coeffs[0] + 2 * coeffs[1] * u + 3 * coeffs[2] * u * u)) / d;
     };
-    type Dense = (c: number, x: number) => number;
-    const { Solver } = createRequire(import.meta.url)('odex') as {
-      Solver: new (n: number) => {
-        relativeTolerance: number;
-        maxStepSize: number;
-        absoluteTolerance: number | number[];
-        denseOutput: boolean;
-        solve(f: (t: number, y: number[]) => number[], t0: number, y0: number[], t1: number, out: (n: number, a: number, b: number, y: number[], dense?: Dense) => boolean | void): unknown;
-      };
-    };
     for (const U of [3_000, 8_000, 11_000]) {
       const v = Math.sqrt(2 * qm * U);
-      const solver = new Solver(2);
+      const solver = new OdexSolverClass(2);
       solver.relativeTolerance = 1e-12;
       solver.absoluteTolerance = [1e-16, 1e-9];
       solver.denseOutput = true;

@@ -3,7 +3,7 @@
  * Stoer extrapolation code, ported to JavaScript): a completely different method family, so
  * agreement to the tolerances is evidence that both are right.
  */
-import { createRequire } from 'node:module';
+import { OdexSolverClass } from '../../support/odex';
 import { describe, expect, it } from 'vitest';
 import {
   DOP853,
@@ -18,23 +18,6 @@ import {
 } from '../../../src/physics/integrator/index';
 import { ATOMIC_MASS_CONSTANT_KG, ELEMENTARY_CHARGE_C } from '../../../src/physics/constants';
 
-// odex is loaded through require: its package ships TypeScript sources that our strict compiler
-// settings would otherwise type-check. Only the parts used here are typed.
-type OdexDense = (component: number, x: number) => number;
-interface OdexSolver {
-  absoluteTolerance: number | number[];
-  relativeTolerance: number | number[];
-  denseOutput: boolean;
-  maxSteps: number;
-  solve(
-    f: (x: number, y: number[]) => number[],
-    x0: number,
-    y0: number[],
-    xEnd: number,
-    solOut?: (n: number, xOld: number, x: number, y: number[], dense?: OdexDense) => boolean | void,
-  ): { y: number[]; outcome: number; nEval: number };
-}
-const { Solver } = createRequire(import.meta.url)('odex') as { Solver: new (n: number) => OdexSolver };
 
 const TABLEAUS = [DOPRI5, DOP853] as const;
 const relative = (a: number, b: number): number => Math.abs(a - b) / Math.abs(b);
@@ -78,7 +61,7 @@ function exactArrival(v0: number): number {
 }
 
 function odexPulse(v0: number, sEnd: number, stopAtGrid: boolean): { s: number; y: number[] } {
-  const solver = new Solver(2);
+  const solver = new OdexSolverClass(2);
   solver.relativeTolerance = 1e-13;
   solver.absoluteTolerance = [1e-20, 1e-10];
   solver.denseOutput = true;
@@ -172,7 +155,7 @@ const angularMomentum = (y: ArrayLike<number>): number => y[0] * y[3] - y[1] * y
 describe('ion orbiting a charged wire (nonlinear field) against odex', () => {
   const T_END = 30; // several radial periods
   const odex = (): number[] => {
-    const solver = new Solver(4);
+    const solver = new OdexSolverClass(4);
     solver.relativeTolerance = 1e-14;
     solver.absoluteTolerance = 1e-14;
     solver.maxSteps = 100_000;
