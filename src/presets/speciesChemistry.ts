@@ -19,12 +19,25 @@ export const ISOTOPE_MIN_RELATIVE = 0.002;
 /** Fine-structure peaks closer than this relative m/z are traced as one (unresolved below R = 5·10^5). */
 export const ISOTOPE_MERGE_RELATIVE = 2e-6;
 
-/** Chemistry of one species, or issues keyed by the species' own field names. */
-export function resolveChemistry(fields: ChemistryFields): { ok: true; value: Species } | { ok: false; issues: { path: string; message: string }[] } {
+type ChemistryOutcome = { ok: true; value: Species } | { ok: false; issues: { path: string; message: string }[] };
+
+/** Loading a preset and compiling it both need a species' chemistry; scans do both at every point. */
+const memo = new Map<string, ChemistryOutcome>();
+const MEMO_SIZE = 64;
+
+/** Chemistry of one species, or issues keyed by the species' own field names (memoised; results are read-only). */
+export function resolveChemistry(fields: ChemistryFields): ChemistryOutcome {
+  const key = `${fields.formula}|${fields.adduct}|${fields.charge}|${fields.polarity}`;
+  const known = memo.get(key);
+  if (known) return known;
   const result = speciesFromFormula({ formula: fields.formula, adduct: fields.adduct, charge: fields.charge, polarity: fields.polarity });
-  if (result.ok) return result;
   // The chemistry module names its fields `formula`, `adduct`, `charge`, `polarity`; keep the first segment.
-  return { ok: false, issues: result.issues.map((i) => ({ path: i.path.split('.')[0] || 'formula', message: i.message })) };
+  const outcome: ChemistryOutcome = result.ok
+    ? result
+    : { ok: false, issues: result.issues.map((i) => ({ path: i.path.split('.')[0] || 'formula', message: i.message })) };
+  if (memo.size >= MEMO_SIZE) memo.delete(memo.keys().next().value as string);
+  memo.set(key, outcome);
+  return outcome;
 }
 
 /** Ensemble blocks for a species given by formula: its isotopologue peaks, merged and thresholded. */
