@@ -1,6 +1,7 @@
 /** Plain-text and CSV renderings of a run report (CLI output). */
 import { FATE_DESCRIPTIONS, FATE_KEYS, type FateCounts } from '../physics/fates';
 import type { Preset } from '../presets/schema';
+import { csvField } from './csv';
 import type { RunReport } from './report';
 import type { SimulationResult } from './run';
 
@@ -63,23 +64,21 @@ export function formatCsv(report: RunReport): string {
     'resolvingPowerShortest',
     ...FATE_KEYS.filter((k) => k !== 'unset').map((k) => `fate_${k}`),
   ];
-  const quote = (s: string): string => (/[",\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s);
-  const num = (x: number | null): string => (x === null ? '' : String(x));
   const rows = report.species.map((s) =>
     [
-      quote(s.label),
-      num(s.mz),
-      num(s.charge),
-      num(s.ions),
-      num(s.detected),
-      num(s.transmission),
-      num(s.flightTime_ns),
-      num(s.medianFlightTime_ns),
-      num(s.fwhm_ns),
-      num(s.fwhmShortest_ns),
-      num(s.resolvingPower),
-      num(s.resolvingPowerShortest),
-      ...FATE_KEYS.filter((k) => k !== 'unset').map((k) => num(s.fates[k])),
+      csvField(s.label),
+      csvField(s.mz),
+      csvField(s.charge),
+      csvField(s.ions),
+      csvField(s.detected),
+      csvField(s.transmission),
+      csvField(s.flightTime_ns),
+      csvField(s.medianFlightTime_ns),
+      csvField(s.fwhm_ns),
+      csvField(s.fwhmShortest_ns),
+      csvField(s.resolvingPower),
+      csvField(s.resolvingPowerShortest),
+      ...FATE_KEYS.filter((k) => k !== 'unset').map((k) => csvField(s.fates[k])),
     ].join(','),
   );
   return [cols.join(','), ...rows].join('\n') + '\n';

@@ -4,6 +4,7 @@
  * are empty fields. Used by "Copy CSV" and the CSV download alike.
  */
 import { FATE_KEYS } from '../../physics/fates';
+import { csvField } from '../../simulation/csv';
 import type { PeakRow } from './runView';
 
 export const PEAK_CSV_COLUMNS = [
@@ -22,12 +23,7 @@ export const PEAK_CSV_COLUMNS = [
   ...FATE_KEYS.filter((k) => k !== 'unset' && k !== 'detected').map((k) => `lost_${k}`),
 ] as const;
 
-export function csvField(value: string | number | boolean | null | undefined): string {
-  if (value === null || value === undefined) return '';
-  if (typeof value === 'number') return Number.isFinite(value) ? String(value) : '';
-  const text = String(value);
-  return /[",\r\n]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text;
-}
+export { csvField };
 
 export function peakTableCsv(rows: readonly PeakRow[]): string {
   const lines = [PEAK_CSV_COLUMNS.join(',')];
