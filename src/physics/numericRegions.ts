@@ -7,16 +7,17 @@
  */
 import type { PolynomialProfile, SourceModel } from './analyser';
 import {
+  AXIAL_HIGH,
+  AXIAL_TURN,
   DOP853,
   createResult,
   createRootReport,
   createSolveOptions,
   createWorkspace,
-  defineEvent,
-  defineProblem,
   evaluateDenseOutput,
   findRootBrent,
-  solve,
+  solveAxial,
+  type AxialForce,
   type ScalarFunction,
 } from './integrator';
 import { planePotential_V } from './waveforms';
@@ -32,84 +33,80 @@ const Law = {
 } as const;
 type Law = (typeof Law)[keyof typeof Law];
 
-interface RegionContext {
-  law: Law;
-  /** For source stages with a ramp or exponential rise: acceleration held, after the rise, and the rise shape. */
-  aHold: number;
-  aFinal: number;
-  delay_s: number;
-  riseKind: number;
-  riseTime_s: number;
-  /** Signed charge-to-mass ratio (C/kg). */
-  qOverM: number;
-  a: number;
-  source: SourceModel | null;
-  stage: number;
-  gap_m: number;
-  profile: PolynomialProfile | null;
-  lo: number;
-  hi: number;
-}
-
 const RISE_STEP = 0;
 const RISE_LINEAR = 1;
 const RISE_EXPONENTIAL = 2;
 const RISE_TABLE = 3;
 
-const ctx: RegionContext = { law: Law.Uniform, aHold: 0, aFinal: 0, delay_s: 0, riseKind: RISE_STEP, riseTime_s: 1, qOverM: 0, a: 0, source: null, stage: 0, gap_m: 1, profile: null, lo: 0, hi: 1 };
+/** The force of the region being crossed; one instance, reconfigured per crossing (no allocation). */
+class RegionForce implements AxialForce {
+  law: Law = Law.Uniform;
+  /** For source stages with a ramp or exponential rise: acceleration held, after the rise, and the rise shape. */
+  aHold = 0;
+  aFinal = 0;
+  delay_s = 0;
+  riseKind = RISE_STEP;
+  riseTime_s = 1;
+  /** 1/riseTime_s, so the exponential multiplies instead of dividing. */
+  inverseRiseTime_per_s = 1;
+  /** Signed charge-to-mass ratio (C/kg). */
+  qOverM = 0;
+  a = 0;
+  source: SourceModel | null = null;
+  stage = 0;
+  gap_m = 1;
+  profile: PolynomialProfile | null = null;
+  lo = 0;
+  hi = 1;
 
-function acceleration(c: RegionContext, t: number, x: number): number {
-  switch (c.law) {
-    case Law.Uniform:
-      return c.a;
-    case Law.SourceStage: {
-      // The stage field is uniform, so only the potential difference matters: for the analytic rises
-      // the acceleration itself follows the rise shape (one exponential per evaluation, not two).
-      if (t < c.delay_s && c.riseKind !== RISE_TABLE) return c.aHold;
-      switch (c.riseKind) {
-        case RISE_STEP:
-          return c.aFinal;
-        case RISE_LINEAR: {
-          const s = t - c.delay_s;
-          return s >= c.riseTime_s ? c.aFinal : c.aHold + ((c.aFinal - c.aHold) * s) / c.riseTime_s;
-        }
-        case RISE_EXPONENTIAL:
-          // 1 − e^{−s/τ} with exp rather than expm1: faster, and its absolute error (~1e-16·Δa) is negligible.
-          return c.aFinal - (c.aFinal - c.aHold) * Math.exp(-(t - c.delay_s) / c.riseTime_s);
-        default: {
-          const src = c.source!;
-          return (c.qOverM * (planePotential_V(src, c.stage, t) - planePotential_V(src, c.stage + 1, t))) / c.gap_m;
-        }
+  get uniformInSpace(): boolean {
+    return this.law !== Law.Polynomial;
+  }
+
+  acceleration(t: number, x: number): number {
+    switch (this.law) {
+      case Law.Uniform:
+        return this.a;
+      case Law.SourceStage:
+        return this.sourceStage(t);
+      default:
+        return this.polynomial(x);
+    }
+  }
+
+  private sourceStage(t: number): number {
+    // The stage field is uniform, so only the potential difference matters: for the analytic rises
+    // the acceleration itself follows the rise shape (one exponential per evaluation, not two).
+    if (t < this.delay_s && this.riseKind !== RISE_TABLE) return this.aHold;
+    switch (this.riseKind) {
+      case RISE_STEP:
+        return this.aFinal;
+      case RISE_LINEAR: {
+        const s = t - this.delay_s;
+        return s >= this.riseTime_s ? this.aFinal : this.aHold + ((this.aFinal - this.aHold) * s) / this.riseTime_s;
+      }
+      case RISE_EXPONENTIAL:
+        // 1 − e^{−s/τ} with exp rather than expm1: faster, and its absolute error (~1e-16·Δa) is negligible.
+        return this.aFinal - (this.aFinal - this.aHold) * Math.exp((this.delay_s - t) * this.inverseRiseTime_per_s);
+      default: {
+        const src = this.source!;
+        return (this.qOverM * (planePotential_V(src, this.stage, t) - planePotential_V(src, this.stage + 1, t))) / this.gap_m;
       }
     }
-    case Law.Polynomial: {
-      // dV/dx = Σ k·c_k·x^(k−1)/depth^k, Horner in u = x/depth.
-      const p = c.profile!;
-      const coeffs = p.coefficients_V;
-      const u = x / p.depth_m;
-      let dV = 0;
-      for (let k = coeffs.length; k >= 1; k--) dV = dV * u + k * coeffs[k - 1];
-      return (-c.qOverM * dV) / p.depth_m;
-    }
+  }
+
+  private polynomial(x: number): number {
+    // dV/dx = Σ k·c_k·x^(k−1)/depth^k, Horner in u = x/depth.
+    const p = this.profile!;
+    const coeffs = p.coefficients_V;
+    const u = x / p.depth_m;
+    let dV = 0;
+    for (let k = coeffs.length; k >= 1; k--) dV = dV * u + k * coeffs[k - 1];
+    return (-this.qOverM * dV) / p.depth_m;
   }
 }
 
-const problem = defineProblem<RegionContext>(
-  (t, y, dydt, c) => {
-    dydt[0] = y[1];
-    dydt[1] = acceleration(c, t, y[0]);
-  },
-  ctx,
-  [
-    defineEvent<RegionContext>((_t, y, c) => y[0] - c.hi, 1, true),
-    defineEvent<RegionContext>((_t, y, c) => y[0] - c.lo, -1, true),
-    // Turning points stop the solve too: an ion that crosses a plane and comes back within one step
-    // leaves the plane event with the same sign at both ends of the step, so it would go unseen.
-    defineEvent<RegionContext>((_t, y) => y[1], 0, true),
-  ],
-);
-const EVENT_HIGH = 0;
-const EVENT_TURN = 2;
+const ctx = new RegionForce();
 
 /** Position along the last step's interpolant minus a plane, for locating a crossing missed inside a step. */
 class PlaneOnInterpolant implements ScalarFunction {
@@ -134,7 +131,6 @@ const pulse = createSolveOptions({ rtol: 1e-7, atol: Float64Array.of(1e-16, 1e-1
 let options = precise;
 const workspace = createWorkspace(DOP853, 2);
 const result = createResult(2, 4);
-const y0 = new Float64Array(2);
 
 /** Outcome codes of `crossRegion`. */
 export const Exit = { HIGH: 1, LOW: -1, TIME_LIMIT: 0, FAILED: 2 } as const;
@@ -159,10 +155,8 @@ const lastFirstStep = new Float64Array(3);
 
 function run(st: NumericState, tEnd: number): number {
   while (true) {
-    y0[0] = st.z;
-    y0[1] = st.v;
     options.firstStep = Math.min(lastFirstStep[ctx.law], Math.abs(tEnd - st.t));
-    solve(workspace, problem, st.t, y0, tEnd, options, result);
+    solveAxial(workspace, ctx, st.t, st.z, st.v, tEnd, ctx.lo, ctx.hi, options, result);
     if (result.firstStep > 0) lastFirstStep[ctx.law] = result.firstStep;
     counters.steps += result.steps;
     counters.evaluations += result.rhsEvaluations;
@@ -174,14 +168,14 @@ function run(st: NumericState, tEnd: number): number {
       return Exit.FAILED;
     }
     if (result.status !== 'event') return Exit.TIME_LIMIT;
-    if (result.terminalEvent === EVENT_TURN) {
+    if (result.terminalEvent === AXIAL_TURN) {
       if (st.z > ctx.hi) return crossingInLastStep(st, ctx.hi, Exit.HIGH);
       if (st.z < ctx.lo) return crossingInLastStep(st, ctx.lo, Exit.LOW);
       st.v = 0; // exactly at rest at the turning point, so the restart does not see the same turn again
       continue;
     }
     // Snap onto the plane it crossed so that rounding never leaves it a hair inside.
-    const high = result.terminalEvent === EVENT_HIGH;
+    const high = result.terminalEvent === AXIAL_HIGH;
     st.z = high ? ctx.hi : ctx.lo;
     return high ? Exit.HIGH : Exit.LOW;
   }
@@ -236,6 +230,7 @@ export function crossSourceStageNumeric(
   const rise = source.rise;
   ctx.riseKind = rise.kind === 'step' ? RISE_STEP : rise.kind === 'linear' ? RISE_LINEAR : rise.kind === 'exponential' ? RISE_EXPONENTIAL : RISE_TABLE;
   ctx.riseTime_s = rise.kind === 'linear' ? rise.riseTime_s : rise.kind === 'exponential' ? rise.timeConstant_s : 1;
+  ctx.inverseRiseTime_per_s = 1 / ctx.riseTime_s;
   ctx.lo = lo;
   ctx.hi = hi;
   return run(st, tEnd);

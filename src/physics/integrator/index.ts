@@ -30,3 +30,4 @@ export {
   type OdeEvent,
 } from './events';
 export { createRootReport, findRootBrent, type RootReport, type ScalarFunction } from './brent';
+export { AXIAL_HIGH, AXIAL_LOW, AXIAL_TURN, solveAxial, type AxialForce } from './axialMotion';
