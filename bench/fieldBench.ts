@@ -18,7 +18,7 @@
 import { pathToFileURL } from 'node:url';
 import { buildLayout, defaultDriveVoltages, electrodePotentials } from '../src/fields/electrodes';
 import type { ElectrodeSpec } from '../src/fields/electrodes';
-import { createFieldSample, sampleField } from '../src/fields/interpolate';
+import { createFieldMap, createFieldSample, sampleField } from '../src/fields/interpolate';
 import { MultigridSolver, SorSolver, estimateSorOmega, jacobiSpectralRadius, relativeResidual } from '../src/fields/laplace';
 import type { SolveReport } from '../src/fields/laplace';
 import type { FieldMesh, MeshSpec } from '../src/fields/mesh';
@@ -131,7 +131,7 @@ export function benchField(): Record<string, number | string> {
   const unit = timed(() => solveUnitFields(mesh, { relativeTolerance: TOLERANCE }));
 
   const sample = createFieldSample();
-  const map = { mesh, potential_V: mgPhi };
+  const map = createFieldMap(mesh, mgPhi);
   let state = 12345;
   const next = () => (state = (Math.imul(state, 1103515245) + 12345) >>> 0) / 4294967296;
   const queries = 1_000_000;

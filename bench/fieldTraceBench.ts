@@ -8,7 +8,8 @@
  * Reported:
  *  field_trace_ions_per_s      mirror passes per wall second (after a JIT warm-up pass)
  *  field_trace_cpu_ions_per_s  the same per CPU second of this process (steadier on a shared machine)
- *  field_trace_steps_per_ion   accepted integration steps per ion; field_trace_evals_per_ion: field evaluations
+ *  field_trace_steps_per_ion   accepted integration steps per ion; field_trace_rejected_per_ion: rejected
+ *                              ones; field_trace_evals_per_ion: field evaluations
  *  field_trace_struck          ions that struck an electrode (a check that the spread is realistic)
  * Runnable alone: npx tsx bench/fieldTraceBench.ts
  */
@@ -53,6 +54,7 @@ export function benchFieldTrace(ions = 4000): Record<string, number> {
   pass(Math.min(500, ions)); // JIT warm-up
   struck = 0;
   solvedCounters.steps = 0;
+  solvedCounters.rejected = 0;
   solvedCounters.evaluations = 0;
   const cpu0 = process.cpuUsage();
   const wall0 = performance.now();
@@ -65,6 +67,7 @@ export function benchFieldTrace(ions = 4000): Record<string, number> {
     field_trace_ions_per_s: round(ions / wall_s),
     field_trace_cpu_ions_per_s: round(ions / cpu_s),
     field_trace_steps_per_ion: round(solvedCounters.steps / ions),
+    field_trace_rejected_per_ion: round(solvedCounters.rejected / ions),
     field_trace_evals_per_ion: round(solvedCounters.evaluations / ions),
     field_trace_struck: struck,
   };

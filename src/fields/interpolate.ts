@@ -1,15 +1,19 @@
 /**
  * Potential and field at any (r, z) from a solved node potential.
  *
- * Bicubic cubic-convolution (Catmull-Rom, Keys' a = −½) interpolation of φ over the 4×4 nodes
- * around the query, with E = −∇φ from the analytic derivative of the same cubic. It reproduces
- * quadratics exactly, so φ is third-order and E second-order accurate where φ is smooth (Keys,
- * IEEE Trans. ASSP 29 (1981) 1153, from memory). The interpolant is C¹ across cells.
+ * A tensor-product cubic B-spline over the 4×4 nodes around the query, with E = −∇φ from the
+ * analytic derivative of the same spline. Its coefficients come from the node potentials by the
+ * local quasi-interpolation filter c_i = (−φ_{i−1} + 8φ_i − φ_{i+1})/6 along r and then along z,
+ * which reproduces cubic polynomials exactly (de Boor, A Practical Guide to Splines, quasi-
+ * interpolants; from memory), so φ is fourth-order and E third-order accurate where φ is smooth.
+ * The spline is C² in φ, so the field is C¹: its derivative does not jump at cell edges, which is
+ * what lets the tracer's adaptive integrator take long steps through it (a cubic-convolution
+ * interpolant, C¹ in φ only, made the error control reject steps at the cell edges and left the
+ * flight times ~20× noisier at equal cost: measured, see solvedTracer.ts). The filter is local,
+ * so a kink of φ at a metal surface disturbs only about two cells around it.
  * Edges: across the axis the node at r = −h is the mirror of r = +h (φ is even in r), which
  * makes E_r(0, z) = 0 exactly; beyond the outer radius and the z ends a ghost node is
- * extrapolated quadratically, which keeps quadratics exact.
- * Within about one cell of an electrode surface the stencil reaches into the metal, where φ is
- * constant, so the field there is only first-order accurate; the potential stays continuous.
+ * extrapolated quadratically, which keeps quadratics exact up to every edge.
  *
  * A query that falls inside a solid electrode (its exact rectangle, surface included) or outside
  * the mesh reports so instead of interpolating. Grid planes are transparent and never reported.
@@ -25,6 +29,41 @@ export const SAMPLE_OUTSIDE_MESH = -2;
 export interface FieldMap {
   readonly mesh: FieldMesh;
   readonly potential_V: Float64Array;
+  /** Spline coefficients of `potential_V` (splineCoefficients); build the map with createFieldMap. */
+  readonly coefficients: Float64Array;
+}
+
+/** A field map of the node potential `potential_V`, which must not change afterwards. */
+export function createFieldMap(mesh: FieldMesh, potential_V: Float64Array): FieldMap {
+  return { mesh, potential_V, coefficients: splineCoefficients(mesh, potential_V) };
+}
+
+/**
+ * Cubic B-spline coefficients of a node potential by the quasi-interpolation filter
+ * (−φ_{i−1} + 8φ_i − φ_{i+1})/6, along r then along z, with the edge rules above.
+ */
+export function splineCoefficients(mesh: FieldMesh, phi: Float64Array, out = new Float64Array(mesh.nr * mesh.nz)): Float64Array {
+  const { nr, nz } = mesh;
+  if (phi.length !== nr * nz) throw new RangeError(`potential has ${phi.length} values, the mesh ${nr * nz} nodes`);
+  const alongR = new Float64Array(nr * nz);
+  for (let j = 0; j < nz; j++) {
+    const o = j * nr;
+    for (let i = 0; i < nr; i++) {
+      const inner = i === 0 ? phi[o + 1] : phi[o + i - 1];
+      const outer = i === nr - 1 ? 3 * phi[o + nr - 1] - 3 * phi[o + nr - 2] + phi[o + nr - 3] : phi[o + i + 1];
+      alongR[o + i] = (8 * phi[o + i] - inner - outer) / 6;
+    }
+  }
+  const last = (nz - 1) * nr;
+  for (let j = 0; j < nz; j++) {
+    const o = j * nr;
+    for (let i = 0; i < nr; i++) {
+      const below = j === 0 ? 3 * alongR[i] - 3 * alongR[nr + i] + alongR[2 * nr + i] : alongR[o - nr + i];
+      const above = j === nz - 1 ? 3 * alongR[last + i] - 3 * alongR[last - nr + i] + alongR[last - 2 * nr + i] : alongR[o + nr + i];
+      out[o + i] = (8 * alongR[o + i] - below - above) / 6;
+    }
+  }
+  return out;
 }
 
 /** Caller-owned result of a query; reused across calls so that sampling allocates nothing. */
@@ -46,18 +85,19 @@ const dwr = new Float64Array(4);
 const wz = new Float64Array(4);
 const dwz = new Float64Array(4);
 
-/** Catmull-Rom weights and their t-derivatives for nodes −1, 0, 1, 2 at offset t ∈ [0, 1]. */
+/** Cubic B-spline weights and their t-derivatives for coefficients −1, 0, 1, 2 at offset t ∈ [0, 1]. */
 function cubicWeights(t: number, w: Float64Array, dw: Float64Array): void {
   const t2 = t * t;
   const t3 = t2 * t;
-  w[0] = 0.5 * (-t3 + 2 * t2 - t);
-  w[1] = 0.5 * (3 * t3 - 5 * t2 + 2);
-  w[2] = 0.5 * (-3 * t3 + 4 * t2 + t);
-  w[3] = 0.5 * (t3 - t2);
-  dw[0] = 0.5 * (-3 * t2 + 4 * t - 1);
-  dw[1] = 0.5 * (9 * t2 - 10 * t);
-  dw[2] = 0.5 * (-9 * t2 + 8 * t + 1);
-  dw[3] = 0.5 * (3 * t2 - 2 * t);
+  const u = 1 - t;
+  w[0] = (u * u * u) / 6;
+  w[1] = (3 * t3 - 6 * t2 + 4) / 6;
+  w[2] = (-3 * t3 + 3 * t2 + 3 * t + 1) / 6;
+  w[3] = t3 / 6;
+  dw[0] = -0.5 * u * u;
+  dw[1] = 0.5 * (3 * t2 - 4 * t);
+  dw[2] = 0.5 * (-3 * t2 + 2 * t + 1);
+  dw[3] = 0.5 * t2;
 }
 
 /** Fold the ghost node beyond the last node n − 1 into its neighbours: ghost = 3u[n−1] − 3u[n−2] + u[n−3]. */
@@ -138,7 +178,7 @@ function prepare(mesh: FieldMesh, r: number, z: number): number {
   return SAMPLE_FREE;
 }
 
-/** Apply the prepared stencil to one node array; adds scale × (φ, ∂φ/∂x, ∂φ/∂y) into the accumulators. */
+/** Apply the prepared stencil to one coefficient array; adds scale × (φ, ∂φ/∂x, ∂φ/∂y) into the accumulators. */
 let accPhi = 0;
 let accDx = 0;
 let accDy = 0;
@@ -199,7 +239,7 @@ export function sampleField(map: FieldMap, r_m: number, z_m: number, out: FieldS
     return status;
   }
   // Same arithmetic as accumulate(), written out: this is the tracer's innermost call.
-  const phi = map.potential_V;
+  const phi = map.coefficients;
   const nr = mesh.nr;
   const c0 = cols[0];
   const c1 = cols[1];
@@ -240,6 +280,7 @@ export function sampleField(map: FieldMap, r_m: number, z_m: number, out: FieldS
 export function sampleSuperposed(set: UnitFieldSet, driveVoltages_V: ArrayLike<number>, r_m: number, z_m: number, out: FieldSample): number {
   const mesh = set.mesh;
   const basis = set.unitPotentials;
+  const coefficients = set.unitCoefficients;
   const r = Math.abs(r_m);
   const status = prepare(mesh, r, z_m);
   if (status === SAMPLE_OUTSIDE_MESH) {
@@ -258,7 +299,7 @@ export function sampleSuperposed(set: UnitFieldSet, driveVoltages_V: ArrayLike<n
   accPhi = accDx = accDy = 0;
   for (let d = 0; d < basis.length; d++) {
     const v = driveVoltages_V[d];
-    if (v !== 0) accumulate(basis[d], mesh.nr, v);
+    if (v !== 0) accumulate(coefficients[d], mesh.nr, v);
   }
   out.potential_V = accPhi;
   out.fieldR_V_per_m = (r_m < 0 ? accDx : 0 - accDx) / mesh.hr_m; // 0 − x turns −0 into +0

@@ -2,7 +2,7 @@
  * 3-D Cartesian ion motion through a solved (axisymmetric) field region.
  *
  * State (x, y, z, vx, vy, vz) in the region's mesh frame (z along the axis, the axis at x = y = 0).
- * The force is q/m·E with E from the bicubic field map: E_x = E_r·x/r, E_y = E_r·y/r. The region is
+ * The force is q/m·E with E from the bicubic spline field map: E_x = E_r·x/r, E_y = E_r·y/r. The region is
  * bounded by two planes across the axis, the entry plane (lower z) and the far plane (higher z),
  * both terminal events of one adaptive DOPRI5 solve; a third terminal event fires when the ion
  * enters a solid electrode or leaves the mesh radially into the grounded wall (a strike).
@@ -197,13 +197,18 @@ const problem = defineProblem<TraceContext>(
     d[0] = s[3];
     d[1] = s[4];
     d[2] = s[5];
-    // Inside metal or beyond the mesh the map reports no field; the strike event ends the solve there.
+    // Inside metal or beyond the wall the map reports no field; the strike event ends the solve there.
+    // Beyond the mesh's z ends (only stage points of the step that leaves through a region plane
+    // at a mesh end get there) the field of the end row continues it: a force that dropped to zero
+    // there would cost the error control several rejected steps at every exit.
+    const mesh = c.map.mesh;
+    const z = s[2] < mesh.zMin_m ? mesh.zMin_m : s[2] > mesh.zMax_m ? mesh.zMax_m : s[2];
     const td = c.region.timeDependent;
     let status: number;
     if (td !== null && t < td.settle_s) {
       td.voltagesAt(t, c.voltages);
-      status = sampleSuperposed(td.unitFields, c.voltages, r, s[2], sample);
-    } else status = sampleField(c.map, r, s[2], sample);
+      status = sampleSuperposed(td.unitFields, c.voltages, r, z, sample);
+    } else status = sampleField(c.map, r, z, sample);
     if (status !== SAMPLE_FREE) {
       d[3] = d[4] = d[5] = 0;
       return;
@@ -226,21 +231,25 @@ const EVENT_ENTRY = 0;
 const EVENT_FAR = 1;
 
 /**
- * Method and tolerances. The bicubic field is C¹ in φ but only C⁰ in E: its derivative jumps at
- * every mesh-cell edge, so a high-order method gains nothing and tight tolerances make the error
- * control reject steps at each edge. Measured on the demo gridless mirror (400 ions, against the
- * same method at rtol 1e-11): DOP853 at rtol 1e-8 needed 5600 evaluations per ion for a flight-time
- * scatter of 7e-7 (relative sd); DOPRI5 at rtol 1e-7 needs ~400 for 5e-6 (largest 1.4e-5), well
- * below the field's own discretisation error and far below the peak widths of interest (R ≲ 1e5).
- * Floors: 1e-8 m and 1e-3 m/s (tighter floors cost 25 % more steps and did not reduce the scatter). The same input always gives the same result, but the adaptive
- * step sequence is not a smooth function of the input: a 1e-12 relative change of the entry speed
- * can move the exit time by up to ~1e-6 relative (measured), the integration error level.
+ * Method and tolerances, measured on the demo gridless mirror (300 ions, flight times against
+ * DOP853 at rtol 1e-12 with 1e-13 m floors; `bench/fieldTraceBench.ts` counts the evaluations):
+ * DOPRI5 at rtol 1e-7 needs ~317 field evaluations per ion for a relative flight-time error of
+ * 2.2e-7 rms (largest 5e-7), far below the peak widths of interest (R ≲ 1e5). DOP853 needs
+ * ~550–590 evaluations at rtol 1e-7…1e-10 and is no more accurate here: the spline field is C¹,
+ * not smooth enough for an eighth-order method to pay off. With the earlier cubic-convolution
+ * field (C⁰ in E) the same DOPRI5 setting needed ~395 evaluations for a 20× larger error.
+ * Predictive step control: an ion leaving a mirror speeds up, so each step must be shorter than
+ * the last; the plain controller overshot and paid a rejection every second step (21 rejected
+ * per ion before, ~10 now). Floors: 1e-8 m and 1e-3 m/s. The same input always gives the same
+ * result, but the adaptive step sequence is not a smooth function of the input: a tiny change of
+ * the entry speed can move the exit time by about the integration error level.
  */
 export const SOLVED_RTOL = 1e-7;
 const options = createSolveOptions({
   rtol: SOLVED_RTOL,
   atol: Float64Array.of(1e-8, 1e-8, 1e-8, 1e-3, 1e-3, 1e-3),
   maxSteps: 200_000,
+  predictive: true,
 });
 const workspace = createWorkspace(DOPRI5, 6);
 const result = createResult(6, 4);
@@ -248,11 +257,12 @@ const y0 = new Float64Array(6);
 
 export interface SolvedTraceCounters {
   steps: number;
+  rejected: number;
   evaluations: number;
   lastMessage: string;
 }
 
-export const solvedCounters: SolvedTraceCounters = { steps: 0, evaluations: 0, lastMessage: '' };
+export const solvedCounters: SolvedTraceCounters = { steps: 0, rejected: 0, evaluations: 0, lastMessage: '' };
 
 /**
  * Trace one ion from its state in `ion` (normally on the entry plane moving +z) until it leaves
@@ -328,6 +338,7 @@ export function traceSolvedRegion(ion: SolvedIonState, region: SolvedRegion, qOv
     options.firstStep = Math.min(firstStep, tLimit_s - ion.t, options.maxStep);
     solve(workspace, problem, ion.t, y0, tLimit_s, options, result);
     solvedCounters.steps += result.steps;
+    solvedCounters.rejected += result.rejectedSteps;
     solvedCounters.evaluations += result.rhsEvaluations;
     const s = result.y;
     ion.t = result.t;

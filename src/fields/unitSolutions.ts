@@ -9,6 +9,7 @@ import { defaultDriveVoltages, electrodePotentials } from './electrodes';
 import { MultigridSolver, SorSolver } from './laplace';
 import type { SolveOptions, SolveReport } from './laplace';
 import type { FieldMesh } from './mesh';
+import { splineCoefficients } from './interpolate';
 import { applyDirichletValues } from './rasterize';
 
 export interface FieldSolveOptions extends SolveOptions {
@@ -20,6 +21,8 @@ export interface UnitFieldSet {
   readonly mesh: FieldMesh;
   /** Per drive (in layout.drives order): the potential with that drive at 1 V and all others at 0 V. */
   readonly unitPotentials: readonly Float64Array[];
+  /** Their spline coefficients (interpolate.ts), for sampling superpositions. */
+  readonly unitCoefficients: readonly Float64Array[];
   readonly reports: readonly SolveReport[];
 }
 
@@ -47,7 +50,7 @@ export function solveUnitFields(mesh: FieldMesh, options: FieldSolveOptions = {}
     reports.push(solver.solve(phi, options));
     unitPotentials.push(phi);
   }
-  return { mesh, unitPotentials, reports };
+  return { mesh, unitPotentials, unitCoefficients: unitPotentials.map((phi) => splineCoefficients(mesh, phi)), reports };
 }
 
 /** One direct solve with the given electrode potentials (default: those set in the layout). */

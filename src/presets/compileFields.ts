@@ -16,6 +16,7 @@ import type { ElectrodeSpec, FieldIssue } from '../fields/electrodes';
 import { dividerFractions } from '../fields/electrodes';
 import { friendlyNodeCount } from '../fields/mesh';
 import type { MeshSpec } from '../fields/mesh';
+import { createFieldMap } from '../fields/interpolate';
 import { makeSolvedRegion } from '../fields/solvedTracer';
 import { cachedUnitFields } from '../fields/unitFieldCache';
 import { superpose } from '../fields/unitSolutions';
@@ -135,7 +136,7 @@ export function compileSolvedMirror(m: SolvedMirrorSettings, driftPotential_V: n
   const driveVoltages_V = Float64Array.from(set.mesh.layout.drives, (d) => (d.name === 'backPlate' ? m.backPlate.potential_V - driftPotential_V : 0));
   const potential_V = superpose(set, driveVoltages_V, new Float64Array(set.mesh.nr * set.mesh.nz));
   return {
-    region: makeSolvedRegion({ mesh: set.mesh, potential_V }, g.entryZ_m, g.farZ_m),
+    region: makeSolvedRegion(createFieldMap(set.mesh, potential_V), g.entryZ_m, g.farZ_m),
     unitFields: set,
     driveVoltages_V,
     referencePotential_V: driftPotential_V,
@@ -305,7 +306,7 @@ export function compileSolvedSource(preset: Preset, timing: SourceModel): Solved
     }
   }
   const repellerIndex = set.mesh.layout.electrodes.findIndex((e) => e.name === 'repeller');
-  const region = makeSolvedRegion({ mesh: set.mesh, potential_V }, g.entryZ_m, g.farZ_m, {
+  const region = makeSolvedRegion(createFieldMap(set.mesh, potential_V), g.entryZ_m, g.farZ_m, {
     unitFields: set,
     voltagesAt,
     settle_s,

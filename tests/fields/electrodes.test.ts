@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { buildLayout, defaultDriveVoltages, dividerFractions, electrodePotentials, validateElectrodes } from '../../src/fields/electrodes';
 import type { DomainBounds, ElectrodeSpec } from '../../src/fields/electrodes';
-import { createFieldSample, sampleField } from '../../src/fields/interpolate';
+import { createFieldMap, createFieldSample, sampleField } from '../../src/fields/interpolate';
 import { rasterize } from '../../src/fields/rasterize';
 import { solvePotential } from '../../src/fields/unitSolutions';
 
@@ -75,7 +75,7 @@ describe('resistor-divider ring stack', () => {
     const sample = createFieldSample();
     for (let k = 0; k < 3; k++) {
       const ring = layout.electrodes[1 + k];
-      const inside = sampleField({ mesh: raster.mesh, potential_V }, 8 * mm, ring.zMin_m + 0.5 * mm, sample);
+      const inside = sampleField(createFieldMap(raster.mesh, potential_V), 8 * mm, ring.zMin_m + 0.5 * mm, sample);
       expect(inside).toBe(1 + k);
       expect(sample.potential_V).toBeCloseTo(expected[1 + k], 9);
       expect(sample.fieldR_V_per_m).toBe(0);
@@ -159,7 +159,7 @@ describe('geometry validation', () => {
     if (!raster.ok) return;
     const { potential_V } = solvePotential(raster.mesh, [250, 250]);
     const sample = createFieldSample();
-    expect(sampleField({ mesh: raster.mesh, potential_V }, 8.5 * mm, 20.5 * mm, sample)).toBeGreaterThanOrEqual(0);
+    expect(sampleField(createFieldMap(raster.mesh, potential_V), 8.5 * mm, 20.5 * mm, sample)).toBeGreaterThanOrEqual(0);
     expect(sample.potential_V).toBe(250);
   });
 

@@ -1,3 +1,4 @@
+import { createFieldMap } from '../../src/fields/interpolate';
 import { describe, expect, it } from 'vitest';
 import type { ElectrodeSpec } from '../../src/fields/electrodes';
 import { meshFromSpecs } from '../../src/fields/rasterize';
@@ -68,7 +69,7 @@ function solvedMirrorTime(pitch: number, v: number, k: number): number {
   if (!raster.ok) throw new Error(JSON.stringify(raster.issues.slice(0, 3)));
   const set = solveUnitFields(raster.mesh, { relativeTolerance: 1e-10 });
   const phi = superpose(set, raster.mesh.layout.drives.map((d) => d.potential_V), new Float64Array(raster.mesh.nr * raster.mesh.nz));
-  const region = makeSolvedRegion({ mesh: raster.mesh, potential_V: phi }, 0, R);
+  const region = makeSolvedRegion(createFieldMap(raster.mesh, phi), 0, R);
   const ion = createSolvedIonState();
   ion.vz = v;
   const exit = traceSolvedRegion(ion, region, k, 1);

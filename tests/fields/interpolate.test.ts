@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import type { ElectrodeSpec } from '../../src/fields/electrodes';
-import { SAMPLE_FREE, SAMPLE_OUTSIDE_MESH, createFieldSample, electrodeAt, fieldToCartesian, sampleField } from '../../src/fields/interpolate';
+import { createFieldMap, SAMPLE_FREE, SAMPLE_OUTSIDE_MESH, createFieldSample, electrodeAt, fieldToCartesian, sampleField } from '../../src/fields/interpolate';
 import type { FieldMesh, MeshSpec } from '../../src/fields/mesh';
 import { meshFromSpecs } from '../../src/fields/rasterize';
 
@@ -26,17 +26,18 @@ function testPoints(spec: MeshSpec, count: number): [number, number][] {
   return pts;
 }
 
-describe('bicubic (cubic-convolution) interpolation', () => {
+describe('bicubic spline (quasi-interpolation) field map', () => {
   const spec: MeshSpec = { nr: 17, nz: 25, rMax_m: 0.8, zMin_m: -0.3, zMax_m: 0.9 };
 
   it('is exact for biquadratic potentials even in r, field included, up to every edge', () => {
-    // Cubic convolution with a = −½ reproduces polynomials of degree ≤ 2 (Keys, IEEE Trans. ASSP 29 (1981)
-    // 1153, from memory); a tensor product of such kernels reproduces span{1, r, r²} ⊗ {1, z, z²}.
+    // The cubic B-spline quasi-interpolant reproduces polynomials of degree ≤ 3 where the filter sees
+    // true nodes (de Boor, A Practical Guide to Splines, from memory); the quadratic ghost rule keeps
+    // degree ≤ 2 exact up to the edges, so span{1, r, r²} ⊗ {1, z, z²} is exact everywhere.
     const phi = (r: number, z: number) => 2 + 3 * z - 4 * z * z + 5 * r * r - 6 * r * r * z + 7 * r * r * z * z;
     const Er = (r: number, z: number) => -(10 * r - 12 * r * z + 14 * r * z * z);
     const Ez = (r: number, z: number) => -(3 - 8 * z - 6 * r * r + 14 * r * r * z);
     const mesh = meshOf(spec);
-    const map = { mesh, potential_V: tabulate(mesh, phi) };
+    const map = createFieldMap(mesh, tabulate(mesh, phi));
     const sample = createFieldSample();
     for (const [r, z] of testPoints(spec, 300)) {
       expect(sampleField(map, r, z, sample)).toBe(SAMPLE_FREE);
@@ -46,10 +47,64 @@ describe('bicubic (cubic-convolution) interpolation', () => {
     }
   });
 
+  it('is exact for cubics in z (even in r) at least two cells from the z ends and the outer radius', () => {
+    // Cubic reproduction of the quasi-interpolant (same source as above): exact when every
+    // coefficient in the 4×4 stencil comes from true nodes.
+    const phi = (r: number, z: number) => 1 + z * z * z - 2 * z * z + (3 + 4 * z * z * z) * r * r;
+    const Er = (r: number, z: number) => -2 * (3 + 4 * z * z * z) * r;
+    const Ez = (r: number, z: number) => -(3 * z * z - 4 * z + 12 * z * z * r * r);
+    const mesh = meshOf(spec);
+    const map = createFieldMap(mesh, tabulate(mesh, phi));
+    const sample = createFieldSample();
+    let checked = 0;
+    for (const [r, z] of testPoints(spec, 300)) {
+      const i = Math.floor(r / mesh.hr_m);
+      const j = Math.floor((z - mesh.zMin_m) / mesh.hz_m);
+      if (i > mesh.nr - 4 || j < 2 || j > mesh.nz - 4) continue;
+      checked++;
+      expect(sampleField(map, r, z, sample)).toBe(SAMPLE_FREE);
+      expect(sample.potential_V).toBeCloseTo(phi(r, z), 11);
+      expect(sample.fieldR_V_per_m).toBeCloseTo(Er(r, z), 9);
+      expect(sample.fieldZ_V_per_m).toBeCloseTo(Ez(r, z), 9);
+    }
+    expect(checked).toBeGreaterThan(150);
+  });
+
+  it('has a continuous field gradient across cell edges (C² potential), which the tracer’s step control needs', () => {
+    // One-sided difference quotients of E_z across a node row agree to O(δ) for a C¹ field; a
+    // cubic-convolution (C¹ potential) interpolant fails this with jumps of order |∂²E/∂z²|·h.
+    const f = (r: number, z: number) => Math.cos(3 * r) * Math.exp(z) + Math.sin(2 * z);
+    const mesh = meshOf(spec);
+    const map = createFieldMap(mesh, tabulate(mesh, f));
+    const sample = createFieldSample();
+    const Ez = (r: number, z: number) => (sampleField(map, r, z, sample), sample.fieldZ_V_per_m);
+    const Er = (r: number, z: number) => (sampleField(map, r, z, sample), sample.fieldR_V_per_m);
+    const delta = 1e-7;
+    let largestJump = 0;
+    for (let j = 2; j < mesh.nz - 2; j++) {
+      const z = mesh.zMin_m + j * mesh.hz_m;
+      for (const r of [0.013, 0.21, 0.47]) {
+        const right = (Ez(r, z + delta) - Ez(r, z)) / delta;
+        const left = (Ez(r, z) - Ez(r, z - delta)) / delta;
+        largestJump = Math.max(largestJump, Math.abs(right - left));
+      }
+    }
+    for (let i = 2; i < mesh.nr - 2; i++) {
+      const r = i * mesh.hr_m;
+      for (const z of [-0.21, 0.33, 0.71]) {
+        const right = (Er(r + delta, z) - Er(r, z)) / delta;
+        const left = (Er(r, z) - Er(r - delta, z)) / delta;
+        largestJump = Math.max(largestJump, Math.abs(right - left));
+      }
+    }
+    // Second derivatives of the field are of order 10–30 here; O(δ) differences are ~1e-5.
+    expect(largestJump).toBeLessThan(1e-3);
+  });
+
   it('is symmetric about the axis: E_r(0, z) = 0 exactly, mirror points agree', () => {
     // Rotational symmetry: φ is even in r, so ∂φ/∂r vanishes on the axis (common practice, no source).
     const mesh = meshOf(spec);
-    const map = { mesh, potential_V: tabulate(mesh, (r, z) => Math.cos(3 * r) * Math.exp(z) + Math.sin(2 * z)) };
+    const map = createFieldMap(mesh, tabulate(mesh, (r, z) => Math.cos(3 * r) * Math.exp(z) + Math.sin(2 * z)));
     const a = createFieldSample();
     const b = createFieldSample();
     for (const z of [-0.3, -0.11, 0.2, 0.45, 0.9]) {
@@ -76,7 +131,7 @@ describe('bicubic (cubic-convolution) interpolation', () => {
     const errors = [9, 17, 33].map((nr) => {
       const s: MeshSpec = { ...spec, nr, nz: (nr - 1) * 1.5 + 1 };
       const mesh = meshOf(s);
-      const map = { mesh, potential_V: tabulate(mesh, f) };
+      const map = createFieldMap(mesh, tabulate(mesh, f));
       const sample = createFieldSample();
       let ePhi = 0;
       let eField = 0;
@@ -96,7 +151,7 @@ describe('bicubic (cubic-convolution) interpolation', () => {
   // Status reporting for the tracer's fates (common practice, no source).
   it('reports queries outside the mesh instead of extrapolating', () => {
     const mesh = meshOf(spec);
-    const map = { mesh, potential_V: tabulate(mesh, () => 7) };
+    const map = createFieldMap(mesh, tabulate(mesh, () => 7));
     const sample = createFieldSample();
     for (const [r, z] of [
       [0.81, 0],
@@ -120,7 +175,7 @@ describe('bicubic (cubic-convolution) interpolation', () => {
     ]);
     const potential = tabulate(mesh, () => 0);
     for (let k = 0; k < potential.length; k++) if (mesh.nodeOwner[k] === 1) potential[k] = 300;
-    const map = { mesh, potential_V: potential };
+    const map = createFieldMap(mesh, potential);
     const sample = createFieldSample();
     expect(sampleField(map, 0.008, 0.0105, sample)).toBe(1);
     expect(sample.potential_V).toBe(300);
@@ -141,5 +196,12 @@ describe('bicubic (cubic-convolution) interpolation', () => {
     expect(Array.from(out)).toEqual([6, 8, -2]);
     fieldToCartesian({ potential_V: 1, fieldR_V_per_m: 10, fieldZ_V_per_m: -2 }, 0, 0, out);
     expect(Array.from(out)).toEqual([0, 0, -2]);
+  });
+});
+
+describe('field map construction', () => {
+  it('refuses a potential that does not match the mesh, naming both sizes', () => {
+    const mesh = meshOf({ nr: 5, nz: 5, rMax_m: 0.1, zMin_m: 0, zMax_m: 0.1 });
+    expect(() => createFieldMap(mesh, new Float64Array(7))).toThrow(/7 values, the mesh 25 nodes/);
   });
 });

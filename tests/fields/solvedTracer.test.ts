@@ -1,3 +1,4 @@
+import { createFieldMap } from '../../src/fields/interpolate';
 import { describe, expect, it } from 'vitest';
 import type { ElectrodeSpec } from '../../src/fields/electrodes';
 import type { FieldMesh, MeshSpec } from '../../src/fields/mesh';
@@ -17,14 +18,14 @@ function solvedRegion(spec: MeshSpec, electrodes: ElectrodeSpec[], entryZ_m: num
   const set = solveUnitFields(raster.mesh, { relativeTolerance: 1e-12 });
   const voltages = raster.mesh.layout.drives.map((d) => d.potential_V);
   const potential_V = superpose(set, voltages, new Float64Array(raster.mesh.nr * raster.mesh.nz));
-  return { ...makeSolvedRegion({ mesh: raster.mesh, potential_V }, entryZ_m, farZ_m), mesh: raster.mesh };
+  return { ...makeSolvedRegion(createFieldMap(raster.mesh, potential_V), entryZ_m, farZ_m), mesh: raster.mesh };
 }
 
 /**
  * Parallel-plate limit. Between two plane electrodes much wider than their gap the field is
  * uniform, E = V/d (any electromagnetics text, e.g. Jackson, Classical Electrodynamics, 3rd ed.,
  * §1.13, from memory); the grounded wall at r = 8d disturbs it near the axis by ~exp(−π·8) ≈ 1e-11
- * (decay of the lowest Fourier mode between the plates). The discrete Laplacian and the bicubic
+ * (decay of the lowest Fourier mode between the plates). The discrete Laplacian and the bicubic spline
  * interpolant are exact for a potential linear in z, so the remaining error is the integrator's.
  * Reference: the exact engine's closed-form kernels (src/physics/uniformField.ts, exactEngine.ts).
  */

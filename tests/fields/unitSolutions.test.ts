@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { defaultDriveVoltages, electrodePotentials } from '../../src/fields/electrodes';
 import type { ElectrodeSpec } from '../../src/fields/electrodes';
-import { SAMPLE_FREE, createFieldSample, sampleField, sampleSuperposed } from '../../src/fields/interpolate';
+import { createFieldMap, SAMPLE_FREE, createFieldSample, sampleField, sampleSuperposed } from '../../src/fields/interpolate';
 import type { FieldMesh, MeshSpec } from '../../src/fields/mesh';
 import { meshFromSpecs } from '../../src/fields/rasterize';
 import { driveVoltagesAt, solvePotential, solveUnitFields, superpose } from '../../src/fields/unitSolutions';
@@ -75,7 +75,7 @@ describe('unit solutions', () => {
     for (const t of [0, 150e-9, 1e-6 / 3]) {
       driveVoltagesAt(waveforms, t, voltages);
       const potentials = electrodePotentials(mesh.layout, voltages, new Float64Array(mesh.layout.electrodes.length));
-      const direct = { mesh, potential_V: solvePotential(mesh, potentials, { relativeTolerance: 1e-11 }).potential_V };
+      const direct = createFieldMap(mesh, solvePotential(mesh, potentials, { relativeTolerance: 1e-11 }).potential_V);
       for (const [r, z] of [
         [0, 3.5 * mm],
         [2 * mm, 20 * mm],

@@ -275,6 +275,9 @@ export function solveAxial(
       ? options.firstStep
       : selectInitialStep(ws, axialRhs, force, t0, direction, Math.abs(tEnd - t0), rtol, maxStep);
   let attempts = 0;
+  const predictive = options.predictive;
+  let previousStep = 0;
+  let previousError = 0;
 
   for (;;) {
     const t = ws.t;
@@ -301,6 +304,15 @@ export function solveAxial(
       const err = ws.stepError;
       if (err < 1) {
         let factor = err === 0 ? MAX_FACTOR : SAFETY * Math.pow(err, exponent);
+        if (predictive) {
+          const floorErr = err > 1e-4 ? err : 1e-4;
+          if (previousStep > 0) {
+            const trend = (hAbs / previousStep) * SAFETY * Math.pow((floorErr * floorErr) / previousError, exponent);
+            if (trend < factor) factor = trend < MIN_FACTOR ? MIN_FACTOR : trend;
+          }
+          previousStep = hAbs;
+          previousError = floorErr;
+        }
         if (factor > MAX_FACTOR) factor = MAX_FACTOR;
         if (rejected && factor > 1) factor = 1;
         hAbs *= factor;

@@ -76,10 +76,10 @@ const CASES: Case[] = [
 ];
 
 describe('solveAxial (the tracer’s one-axis integrator)', () => {
-  for (const tableau of [DOP853, DOPRI5] as RungeKuttaTableau[]) {
+  for (const [tableau, predictive] of [[DOP853, false], [DOPRI5, false], [DOP853, true]] as [RungeKuttaTableau, boolean][]) {
     for (const c of CASES) {
-      it(`${tableau.name}: ${c.name} gives the generic driver's numbers`, () => {
-        const options = createSolveOptions({ rtol: 1e-9, atol: Float64Array.of(1e-12, 1e-12) });
+      it(`${tableau.name}${predictive ? ' (predictive control)' : ''}: ${c.name} gives the generic driver's numbers`, () => {
+        const options = createSolveOptions({ rtol: 1e-9, atol: Float64Array.of(1e-12, 1e-12), predictive });
         const wsA = createWorkspace(tableau, 2);
         const wsG = createWorkspace(tableau, 2);
         const axial = solveAxial(wsA, c.force, 0, c.z0, c.v0, c.tEnd, c.lo, c.hi, options, createResult(2, 4));
