@@ -6,7 +6,7 @@
  * and is traced in 3-D until it leaves the mirror again (or strikes).
  *
  * Reported:
- *  field_trace_ions_per_s      mirror passes per wall second (after a JIT warm-up pass)
+ *  field_trace_ions_per_s      mirror passes per wall second (best of three passes after a JIT warm-up)
  *  field_trace_cpu_ions_per_s  the same per CPU second of this process (steadier on a shared machine)
  *  field_trace_steps_per_ion   accepted integration steps per ion; field_trace_rejected_per_ion: rejected
  *                              ones; field_trace_evals_per_ion: field evaluations
@@ -52,16 +52,22 @@ export function benchFieldTrace(ions = 4000): Record<string, number> {
     }
   };
   pass(Math.min(500, ions)); // JIT warm-up
-  struck = 0;
-  solvedCounters.steps = 0;
-  solvedCounters.rejected = 0;
-  solvedCounters.evaluations = 0;
-  const cpu0 = process.cpuUsage();
-  const wall0 = performance.now();
-  pass(ions);
-  const wall_s = (performance.now() - wall0) / 1000;
-  const cpu = process.cpuUsage(cpu0);
-  const cpu_s = (cpu.user + cpu.system) / 1e6;
+  // Best of three passes (as for B2 and the field solve): the pass least disturbed by other work
+  // on a shared machine. The counters are those of one pass (every pass traces the same ions).
+  let wall_s = Infinity;
+  let cpu_s = Infinity;
+  for (let repeat = 0; repeat < 3; repeat++) {
+    struck = 0;
+    solvedCounters.steps = 0;
+    solvedCounters.rejected = 0;
+    solvedCounters.evaluations = 0;
+    const cpu0 = process.cpuUsage();
+    const wall0 = performance.now();
+    pass(ions);
+    wall_s = Math.min(wall_s, (performance.now() - wall0) / 1000);
+    const cpu = process.cpuUsage(cpu0);
+    cpu_s = Math.min(cpu_s, (cpu.user + cpu.system) / 1e6);
+  }
   startTransverse(0, 0, 0, 0);
   return {
     field_trace_ions_per_s: round(ions / wall_s),

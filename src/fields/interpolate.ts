@@ -31,11 +31,20 @@ export interface FieldMap {
   readonly potential_V: Float64Array;
   /** Spline coefficients of `potential_V` (splineCoefficients); build the map with createFieldMap. */
   readonly coefficients: Float64Array;
+  /** 1/hr and 1/hz: the sampler multiplies instead of dividing. */
+  readonly inverseSpacingR_per_m: number;
+  readonly inverseSpacingZ_per_m: number;
 }
 
 /** A field map of the node potential `potential_V`, which must not change afterwards. */
 export function createFieldMap(mesh: FieldMesh, potential_V: Float64Array): FieldMap {
-  return { mesh, potential_V, coefficients: splineCoefficients(mesh, potential_V) };
+  return {
+    mesh,
+    potential_V,
+    coefficients: splineCoefficients(mesh, potential_V),
+    inverseSpacingR_per_m: 1 / mesh.hr_m,
+    inverseSpacingZ_per_m: 1 / mesh.hz_m,
+  };
 }
 
 /**
@@ -133,10 +142,11 @@ function foldLowerGhost(idx: Int32Array, w: Float64Array, dw: Float64Array): voi
  * Locate (r ≥ 0, z) in the mesh and fill the stencil (node columns/rows and weights).
  * Returns SAMPLE_OUTSIDE_MESH, an electrode index, or SAMPLE_FREE.
  */
-function prepare(mesh: FieldMesh, r: number, z: number): number {
-  const { nr, nz, hr_m, hz_m } = mesh;
-  const x = r / hr_m;
-  const y = (z - mesh.zMin_m) / hz_m;
+function prepare(mesh: FieldMesh, inverseHr: number, inverseHz: number, r: number, z: number): number {
+  const nr = mesh.nr;
+  const nz = mesh.nz;
+  const x = r * inverseHr;
+  const y = (z - mesh.zMin_m) * inverseHz;
   // Written so that NaN also lands outside.
   if (!(x <= nr - 1 && y >= 0 && y <= nz - 1)) return SAMPLE_OUTSIDE_MESH;
   let i = Math.floor(x);
@@ -228,7 +238,7 @@ function writeOutside(out: FieldSample): void {
  */
 export function sampleField(map: FieldMap, r_m: number, z_m: number, out: FieldSample): number {
   const mesh = map.mesh;
-  const status = prepare(mesh, r_m < 0 ? -r_m : r_m, z_m);
+  const status = prepare(mesh, map.inverseSpacingR_per_m, map.inverseSpacingZ_per_m, r_m < 0 ? -r_m : r_m, z_m);
   if (status !== SAMPLE_FREE) {
     if (status === SAMPLE_OUTSIDE_MESH) writeOutside(out);
     else {
@@ -268,8 +278,8 @@ export function sampleField(map: FieldMap, r_m: number, z_m: number, out: FieldS
     dx += wz[b] * (d0 * v0 + d1 * v1 + d2 * v2 + d3 * v3);
   }
   out.potential_V = p;
-  out.fieldR_V_per_m = (r_m < 0 ? dx : 0 - dx) / mesh.hr_m; // 0 − x turns −0 into +0
-  out.fieldZ_V_per_m = (0 - dy) / mesh.hz_m;
+  out.fieldR_V_per_m = (r_m < 0 ? dx : 0 - dx) * map.inverseSpacingR_per_m; // 0 − x turns −0 into +0
+  out.fieldZ_V_per_m = (0 - dy) * map.inverseSpacingZ_per_m;
   return SAMPLE_FREE;
 }
 
@@ -282,7 +292,7 @@ export function sampleSuperposed(set: UnitFieldSet, driveVoltages_V: ArrayLike<n
   const basis = set.unitPotentials;
   const coefficients = set.unitCoefficients;
   const r = Math.abs(r_m);
-  const status = prepare(mesh, r, z_m);
+  const status = prepare(mesh, 1 / mesh.hr_m, 1 / mesh.hz_m, r, z_m);
   if (status === SAMPLE_OUTSIDE_MESH) {
     writeOutside(out);
     return status;
@@ -309,7 +319,7 @@ export function sampleSuperposed(set: UnitFieldSet, driveVoltages_V: ArrayLike<n
 
 /** Index of the solid electrode containing (r_m, z_m), or −1. Grid planes are transparent. */
 export function electrodeAt(mesh: FieldMesh, r_m: number, z_m: number): number {
-  const status = prepare(mesh, Math.abs(r_m), z_m);
+  const status = prepare(mesh, 1 / mesh.hr_m, 1 / mesh.hz_m, Math.abs(r_m), z_m);
   return status >= 0 ? status : -1;
 }
 
