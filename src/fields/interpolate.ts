@@ -60,7 +60,7 @@ export function splineCoefficients(mesh: FieldMesh, phi: Float64Array, out = new
     for (let i = 0; i < nr; i++) {
       const inner = i === 0 ? phi[o + 1] : phi[o + i - 1];
       const outer = i === nr - 1 ? 3 * phi[o + nr - 1] - 3 * phi[o + nr - 2] + phi[o + nr - 3] : phi[o + i + 1];
-      alongR[o + i] = (8 * phi[o + i] - inner - outer) / 6;
+      alongR[o + i] = (8 * phi[o + i] - inner - outer) * ONE_SIXTH;
     }
   }
   const last = (nz - 1) * nr;
@@ -69,7 +69,7 @@ export function splineCoefficients(mesh: FieldMesh, phi: Float64Array, out = new
     for (let i = 0; i < nr; i++) {
       const below = j === 0 ? 3 * alongR[i] - 3 * alongR[nr + i] + alongR[2 * nr + i] : alongR[o - nr + i];
       const above = j === nz - 1 ? 3 * alongR[last + i] - 3 * alongR[last - nr + i] + alongR[last - 2 * nr + i] : alongR[o + nr + i];
-      out[o + i] = (8 * alongR[o + i] - below - above) / 6;
+      out[o + i] = (8 * alongR[o + i] - below - above) * ONE_SIXTH;
     }
   }
   return out;
@@ -94,15 +94,18 @@ const dwr = new Float64Array(4);
 const wz = new Float64Array(4);
 const dwz = new Float64Array(4);
 
+/** 1/6 as a factor: a multiplication is several times cheaper than a division. */
+const ONE_SIXTH = 1 / 6;
+
 /** Cubic B-spline weights and their t-derivatives for coefficients −1, 0, 1, 2 at offset t ∈ [0, 1]. */
 function cubicWeights(t: number, w: Float64Array, dw: Float64Array): void {
   const t2 = t * t;
   const t3 = t2 * t;
   const u = 1 - t;
-  w[0] = (u * u * u) / 6;
-  w[1] = (3 * t3 - 6 * t2 + 4) / 6;
-  w[2] = (-3 * t3 + 3 * t2 + 3 * t + 1) / 6;
-  w[3] = t3 / 6;
+  w[0] = (u * u * u) * ONE_SIXTH;
+  w[1] = (3 * t3 - 6 * t2 + 4) * ONE_SIXTH;
+  w[2] = (-3 * t3 + 3 * t2 + 3 * t + 1) * ONE_SIXTH;
+  w[3] = t3 * ONE_SIXTH;
   dw[0] = -0.5 * u * u;
   dw[1] = 0.5 * (3 * t2 - 4 * t);
   dw[2] = 0.5 * (-3 * t2 + 2 * t + 1);
@@ -237,6 +240,80 @@ function writeOutside(out: FieldSample): void {
  * SAMPLE_OUTSIDE_MESH (writes zeros). A negative r is read as the mirror point, E_r changing sign.
  */
 export function sampleField(map: FieldMap, r_m: number, z_m: number, out: FieldSample): number {
+  // Fast path: a cell in free space away from every edge (the tracer's usual query), with the
+  // stencil in local variables. Same arithmetic as the general path below, so the same numbers.
+  const mesh = map.mesh;
+  const nr = mesh.nr;
+  const x = (r_m < 0 ? -r_m : r_m) * map.inverseSpacingR_per_m;
+  const y = (z_m - mesh.zMin_m) * map.inverseSpacingZ_per_m;
+  const i = Math.floor(x);
+  const j = Math.floor(y);
+  if (!(i >= 1 && i <= nr - 3 && j >= 1 && j <= mesh.nz - 3) || mesh.cellOwner[j * (nr - 1) + i] !== -1) return sampleFieldAnywhere(map, r_m, z_m, out);
+  const t = x - i;
+  const t2 = t * t;
+  const t3 = t2 * t;
+  const u = 1 - t;
+  const w0 = (u * u * u) * ONE_SIXTH;
+  const w1 = (3 * t3 - 6 * t2 + 4) * ONE_SIXTH;
+  const w2 = (-3 * t3 + 3 * t2 + 3 * t + 1) * ONE_SIXTH;
+  const w3 = t3 * ONE_SIXTH;
+  const d0 = -0.5 * u * u;
+  const d1 = 0.5 * (3 * t2 - 4 * t);
+  const d2 = 0.5 * (-3 * t2 + 2 * t + 1);
+  const d3 = 0.5 * t2;
+  const q = y - j;
+  const q2 = q * q;
+  const q3 = q2 * q;
+  const v = 1 - q;
+  const phi = map.coefficients;
+  let row = (j - 1) * nr + i - 1;
+  let a0 = phi[row];
+  let a1 = phi[row + 1];
+  let a2 = phi[row + 2];
+  let a3 = phi[row + 3];
+  let sr = w0 * a0 + w1 * a1 + w2 * a2 + w3 * a3;
+  let wz = (v * v * v) * ONE_SIXTH;
+  let p = wz * sr;
+  let dy = -0.5 * v * v * sr;
+  let dx = wz * (d0 * a0 + d1 * a1 + d2 * a2 + d3 * a3);
+  row += nr;
+  a0 = phi[row];
+  a1 = phi[row + 1];
+  a2 = phi[row + 2];
+  a3 = phi[row + 3];
+  sr = w0 * a0 + w1 * a1 + w2 * a2 + w3 * a3;
+  wz = (3 * q3 - 6 * q2 + 4) * ONE_SIXTH;
+  p += wz * sr;
+  dy += 0.5 * (3 * q2 - 4 * q) * sr;
+  dx += wz * (d0 * a0 + d1 * a1 + d2 * a2 + d3 * a3);
+  row += nr;
+  a0 = phi[row];
+  a1 = phi[row + 1];
+  a2 = phi[row + 2];
+  a3 = phi[row + 3];
+  sr = w0 * a0 + w1 * a1 + w2 * a2 + w3 * a3;
+  wz = (-3 * q3 + 3 * q2 + 3 * q + 1) * ONE_SIXTH;
+  p += wz * sr;
+  dy += 0.5 * (-3 * q2 + 2 * q + 1) * sr;
+  dx += wz * (d0 * a0 + d1 * a1 + d2 * a2 + d3 * a3);
+  row += nr;
+  a0 = phi[row];
+  a1 = phi[row + 1];
+  a2 = phi[row + 2];
+  a3 = phi[row + 3];
+  sr = w0 * a0 + w1 * a1 + w2 * a2 + w3 * a3;
+  wz = q3 * ONE_SIXTH;
+  p += wz * sr;
+  dy += 0.5 * q2 * sr;
+  dx += wz * (d0 * a0 + d1 * a1 + d2 * a2 + d3 * a3);
+  out.potential_V = p;
+  out.fieldR_V_per_m = (r_m < 0 ? dx : 0 - dx) * map.inverseSpacingR_per_m; // 0 − x turns −0 into +0
+  out.fieldZ_V_per_m = (0 - dy) * map.inverseSpacingZ_per_m;
+  return SAMPLE_FREE;
+}
+
+/** sampleField for any query: edges (axis mirror, ghost nodes), electrodes and outside the mesh. */
+function sampleFieldAnywhere(map: FieldMap, r_m: number, z_m: number, out: FieldSample): number {
   const mesh = map.mesh;
   const status = prepare(mesh, map.inverseSpacingR_per_m, map.inverseSpacingZ_per_m, r_m < 0 ? -r_m : r_m, z_m);
   if (status !== SAMPLE_FREE) {
