@@ -86,6 +86,53 @@ describe('parameter panel fields', () => {
     expect(getAt(doc, 'mirror')).toEqual(dual.mirror);
   });
 
+  it('switching to a gridless (solved) mirror gives a valid preset whose back plate suits the source, and back again', () => {
+    const memory = new Map<string, unknown>();
+    const dual = demoPreset('demo-reflectron-dual');
+    const doc = cloneJson(dual);
+    const mirror = field<ChoiceField>('mirrorType');
+    mirror.set(doc, 'solved', memory);
+    expect(getAt(doc, 'mirror.type')).toBe('solved');
+    // 1.12 × the repeller's potential above the drift tube, as in the gridless demo (invented scenario).
+    const expected = dual.drift.potential_V + 1.12 * (dual.source.repeller.potential_V - dual.drift.potential_V);
+    expect(getAt(doc, 'mirror.backPlate.potential_V')).toBeCloseTo(expected, -1);
+    const checked = validatePreset(doc);
+    expect(checked.ok).toBe(true);
+    // Its controls: the back plate and the return path; no entrance grid transmission (it has no grid).
+    const shown = FIELDS.filter((f) => f.group === 'mirror' && (!f.visible || f.visible(doc))).map((f) => f.key);
+    expect(shown).toEqual(['mirrorType', 'solvedBack_V', 'return_mm']);
+    const back = field<NumberField>('solvedBack_V');
+    back.set(doc, 23_000);
+    expect(getAt(doc, 'mirror.backPlate.potential_V')).toBe(23_000);
+    mirror.set(doc, 'dual', memory);
+    expect(getAt(doc, 'mirror')).toEqual(dual.mirror);
+    mirror.set(doc, 'solved', memory);
+    expect(getAt(doc, 'mirror.backPlate.potential_V')).toBe(23_000);
+  });
+
+  it('the aperture-plate switch adds and removes the solved source, and leaving the two-stage source sets it aside', () => {
+    const memory = new Map<string, unknown>();
+    const linear = demoPreset('demo-linear-delayed');
+    const doc = cloneJson(linear);
+    const plates = field<SwitchField>('apertureSource');
+    plates.set(doc, true, memory);
+    expect(getAt(doc, 'source.solved')).toEqual(demoPreset('demo-aperture-source').source.solved);
+    expect(validatePreset(doc).ok).toBe(true);
+    // Plates have no grid transmission to edit.
+    expect(field<NumberField>('gridTransmission').visible!(doc)).toBe(false);
+    expect(field<NumberField>('groundTransmission').visible!(doc)).toBe(false);
+    const twoStage = field<SwitchField>('twoStage');
+    twoStage.set(doc, false, memory);
+    expect(getAt(doc, 'source.solved')).toBeUndefined();
+    expect(validatePreset(doc).ok).toBe(true);
+    twoStage.set(doc, true, memory);
+    plates.set(doc, true, memory);
+    expect(getAt(doc, 'source.solved')).toEqual(demoPreset('demo-aperture-source').source.solved);
+    plates.set(doc, false, memory);
+    expect(getAt(doc, 'source.solved')).toBeUndefined();
+    expect(validatePreset(doc).ok).toBe(true);
+  });
+
   it('switches that add and remove a part (two-stage source, post-acceleration) give valid presets', () => {
     const memory = new Map<string, unknown>();
     const doc = cloneJson(demoPreset('demo-linear-delayed'));

@@ -91,12 +91,20 @@ export function runFigures(report: RunReport): RunFigures {
 
 /** A short description of the analyser of a setup. */
 export function describeSetup(preset: Preset): string {
-  const source = preset.source.extractionGrid ? 'two-stage source' : 'single-stage source';
+  const source = preset.source.extractionGrid
+    ? preset.source.solved
+      ? 'two-stage source with aperture plates (solved field)'
+      : 'two-stage source'
+    : 'single-stage source';
   const timing = preset.source.extraction.mode === 'delayed' ? `delay ${preset.source.extraction.delay_ns} ns` : 'static extraction';
   const m = preset.mirror;
-  const flight =
-    m.type === 'none'
-      ? `linear, drift ${preset.drift.length_mm} mm`
-      : `${m.type === 'single' ? 'single' : 'dual'}-stage reflectron, ${preset.drift.length_mm} + ${m.returnLength_mm} mm`;
+  const kind: Record<Preset['mirror']['type'], string> = {
+    none: 'linear',
+    single: 'single-stage reflectron',
+    dual: 'dual-stage reflectron',
+    profile: 'shaped-field reflectron',
+    solved: 'gridless ring-stack reflectron (solved field)',
+  };
+  const flight = m.type === 'none' ? `linear, drift ${preset.drift.length_mm} mm` : `${kind[m.type]}, ${preset.drift.length_mm} + ${m.returnLength_mm} mm`;
   return `${source}, ${timing}; ${flight}`;
 }

@@ -4,6 +4,7 @@
  */
 import uPlot from 'uplot';
 import { Fate } from '../../physics/fates';
+import { idealGridEquivalent } from '../../presets/compileFields';
 import type { Preset } from '../../presets/schema';
 import type { RunOutput } from '../../tuning/api';
 import type { AppContext } from '../appContext';
@@ -41,7 +42,10 @@ export class CompareView {
   async refreshChoices(): Promise<void> {
     const working = this.app.working();
     const keep = this.select.value;
+    const solved = working.mirror.type === 'solved' || working.source.solved !== undefined;
     const options: HTMLOptionElement[] = [
+      // Solved fields vs the ideal grids they replace: the comparison such a setup is made for.
+      ...(solved ? [el('option', { value: 'ideal-grids', text: 'This setup with ideal grids in place of its solved electrodes' })] : []),
       el('option', { value: 'other-mode', text: working.mirror.type === 'none' ? 'This setup in reflectron mode (dual-stage mirror)' : 'This setup in linear mode (same total path)' }),
       el('option', { value: 'snapshot', text: 'This setup as it is now (frozen, to compare later edits)' }),
       ...demos().map((d) => el('option', { value: `demo:${d.id}`, text: `Demo: ${d.preset.name.replace(/^Demo: /, '')}` })),
@@ -55,8 +59,12 @@ export class CompareView {
   }
 
   private async setupB(): Promise<Preset | null> {
-    const choice = this.select.value || 'other-mode';
     const working = this.app.working();
+    const choice = this.select.value || 'other-mode';
+    if (choice === 'ideal-grids') {
+      const ideal = idealGridEquivalent(structuredClone(working));
+      return { ...ideal, name: `${working.name} — ideal grids`.slice(0, 120) };
+    }
     if (choice === 'other-mode') return otherMode(working, demo('dual'));
     if (choice === 'snapshot') return this.snapshot ?? (this.snapshot = structuredClone(working));
     if (choice.startsWith('demo:')) return demo(choice.slice(5) as Demo['id']);

@@ -4,7 +4,9 @@
  * schema's LIMITS; the slider window is only a convenient span inside them (typed values may go
  * beyond it and are then validated like anything else). No DOM here, so it is testable in Node.
  */
+import { FIELD_LIMITS } from '../../presets/fieldsSchema';
 import { LIMITS } from '../../presets/schema';
+import { demo } from '../presets/demos';
 import { deleteAt, getAt, setAt } from './presetPath';
 
 export type GroupId = 'source' | 'timing' | 'drift' | 'mirror' | 'detector' | 'ions' | 'run';
@@ -122,7 +124,11 @@ const firstGap = (doc: unknown): number =>
 const POTENTIAL_WINDOW: readonly [number, number] = [-30_000, 30_000];
 const twoStage = (doc: unknown): boolean => has(doc, 'source.extractionGrid');
 const delayed = is('source.extraction.mode', 'delayed');
-const mirrorOn = (doc: unknown): boolean => ['single', 'dual', 'profile'].includes(String(getAt(doc, 'mirror.type')));
+const mirrorOn = (doc: unknown): boolean => ['single', 'dual', 'profile', 'solved'].includes(String(getAt(doc, 'mirror.type')));
+/** Mirrors with an entrance grid (a gridless mirror has an entrance electrode with an aperture). */
+const griddedMirror = (doc: unknown): boolean => ['single', 'dual', 'profile'].includes(String(getAt(doc, 'mirror.type')));
+/** Plates with apertures (solved field) in place of the source grids. */
+const apertureSource = (doc: unknown): boolean => has(doc, 'source.solved');
 const steppedMirror = (doc: unknown): boolean => getAt(doc, 'mirror.type') === 'single' || getAt(doc, 'mirror.type') === 'dual';
 
 /** The fixed controls (species are added per species by `speciesFields`). */
@@ -150,7 +156,31 @@ export const FIELDS: readonly FieldSpec[] = [
       if (on) {
         const grid = recall(memory, 'extractionGrid:on', () => ({ gap_mm: 3, potential_V: round(0.94 * repeller(doc), 10) }));
         setAt(doc, 'source.extractionGrid', grid);
-      } else swapMode(doc, memory, 'source.extractionGrid', 'extractionGrid', 'on', undefined);
+      } else {
+        swapMode(doc, memory, 'source.extractionGrid', 'extractionGrid', 'on', undefined);
+        // Aperture plates need the extraction electrode: set them aside with it.
+        if (apertureSource(doc)) swapMode(doc, memory, 'source.solved', 'sourceSolved', 'on', undefined);
+      }
+    },
+  },
+  {
+    kind: 'boolean',
+    key: 'apertureSource',
+    group: 'source',
+    label: 'aperture plates, solved field (instead of grids)',
+    path: 'source.solved',
+    visible: twoStage,
+    get: apertureSource,
+    set: (doc, on, memory) => {
+      if (on === apertureSource(doc)) return;
+      if (on) {
+        // Plate geometry of the aperture-source demo (invented); gaps and potentials stay this setup's.
+        const plates = recall(memory, 'sourceSolved:on', () => demo('aperture').source.solved);
+        setAt(doc, 'source.solved', plates);
+        // Plates have no grid transmission.
+        deleteAt(doc, 'source.extractionGrid.transmission');
+        deleteAt(doc, 'source.groundGrid.transmission');
+      } else swapMode(doc, memory, 'source.solved', 'sourceSolved', 'on', undefined);
     },
   },
   numberAt('repeller_V', 'source', 'repeller potential (V)', 'source.repeller.potential_V', LIMITS.potential_V, 10, POTENTIAL_WINDOW),
@@ -165,10 +195,10 @@ export const FIELDS: readonly FieldSpec[] = [
     LIMITS.transmission,
     0.01,
     [0.01, 1],
-    twoStage,
+    (doc) => twoStage(doc) && !apertureSource(doc),
     () => 1,
   ),
-  numberAt('groundTransmission', 'source', 'ground grid transmission (0–1)', 'source.groundGrid.transmission', LIMITS.transmission, 0.01, [0.01, 1], undefined, () => 1),
+  numberAt('groundTransmission', 'source', 'ground grid transmission (0–1)', 'source.groundGrid.transmission', LIMITS.transmission, 0.01, [0.01, 1], (doc) => !apertureSource(doc), () => 1),
 
   // Timing
   {
@@ -248,7 +278,13 @@ export const FIELDS: readonly FieldSpec[] = [
     group: 'mirror',
     label: 'mirror',
     path: 'mirror.type',
-    options: { 'none (linear)': 'none', 'single-stage': 'single', 'dual-stage': 'dual', 'shaped field (profile)': 'profile' },
+    options: {
+      'none (linear)': 'none',
+      'single-stage': 'single',
+      'dual-stage': 'dual',
+      'shaped field (profile)': 'profile',
+      'gridless rings (solved field)': 'solved',
+    },
     get: (doc) => str(doc, 'mirror.type'),
     set: (doc, type, memory) => {
       const from = str(doc, 'mirror.type');
@@ -272,6 +308,17 @@ export const FIELDS: readonly FieldSpec[] = [
           profile: { kind: 'harmonic', backPlate_V: round(1.3 * rep, 10) },
           returnLength_mm: round(0.8 * back(doc), 1),
         }),
+        // Ring-stack geometry of the gridless demo (invented), its back plate scaled to this source
+        // as in the demo (1.12 × the repeller's potential above the drift tube).
+        solved: () => {
+          const drift = num(doc, 'drift.potential_V');
+          const m = structuredClone(demo('gridless').mirror);
+          if (m.type === 'solved') {
+            m.backPlate.potential_V = round(drift + 1.12 * (rep - drift), 10);
+            m.returnLength_mm = round(0.8 * back(doc), 1);
+          }
+          return m;
+        },
       };
       swapMode(doc, memory, 'mirror', 'mirror', from, recall(memory, `mirror:${type}`, defaults[type] ?? defaults.none));
     },
@@ -304,6 +351,18 @@ export const FIELDS: readonly FieldSpec[] = [
   numberAt('intermediate_V', 'mirror', 'intermediate grid (V)', 'mirror.intermediateGrid_V', LIMITS.potential_V, 10, POTENTIAL_WINDOW, is('mirror.type', 'dual')),
   numberAt('reflecting_mm', 'mirror', 'reflecting stage (mm)', 'mirror.reflectingLength_mm', LIMITS.mirrorStage_mm, 0.5, [1, 1000], is('mirror.type', 'dual')),
   numberAt('backPlate_V', 'mirror', 'back plate potential (V)', 'mirror.backPlate_V', LIMITS.potential_V, 10, POTENTIAL_WINDOW, steppedMirror),
+  // A gridless mirror: the ring potentials follow from the divider between the entrance electrode
+  // (drift potential) and the back plate; geometry and divider ratios are edited in the preset file.
+  numberAt(
+    'solvedBack_V',
+    'mirror',
+    'back plate potential (V)',
+    'mirror.backPlate.potential_V',
+    FIELD_LIMITS.potential_V,
+    10,
+    POTENTIAL_WINDOW,
+    is('mirror.type', 'solved'),
+  ),
   numberAt('return_mm', 'mirror', 'mirror → detector (mm)', 'mirror.returnLength_mm', LIMITS.driftLength_mm, 1, [50, 5000], mirrorOn),
   numberAt(
     'entranceTransmission',
@@ -313,7 +372,7 @@ export const FIELDS: readonly FieldSpec[] = [
     LIMITS.transmission,
     0.01,
     [0.01, 1],
-    mirrorOn,
+    griddedMirror,
     () => 1,
   ),
 

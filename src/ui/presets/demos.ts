@@ -1,14 +1,20 @@
-/** The shipped demo setups, bundled with the app and validated like any other input. */
+/**
+ * The shipped demo setups, bundled with the app and validated like any other input. The last two
+ * have solved-field regions (a gridless mirror, an aperture source): their first run solves the
+ * fields, later voltage changes only superpose them.
+ */
 import demoLinear from '../../../presets/demo-linear-delayed.json';
 import demoSingle from '../../../presets/demo-reflectron-single.json';
 import demoDual from '../../../presets/demo-reflectron-dual.json';
 import demoIsotopes from '../../../presets/demo-peptide-isotopes.json';
+import demoGridless from '../../../presets/demo-gridless-mirror.json';
+import demoAperture from '../../../presets/demo-aperture-source.json';
 import { validatePreset } from '../../presets/load';
 import { formatIssues } from '../../presets/issues';
 import type { Preset } from '../../presets/schema';
 
 export interface Demo {
-  readonly id: 'linear' | 'single' | 'dual' | 'isotopes';
+  readonly id: 'linear' | 'single' | 'dual' | 'isotopes' | 'gridless' | 'aperture';
   readonly preset: Preset;
 }
 
@@ -27,6 +33,8 @@ export function demos(): Demo[] {
     { id: 'single', preset: checked(demoSingle, 'single') },
     { id: 'dual', preset: checked(demoDual, 'dual') },
     { id: 'isotopes', preset: checked(demoIsotopes, 'isotopes') },
+    { id: 'gridless', preset: checked(demoGridless, 'gridless') },
+    { id: 'aperture', preset: checked(demoAperture, 'aperture') },
   ];
   return cache;
 }
