@@ -1,7 +1,17 @@
 import { describe, expect, it } from 'vitest';
 import { validatePreset } from '../../src/presets/load';
 import { LIMITS } from '../../src/presets/schema';
-import { FIELDS, fieldForIssue, nextSpecies, sliderSpan, speciesFields, type ChoiceField, type NumberField, type SwitchField } from '../../src/ui/panel/fields';
+import {
+  FIELDS,
+  fieldForIssue,
+  nextSpecies,
+  sliderSpan,
+  speciesFields,
+  type ChoiceField,
+  type NumberField,
+  type SwitchField,
+  type TextField,
+} from '../../src/ui/panel/fields';
 import { cloneJson, deleteAt, getAt, parsePath, setAt } from '../../src/ui/panel/presetPath';
 import { DEMO_FILES, demoPreset } from './helpers';
 
@@ -152,6 +162,54 @@ describe('parameter panel fields', () => {
     expect(getAt(doc, 'source.extraction')).toEqual({ mode: 'static' });
     extraction.set(doc, 'delayed', memory);
     expect(getAt(doc, 'source.extraction.delay_ns')).toBe(getAt(demoPreset('demo-linear-delayed'), 'source.extraction.delay_ns'));
+  });
+
+  it('gives a species a formula (m/z then computed) and takes it away again (m/z kept)', () => {
+    const doc = cloneJson(demoPreset('demo-linear-delayed'));
+    const [formula, adduct, mz, charge] = ['species0_formula', 'species0_adduct', 'species0_mz', 'species0_charge'].map((key) =>
+      speciesFields(0).find((f) => f.key === key),
+    ) as [TextField, TextField, NumberField, NumberField];
+    expect(adduct.visible!(doc)).toBe(false);
+    expect(mz.visible!(doc)).toBe(true);
+    // Angiotensin II, C50H71N13O12; [M+H]+ monoisotopic m/z 1046.5418 (the peptide demo's value, from
+    // our AME 2020 masses, which tests/ions check against the isotopic-distribution package).
+    formula.set(doc, ' C50H71N13O12 ');
+    expect(getAt(doc, 'ions.species[0].formula')).toBe('C50H71N13O12');
+    expect(getAt(doc, 'ions.species[0].adduct')).toBe('protonated');
+    expect(adduct.visible!(doc)).toBe(true);
+    expect(mz.visible!(doc)).toBe(false);
+    expect(getAt(doc, 'ions.species[0].mz') as number).toBeCloseTo(1046.5418, 4);
+    const checked = validatePreset(doc);
+    expect(checked.ok).toBe(true);
+    if (checked.ok) expect(checked.value.ions.species[0].mz).toBeCloseTo(1046.5418, 4);
+    // Doubly protonated: (M + 2H)/2; the species stays the mass calibrant it was.
+    expect(getAt(doc, 'analysis.calibrantMz[0]') as number).toBeCloseTo(1046.5418, 4);
+    charge.set(doc, 2);
+    expect(getAt(doc, 'analysis.calibrantMz[0]')).toBe(getAt(doc, 'ions.species[0].mz'));
+    expect(getAt(doc, 'ions.species[0].mz') as number).toBeCloseTo((1046.5418 + 1.00727646688) / 2, 4);
+    formula.set(doc, '');
+    expect(getAt(doc, 'ions.species[0].formula')).toBeUndefined();
+    expect(getAt(doc, 'ions.species[0].adduct')).toBeUndefined();
+    expect(getAt(doc, 'ions.species[0].mz') as number).toBeCloseTo(523.7745, 3);
+    const final = validatePreset(doc);
+    expect(final.ok ? [] : final.issues).toEqual([]);
+    // Typing an m/z moves the calibrant mark with it too.
+    mz.set(doc, 600);
+    expect(getAt(doc, 'analysis.calibrantMz[0]')).toBe(600);
+    expect(validatePreset(doc).ok).toBe(true);
+  });
+
+  it('an unreadable formula is reported on the formula control', () => {
+    const doc = cloneJson(demoPreset('demo-linear-delayed'));
+    const formula = speciesFields(0).find((f) => f.key === 'species0_formula') as TextField;
+    formula.set(doc, 'C50Xx71');
+    const checked = validatePreset(doc);
+    expect(checked.ok).toBe(false);
+    if (!checked.ok) {
+      const issue = checked.issues.find((i) => i.path.startsWith('ions.species[0]'));
+      expect(issue).toBeDefined();
+      expect(fieldForIssue([...FIELDS, ...speciesFields(0)], issue!.path)?.key).toBe('species0_formula');
+    }
   });
 
   it('maps validation issues to the control that answers for them', () => {

@@ -6,6 +6,7 @@
  */
 import { FIELD_LIMITS } from '../../presets/fieldsSchema';
 import { LIMITS } from '../../presets/schema';
+import { resolveChemistry } from '../../presets/speciesChemistry';
 import { demo } from '../presets/demos';
 import { deleteAt, getAt, setAt } from './presetPath';
 
@@ -549,6 +550,34 @@ export const FIELDS: readonly FieldSpec[] = [
 ];
 
 /** Controls of species i (m/z, charge, abundance, label). */
+/**
+ * Keep a formula species' m/z in the draft equal to its chemistry's (validation recomputes it
+ * anyway), so that clearing the formula leaves the species at the m/z it had. Unknown formulas
+ * are left to validation, which reports them on the formula control.
+ */
+function syncChemistryMz(doc: unknown, base: string): void {
+  const formula = getAt(doc, `${base}.formula`);
+  if (typeof formula !== 'string') return;
+  const before = getAt(doc, `${base}.mz`);
+  const outcome = resolveChemistry({
+    formula,
+    adduct: str(doc, `${base}.adduct`) || 'protonated',
+    charge: num(doc, `${base}.charge`, 1),
+    polarity: getAt(doc, 'polarity') === 'negative' ? 'negative' : 'positive',
+  });
+  if (!outcome.ok) return;
+  setAt(doc, `${base}.mz`, outcome.value.monoisotopicMz);
+  followCalibrant(doc, before, outcome.value.monoisotopicMz);
+}
+
+/** A species marked as mass calibrant stays marked when its m/z changes (the list holds m/z values). */
+function followCalibrant(doc: unknown, before: unknown, after: number): void {
+  const list = getAt(doc, 'analysis.calibrantMz');
+  if (!Array.isArray(list) || typeof before !== 'number' || before === after) return;
+  const at = list.indexOf(before);
+  if (at >= 0) setAt(doc, `analysis.calibrantMz[${at}]`, after);
+}
+
 export function speciesFields(i: number): FieldSpec[] {
   const base = `ions.species[${i}]`;
   return [
@@ -561,8 +590,55 @@ export function speciesFields(i: number): FieldSpec[] {
       get: (doc) => str(doc, `${base}.label`),
       set: (doc, value) => (value.trim() ? setAt(doc, `${base}.label`, value) : deleteAt(doc, `${base}.label`)),
     },
-    numberAt(`species${i}_mz`, 'ions', 'm/z (Th)', `${base}.mz`, LIMITS.mz, 0.0001),
-    numberAt(`species${i}_charge`, 'ions', 'charge state z', `${base}.charge`, LIMITS.charge, 1),
+    {
+      // A formula species' m/z (and isotope envelope) is computed from its chemistry when the setup is
+      // validated, so its m/z control is hidden; clearing the formula keeps the last computed m/z.
+      kind: 'text',
+      key: `species${i}_formula`,
+      group: 'ions',
+      label: 'formula (neutral; sets m/z)',
+      path: `${base}.formula`,
+      get: (doc) => str(doc, `${base}.formula`),
+      set: (doc, value) => {
+        const formula = value.replace(/\s+/g, '');
+        if (formula) {
+          setAt(doc, `${base}.formula`, formula);
+          if (!has(doc, `${base}.adduct`)) setAt(doc, `${base}.adduct`, 'protonated');
+          syncChemistryMz(doc, base);
+        } else {
+          deleteAt(doc, `${base}.formula`);
+          deleteAt(doc, `${base}.adduct`);
+        }
+      },
+    },
+    {
+      kind: 'text',
+      key: `species${i}_adduct`,
+      group: 'ions',
+      label: 'adduct (protonated, [M+Na]+, …)',
+      path: `${base}.adduct`,
+      visible: (doc) => has(doc, `${base}.formula`),
+      get: (doc) => str(doc, `${base}.adduct`),
+      set: (doc, value) => {
+        setAt(doc, `${base}.adduct`, value.trim() || 'protonated');
+        syncChemistryMz(doc, base);
+      },
+    },
+    {
+      ...numberAt(`species${i}_mz`, 'ions', 'm/z (Th)', `${base}.mz`, LIMITS.mz, 0.0001, undefined, (doc) => !has(doc, `${base}.formula`)),
+      set: (doc: unknown, value: number) => {
+        const before = getAt(doc, `${base}.mz`);
+        setAt(doc, `${base}.mz`, value);
+        followCalibrant(doc, before, value);
+      },
+    },
+    {
+      ...numberAt(`species${i}_charge`, 'ions', 'charge state z', `${base}.charge`, LIMITS.charge, 1),
+      set: (doc: unknown, value: number) => {
+        setAt(doc, `${base}.charge`, value);
+        syncChemistryMz(doc, base);
+      },
+    },
     numberAt(`species${i}_abundance`, 'ions', 'relative abundance', `${base}.abundance`, LIMITS.abundance, 0.01, undefined, undefined, () => 1),
     {
       kind: 'boolean',

@@ -121,7 +121,8 @@ export class ParameterPanel {
     else if (field.kind === 'text') field.set(this.draftDoc, value as string);
     else if (field.kind === 'select') field.set(this.draftDoc, value as string, this.memory);
     else field.set(this.draftDoc, value as boolean, this.memory);
-    if (field.kind === 'select' || field.kind === 'boolean') this.refresh();
+    // Switches and choices show or hide other controls; so does giving a species a formula.
+    if (field.kind === 'select' || field.kind === 'boolean' || field.key.endsWith('_formula')) this.refresh();
     if (field.key.endsWith('_label')) this.renameSpeciesFolders();
     this.events.onEdit(this.draftDoc, phase);
   }
