@@ -168,7 +168,7 @@ export const FIELDS: readonly FieldSpec[] = [
     kind: 'boolean',
     key: 'apertureSource',
     group: 'source',
-    label: 'aperture plates, solved field (instead of grids)',
+    label: 'aperture plates (solved)',
     path: 'source.solved',
     visible: twoStage,
     get: apertureSource,
