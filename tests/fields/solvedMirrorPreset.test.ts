@@ -1,6 +1,7 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { main } from '../../src/cli';
+import { solvedCounters } from '../../src/fields/solvedTracer';
 import { fieldCacheStats } from '../../src/fields/unitFieldCache';
 import { Fate } from '../../src/physics/fates';
 import { idealGridEquivalent } from '../../src/presets/compileFields';
@@ -30,6 +31,20 @@ describe('solved (gridless ring-stack) mirror in a preset', () => {
     // The gridless mirror is a lens: off-axis ions come back with a changed transverse velocity.
     expect(bent).toBeGreaterThan(100);
     expect(run.report.detected).toBeGreaterThan(300);
+  });
+
+  it('field evaluations and rejected steps per ion stay under their ceilings (regression guards, not requirements)', () => {
+    // Measured for these 400 ions (seeded): 472 evaluations and 10.3 rejected steps per ion; with a
+    // cubic-convolution field (C⁰ in E) 490 evaluations, without the predictive step control 494
+    // evaluations and 16 rejected steps. The ceilings sit between, so losing either shows here.
+    simulate(valid(doc()), { ions: 400 });
+    solvedCounters.evaluations = 0;
+    solvedCounters.rejected = 0;
+    const run = simulate(valid(doc()), { ions: 400 });
+    const ions = run.ensemble.count;
+    console.log(`[info] solved mirror: ${(solvedCounters.evaluations / ions).toFixed(1)} evaluations, ${(solvedCounters.rejected / ions).toFixed(2)} rejected steps per ion`);
+    expect(solvedCounters.evaluations / ions).toBeLessThan(485);
+    expect(solvedCounters.rejected / ions).toBeLessThan(13);
   });
 
   it('a voltage change reuses the cached unit fields (no new solve) and changes the flight time', () => {
