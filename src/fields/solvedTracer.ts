@@ -14,12 +14,13 @@
  */
 import {
   DOPRI5,
+  SPACE_ENTRY,
+  SPACE_FAR,
   createResult,
   createSolveOptions,
   createWorkspace,
-  defineEvent,
-  defineProblem,
-  solve,
+  solveSpace,
+  type SpaceForce,
 } from '../physics/integrator';
 import { SAMPLE_FREE, createFieldSample, sampleField, sampleSuperposed, type FieldMap } from './interpolate';
 import type { UnitFieldSet } from './unitSolutions';
@@ -179,56 +180,51 @@ function guard(c: TraceContext, r: number, z: number): number {
   return rectClearance(c.region.discs, r, z, c.region.corridorRadius_m - r);
 }
 
-const context: TraceContext = {
-  map: null as unknown as FieldMap,
-  region: null as unknown as SolvedRegion,
-  qOverM: 0,
-  entryZ_m: 0,
-  farZ_m: 0,
-  voltages: new Float64Array(8),
-  careful: false,
-};
+/** The region's force and strike guard for the integrator; one instance, set up per solve. */
+class RegionForce implements SpaceForce, TraceContext {
+  map = null as unknown as FieldMap;
+  region = null as unknown as SolvedRegion;
+  qOverM = 0;
+  entryZ_m = 0;
+  farZ_m = 0;
+  voltages = new Float64Array(8);
+  careful = false;
 
-const problem = defineProblem<TraceContext>(
-  (t, s, d, c) => {
-    const x = s[0];
-    const y = s[1];
+  acceleration(at: Float64Array, out: Float64Array): void {
+    const t = at[0];
+    const x = at[1];
+    const y = at[2];
     const r = Math.sqrt(x * x + y * y);
-    d[0] = s[3];
-    d[1] = s[4];
-    d[2] = s[5];
     // Inside metal or beyond the wall the map reports no field; the strike event ends the solve there.
     // Beyond the mesh's z ends (only stage points of the step that leaves through a region plane
     // at a mesh end get there) the field of the end row continues it: a force that dropped to zero
     // there would cost the error control several rejected steps at every exit.
-    const mesh = c.map.mesh;
-    const z = s[2] < mesh.zMin_m ? mesh.zMin_m : s[2] > mesh.zMax_m ? mesh.zMax_m : s[2];
-    const td = c.region.timeDependent;
+    const mesh = this.map.mesh;
+    const z = at[3] < mesh.zMin_m ? mesh.zMin_m : at[3] > mesh.zMax_m ? mesh.zMax_m : at[3];
+    const td = this.region.timeDependent;
     let status: number;
     if (td !== null && t < td.settle_s) {
-      td.voltagesAt(t, c.voltages);
-      status = sampleSuperposed(td.unitFields, c.voltages, r, z, sample);
-    } else status = sampleField(c.map, r, z, sample);
+      td.voltagesAt(t, this.voltages);
+      status = sampleSuperposed(td.unitFields, this.voltages, r, z, sample);
+    } else status = sampleField(this.map, r, z, sample);
     if (status !== SAMPLE_FREE) {
-      d[3] = d[4] = d[5] = 0;
+      out[0] = out[1] = out[2] = 0;
       return;
     }
-    const k = c.qOverM;
+    const k = this.qOverM;
     const er = r > 0 ? (k * sample.fieldR_V_per_m) / r : 0;
-    d[3] = er * x;
-    d[4] = er * y;
-    d[5] = k * sample.fieldZ_V_per_m;
-  },
-  context,
-  [
-    defineEvent<TraceContext>((_t, s, c) => s[2] - c.entryZ_m, -1, true),
-    defineEvent<TraceContext>((_t, s, c) => s[2] - c.farZ_m, 1, true),
-    // Strike guard (see guard()): goes negative on a strike, or on leaving the corridor.
-    defineEvent<TraceContext>((_t, s, c) => guard(c, Math.sqrt(s[0] * s[0] + s[1] * s[1]), s[2]), -1, true),
-  ],
-);
-const EVENT_ENTRY = 0;
-const EVENT_FAR = 1;
+    out[0] = er * x;
+    out[1] = er * y;
+    out[2] = k * sample.fieldZ_V_per_m;
+  }
+
+  /** Goes negative on a strike, or on leaving the corridor (see guard()). */
+  guard(at: Float64Array): number {
+    return guard(this, Math.sqrt(at[1] * at[1] + at[2] * at[2]), at[3]);
+  }
+}
+
+const context = new RegionForce();
 
 /**
  * Method and tolerances, measured on the demo gridless mirror (300 ions, flight times against
@@ -337,7 +333,7 @@ export function traceSolvedRegion(ion: SolvedIonState, region: SolvedRegion, qOv
     y0[5] = ion.vz;
     options.maxStep = context.careful ? cappedStep : Infinity;
     options.firstStep = Math.min(firstStep, tLimit_s - ion.t, options.maxStep);
-    solve(workspace, problem, ion.t, y0, tLimit_s, options, result);
+    solveSpace(workspace, context, ion.t, y0, tLimit_s, context.entryZ_m, context.farZ_m, options, result);
     solvedCounters.steps += result.steps;
     solvedCounters.rejected += result.rejectedSteps;
     solvedCounters.evaluations += result.rhsEvaluations;
@@ -354,10 +350,10 @@ export function traceSolvedRegion(ion: SolvedIonState, region: SolvedRegion, qOv
       return SolvedExit.FAILED;
     }
     if (result.status !== 'event') return SolvedExit.TIME_LIMIT;
-    if (result.terminalEvent === EVENT_ENTRY || result.terminalEvent === EVENT_FAR) {
-      ion.z = result.terminalEvent === EVENT_ENTRY ? region.entryZ_m : region.farZ_m; // snap onto the plane it crossed
+    if (result.terminalEvent === SPACE_ENTRY || result.terminalEvent === SPACE_FAR) {
+      ion.z = result.terminalEvent === SPACE_ENTRY ? region.entryZ_m : region.farZ_m; // snap onto the plane it crossed
       if (staticField) restoreEnergy(ion, region, qOverM, energy0);
-      return result.terminalEvent === EVENT_ENTRY ? SolvedExit.ENTRY : SolvedExit.FAR;
+      return result.terminalEvent === SPACE_ENTRY ? SolvedExit.ENTRY : SolvedExit.FAR;
     }
     const r = Math.sqrt(ion.x * ion.x + ion.y * ion.y);
     if (context.careful) return struck(region, r, ion.z);

@@ -31,3 +31,4 @@ export {
 } from './events';
 export { createRootReport, findRootBrent, type RootReport, type ScalarFunction } from './brent';
 export { AXIAL_HIGH, AXIAL_LOW, AXIAL_TURN, solveAxial, type AxialForce } from './axialMotion';
+export { SPACE_ENTRY, SPACE_FAR, SPACE_GUARD, solveSpace, type SpaceForce } from './spaceMotion';

