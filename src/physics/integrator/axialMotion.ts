@@ -23,11 +23,7 @@ import { createRootReport, findRootBrent, type ScalarFunction } from './brent';
 import { evaluateDenseOutput, prepareDenseOutput } from './denseOutput';
 import { MESSAGE_TERMINAL_EVENT } from './events';
 import {
-  MAX_FACTOR,
-  MESSAGE_DONE,
-  MIN_FACTOR,
-  MIN_RTOL,
-  SAFETY,
+  beginSolve,
   selectInitialStep,
   type RhsFunction,
   type RungeKuttaWorkspace,
@@ -64,6 +60,8 @@ class AxialProbe implements ScalarFunction {
 }
 
 const probe = new AxialProbe();
+/** (z0, v0) as an array for beginSolve. */
+const state = new Float64Array(2);
 const rootReport = createRootReport();
 const MAX_ROOT_ITERATIONS = 100;
 const ROOT_ABS_TOL_FRACTION = 1 / 1024;
@@ -190,70 +188,17 @@ export function solveAxial(
   options: SolveOptions,
   result: SolveResult,
 ): SolveResult {
-  result.status = 'done';
-  result.message = MESSAGE_DONE;
-  result.steps = 0;
-  result.firstStep = 0;
-  result.nextStep = 0;
-  result.rejectedSteps = 0;
-  result.rhsEvaluations = 0;
-  result.terminalEvent = -1;
-  result.terminalEventTime = Number.POSITIVE_INFINITY;
-  result.eventCount = 0;
-  result.t = t0;
-  ws.evaluations = 0;
   if (ws.dimension !== 2 || result.y.length !== 2) {
     result.status = 'failed';
     result.message = `axial motion needs dimension 2: workspace ${ws.dimension}, result ${result.y.length}`;
     return result;
   }
-  result.y[0] = z0;
-  result.y[1] = v0;
-  if (!Number.isFinite(t0) || Number.isNaN(tEnd)) {
-    result.status = 'failed';
-    result.message = `invalid time interval [${t0}, ${tEnd}]`;
-    return result;
-  }
-  const atolOption = options.atol;
-  if (typeof atolOption === 'number') ws.atol.fill(atolOption);
-  else if (atolOption.length === 2) ws.atol.set(atolOption);
-  else {
-    result.status = 'failed';
-    result.message = `atol has ${atolOption.length} components, expected 2`;
-    return result;
-  }
-  for (let i = 0; i < 2; i++) {
-    if (!(ws.atol[i] > 0 && ws.atol[i] < Number.POSITIVE_INFINITY)) {
-      result.status = 'failed';
-      result.message = `atol[${i}] must be positive and finite, got ${ws.atol[i]}`;
-      return result;
-    }
-  }
-  if (!(options.rtol >= 0 && options.rtol < 1)) {
-    result.status = 'failed';
-    result.message = `rtol must be in [0, 1), got ${options.rtol}`;
-    return result;
-  }
-  const rtol = options.rtol < MIN_RTOL ? MIN_RTOL : options.rtol;
+  state[0] = z0;
+  state[1] = v0;
+  const rtol = beginSolve(ws, t0, state, tEnd, options, result);
+  if (rtol !== rtol) return result;
   const maxStep = options.maxStep;
-  if (!(maxStep > 0)) {
-    result.status = 'failed';
-    result.message = `maxStep must be positive, got ${maxStep}`;
-    return result;
-  }
   const maxSteps = options.maxSteps;
-
-  ws.y[0] = z0;
-  ws.y[1] = v0;
-  if (!Number.isFinite(z0) || !Number.isFinite(v0)) {
-    result.status = 'failed';
-    result.message = 'initial state is not finite';
-    return result;
-  }
-  ws.t = t0;
-  ws.tOld = t0;
-  ws.h = 0;
-  ws.denseReady = false;
   const k = ws.k;
   k[0] = v0;
   k[1] = force.acceleration(t0, z0);
@@ -268,70 +213,46 @@ export function solveAxial(
   let gTurn = v0;
 
   const direction = tEnd > t0 ? 1 : -1;
-  const exponent = -1 / (ws.tableau.errorOrder + 1);
   const fsal = 2 * ws.tableau.stages;
-  let hAbs =
-    options.firstStep > 0
-      ? options.firstStep
-      : selectInitialStep(ws, axialRhs, force, t0, direction, Math.abs(tEnd - t0), rtol, maxStep);
+  const control = ws.control;
+  control.start(
+    options.firstStep > 0 ? options.firstStep : selectInitialStep(ws, axialRhs, force, t0, direction, Math.abs(tEnd - t0), rtol, maxStep),
+    ws.tableau.errorOrder,
+    options.predictive,
+  );
   let attempts = 0;
-  const predictive = options.predictive;
-  let previousStep = 0;
-  let previousError = 0;
 
   for (;;) {
     const t = ws.t;
     const minStep = 10 * Math.max(Math.abs(t) * Number.EPSILON, Number.MIN_VALUE);
-    if (hAbs > maxStep) hAbs = maxStep;
-    else if (hAbs < minStep) hAbs = minStep;
+    if (control.hAbs > maxStep) control.hAbs = maxStep;
+    else if (control.hAbs < minStep) control.hAbs = minStep;
 
-    let rejected = false;
-    // Initialised so that they are numbers from the start: an `undefined` first value made the
-    // optimiser box the doubles assigned to them (measured: a third fewer minor GCs without it).
+    // Numbers from the start (see `solve`): an `undefined` first value gets the doubles boxed.
     // eslint-disable-next-line no-useless-assignment -- see above
     let tNew = t;
     // eslint-disable-next-line no-useless-assignment -- see above
     let h = 0;
     for (;;) {
-      if (hAbs < minStep) return fail(result, ws, `step size underflow at t = ${t}`);
+      if (control.hAbs < minStep) return fail(result, ws, `step size underflow at t = ${t}`);
       if (attempts >= maxSteps) return fail(result, ws, `step limit (${maxSteps}) reached at t = ${t}`);
       attempts++;
-      tNew = t + direction * hAbs;
+      tNew = t + direction * control.hAbs;
       if (direction * (tNew - tEnd) > 0) tNew = tEnd;
       h = tNew - t;
-      hAbs = Math.abs(h);
+      control.hAbs = Math.abs(h);
       ws.stepStart = t;
       ws.stepSize = h;
       ws.stepEnd = tNew;
       axialStep(ws, force);
       axialError(ws, rtol);
-      const err = ws.stepError;
-      if (err < 1) {
-        let factor = err === 0 ? MAX_FACTOR : SAFETY * Math.pow(err, exponent);
-        if (predictive) {
-          const floorErr = err > 1e-4 ? err : 1e-4;
-          if (previousStep > 0) {
-            const trend = (hAbs / previousStep) * SAFETY * Math.pow((floorErr * floorErr) / previousError, exponent);
-            if (trend < factor) factor = trend < MIN_FACTOR ? MIN_FACTOR : trend;
-          }
-          previousStep = hAbs;
-          previousError = floorErr;
-        }
-        if (factor > MAX_FACTOR) factor = MAX_FACTOR;
-        if (rejected && factor > 1) factor = 1;
-        hAbs *= factor;
-        break;
-      }
-      let factor = SAFETY * Math.pow(err, exponent);
-      if (!(factor > MIN_FACTOR)) factor = MIN_FACTOR;
-      hAbs *= factor;
-      rejected = true;
+      if (control.judge(ws)) break;
       result.rejectedSteps++;
     }
 
     if (result.steps === 0) result.firstStep = Math.abs(h);
     result.steps++;
-    result.nextStep = hAbs;
+    result.nextStep = control.hAbs;
     const previous = ws.yOld;
     ws.yOld = ws.y;
     ws.y = ws.yNew;

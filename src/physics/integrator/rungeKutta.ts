@@ -74,6 +74,65 @@ export const MAX_FACTOR = 10;
 export const MIN_RTOL = 100 * Number.EPSILON;
 
 /**
+ * Step-size control of one solve, shared by `solve` and its specialisations (axialMotion.ts,
+ * spaceMotion.ts) so that all of them take the same steps: the plain controller, and optionally
+ * Gustafsson's predictive one (SolveOptions.predictive). Lives in the workspace.
+ */
+export class StepControl {
+  /** Size of the step to try next (positive). */
+  hAbs = 0;
+  private exponent = 0;
+  private predictive = false;
+  /** The step being tried has already been rejected once: no growth right after a rejection. */
+  private rejected = false;
+  /** Size and error of the previous accepted step, for the predictive control (0: none yet). */
+  private previousStep = 0;
+  private previousError = 0;
+
+  start(firstStep: number, errorOrder: number, predictive: boolean): void {
+    this.hAbs = firstStep;
+    this.exponent = -1 / (errorOrder + 1);
+    this.predictive = predictive;
+    this.rejected = false;
+    this.previousStep = 0;
+    this.previousError = 0;
+  }
+
+  /**
+   * Judge the step of size hAbs just tried, whose error norm is in ws.stepError (read there, so
+   * that no double is passed): true when accepted, hAbs then being the size proposed for the next
+   * step; false when rejected, hAbs then being the size to retry with.
+   */
+  judge(ws: RungeKuttaWorkspace): boolean {
+    const err = ws.stepError;
+    const exponent = this.exponent;
+    if (err < 1) {
+      let factor = err === 0 ? MAX_FACTOR : SAFETY * Math.pow(err, exponent);
+      if (this.predictive) {
+        const floorErr = err > 1e-4 ? err : 1e-4;
+        if (this.previousStep > 0) {
+          const trend = (this.hAbs / this.previousStep) * SAFETY * Math.pow((floorErr * floorErr) / this.previousError, exponent);
+          if (trend < factor) factor = trend < MIN_FACTOR ? MIN_FACTOR : trend;
+        }
+        this.previousStep = this.hAbs;
+        this.previousError = floorErr;
+      }
+      if (factor > MAX_FACTOR) factor = MAX_FACTOR;
+      if (this.rejected && factor > 1) factor = 1;
+      this.hAbs *= factor;
+      this.rejected = false;
+      return true;
+    }
+    // Also reached for a NaN error (non-finite stages): shrink as much as allowed.
+    let factor = SAFETY * Math.pow(err, exponent);
+    if (!(factor > MIN_FACTOR)) factor = MIN_FACTOR;
+    this.hAbs *= factor;
+    this.rejected = true;
+    return false;
+  }
+}
+
+/**
  * All scratch storage for one method and one problem dimension. Create once, reuse for any
  * number of solves. Fields are public for the sibling modules (dense output, events) and for
  * fixed-step use in tests; callers normally only read tOld, t, yOld, y after a solve.
@@ -105,6 +164,8 @@ export class RungeKuttaWorkspace {
   denseReady = false;
   /** Right-hand-side evaluations of the current solve. */
   evaluations = 0;
+  /** Step-size control of the current solve. */
+  readonly control = new StepControl();
   // The step being tried and its error norm. Passed through the workspace rather than as
   // arguments so that no double is boxed on the way into or out of the hot functions.
   stepStart = 0;
@@ -443,6 +504,74 @@ function allFinite(v: Float64Array, n: number): boolean {
 }
 
 /**
+ * Start of a solve, shared by `solve` and its specialisations: resets `result`, checks the
+ * interval, the initial state and the options, fills ws.atol and puts (t0, y0) into the
+ * workspace. Returns the relative tolerance to use, or NaN after writing the failure (status
+ * 'failed' and a message naming the bad input) into `result`.
+ */
+export function beginSolve(
+  ws: RungeKuttaWorkspace,
+  t0: number,
+  y0: ArrayLike<number>,
+  tEnd: number,
+  options: SolveOptions,
+  result: SolveResult,
+): number {
+  const n = ws.dimension;
+  result.status = 'done';
+  result.message = MESSAGE_DONE;
+  result.steps = 0;
+  result.firstStep = 0;
+  result.nextStep = 0;
+  result.rejectedSteps = 0;
+  result.rhsEvaluations = 0;
+  result.terminalEvent = -1;
+  result.terminalEventTime = Number.POSITIVE_INFINITY;
+  result.eventCount = 0;
+  result.t = t0;
+  ws.evaluations = 0;
+
+  // Input checks (messages are built only on these failure paths).
+  if (result.y.length !== n || y0.length < n) {
+    failInput(result, `dimension mismatch: workspace ${n}, result ${result.y.length}, y0 ${y0.length}`);
+    return Number.NaN;
+  }
+  for (let i = 0; i < n; i++) result.y[i] = y0[i];
+  const invalid = invalidInput(ws, t0, tEnd, options);
+  if (invalid !== null) {
+    failInput(result, invalid);
+    return Number.NaN;
+  }
+  const y = ws.y;
+  for (let i = 0; i < n; i++) y[i] = y0[i];
+  if (!allFinite(y, n)) {
+    failInput(result, 'initial state is not finite');
+    return Number.NaN;
+  }
+  ws.t = t0;
+  ws.tOld = t0;
+  ws.h = 0;
+  ws.denseReady = false;
+  return options.rtol < MIN_RTOL ? MIN_RTOL : options.rtol;
+}
+
+/** What is wrong with the interval or the options (and ws.atol filled), or null. */
+function invalidInput(ws: RungeKuttaWorkspace, t0: number, tEnd: number, options: SolveOptions): string | null {
+  const n = ws.dimension;
+  if (!Number.isFinite(t0) || Number.isNaN(tEnd)) return `invalid time interval [${t0}, ${tEnd}]`;
+  const atolOption = options.atol;
+  if (typeof atolOption === 'number') ws.atol.fill(atolOption);
+  else if (atolOption.length === n) ws.atol.set(atolOption);
+  else return `atol has ${atolOption.length} components, expected ${n}`;
+  for (let i = 0; i < n; i++) {
+    if (!(ws.atol[i] > 0 && ws.atol[i] < Number.POSITIVE_INFINITY)) return `atol[${i}] must be positive and finite, got ${ws.atol[i]}`;
+  }
+  if (!(options.rtol >= 0 && options.rtol < 1)) return `rtol must be in [0, 1), got ${options.rtol}`;
+  if (!(options.maxStep > 0)) return `maxStep must be positive, got ${options.maxStep}`;
+  return null;
+}
+
+/**
  * Integrate y' = rhs(t, y) from (t0, y0) towards tEnd, stopping early at the first terminal
  * event. Fills and returns `result`. Never throws for numerical trouble.
  */
@@ -460,48 +589,11 @@ export function solve<C>(
   const context = problem.context;
   const events = problem.events;
   const eventCount = events.length;
-
-  result.status = 'done';
-  result.message = MESSAGE_DONE;
-  result.steps = 0;
-  result.firstStep = 0;
-  result.nextStep = 0;
-  result.rejectedSteps = 0;
-  result.rhsEvaluations = 0;
-  result.terminalEvent = -1;
-  result.terminalEventTime = Number.POSITIVE_INFINITY;
-  result.eventCount = 0;
-  result.t = t0;
-  ws.evaluations = 0;
-
-  // Input checks (messages are built only on these failure paths).
-  if (result.y.length !== n || y0.length < n) {
-    return failInput(result, `dimension mismatch: workspace ${n}, result ${result.y.length}, y0 ${y0.length}`);
-  }
-  for (let i = 0; i < n; i++) result.y[i] = y0[i];
-  if (!Number.isFinite(t0) || Number.isNaN(tEnd)) return failInput(result, `invalid time interval [${t0}, ${tEnd}]`);
-  const atolOption = options.atol;
-  if (typeof atolOption === 'number') ws.atol.fill(atolOption);
-  else if (atolOption.length === n) ws.atol.set(atolOption);
-  else return failInput(result, `atol has ${atolOption.length} components, expected ${n}`);
-  for (let i = 0; i < n; i++) {
-    if (!(ws.atol[i] > 0 && ws.atol[i] < Number.POSITIVE_INFINITY)) {
-      return failInput(result, `atol[${i}] must be positive and finite, got ${ws.atol[i]}`);
-    }
-  }
-  if (!(options.rtol >= 0 && options.rtol < 1)) return failInput(result, `rtol must be in [0, 1), got ${options.rtol}`);
-  const rtol = options.rtol < MIN_RTOL ? MIN_RTOL : options.rtol;
+  const rtol = beginSolve(ws, t0, y0, tEnd, options, result);
+  if (rtol !== rtol) return result;
   const maxStep = options.maxStep;
-  if (!(maxStep > 0)) return failInput(result, `maxStep must be positive, got ${maxStep}`);
   const maxSteps = options.maxSteps;
-
   const y = ws.y;
-  for (let i = 0; i < n; i++) y[i] = y0[i];
-  if (!allFinite(y, n)) return failInput(result, 'initial state is not finite');
-  ws.t = t0;
-  ws.tOld = t0;
-  ws.h = 0;
-  ws.denseReady = false;
   rhs(t0, y, ws.kRows[0], context);
   ws.evaluations++;
   if (!allFinite(ws.kRows[0], n)) return fail(result, ws, `right-hand side is not finite at the initial point t = ${t0}`);
@@ -512,27 +604,23 @@ export function solve<C>(
   if (eventCount > 0) startEvents(ws, events, context);
 
   const direction = tEnd > t0 ? 1 : -1;
-  const exponent = -1 / (ws.tableau.errorOrder + 1);
   const fsalOffset = ws.tableau.stages * n;
   const k = ws.k;
-  let hAbs =
-    options.firstStep > 0
-      ? options.firstStep
-      : selectInitialStep(ws, rhs, context, t0, direction, Math.abs(tEnd - t0), rtol, maxStep);
+  const control = ws.control;
+  control.start(
+    options.firstStep > 0 ? options.firstStep : selectInitialStep(ws, rhs, context, t0, direction, Math.abs(tEnd - t0), rtol, maxStep),
+    ws.tableau.errorOrder,
+    options.predictive,
+  );
   let attempts = 0;
-  const predictive = options.predictive;
-  // Size and error of the previous accepted step, for the predictive control (0: none yet).
-  let previousStep = 0;
-  let previousError = 0;
 
   for (;;) {
     const t = ws.t;
     // Ten units in the last place of t: smaller steps would not move t reliably.
     const minStep = 10 * Math.max(Math.abs(t) * Number.EPSILON, Number.MIN_VALUE);
-    if (hAbs > maxStep) hAbs = maxStep;
-    else if (hAbs < minStep) hAbs = minStep;
+    if (control.hAbs > maxStep) control.hAbs = maxStep;
+    else if (control.hAbs < minStep) control.hAbs = minStep;
 
-    let rejected = false;
     // Initialised so that they are numbers from the start: an `undefined` first value made the
     // optimiser box the doubles assigned to them (measured: a third fewer minor GCs without it).
     // eslint-disable-next-line no-useless-assignment -- see above
@@ -540,46 +628,25 @@ export function solve<C>(
     // eslint-disable-next-line no-useless-assignment -- see above
     let h = 0;
     for (;;) {
-      if (hAbs < minStep) return fail(result, ws, `step size underflow at t = ${t}`);
+      if (control.hAbs < minStep) return fail(result, ws, `step size underflow at t = ${t}`);
       if (attempts >= maxSteps) return fail(result, ws, `step limit (${maxSteps}) reached at t = ${t}`);
       attempts++;
-      tNew = t + direction * hAbs;
+      tNew = t + direction * control.hAbs;
       if (direction * (tNew - tEnd) > 0) tNew = tEnd;
       h = tNew - t;
-      hAbs = Math.abs(h);
+      control.hAbs = Math.abs(h);
       ws.stepStart = t;
       ws.stepSize = h;
       ws.stepEnd = tNew;
       takeStep(ws, rhs, context);
       measureError(ws, rtol);
-      const err = ws.stepError;
-      if (err < 1) {
-        let factor = err === 0 ? MAX_FACTOR : SAFETY * Math.pow(err, exponent);
-        if (predictive) {
-          const floorErr = err > 1e-4 ? err : 1e-4;
-          if (previousStep > 0) {
-            const trend = (hAbs / previousStep) * SAFETY * Math.pow((floorErr * floorErr) / previousError, exponent);
-            if (trend < factor) factor = trend < MIN_FACTOR ? MIN_FACTOR : trend;
-          }
-          previousStep = hAbs;
-          previousError = floorErr;
-        }
-        if (factor > MAX_FACTOR) factor = MAX_FACTOR;
-        if (rejected && factor > 1) factor = 1;
-        hAbs *= factor;
-        break;
-      }
-      // Also reached for a NaN error (non-finite stages): shrink as much as allowed.
-      let factor = SAFETY * Math.pow(err, exponent);
-      if (!(factor > MIN_FACTOR)) factor = MIN_FACTOR;
-      hAbs *= factor;
-      rejected = true;
+      if (control.judge(ws)) break;
       result.rejectedSteps++;
     }
 
     if (result.steps === 0) result.firstStep = Math.abs(h);
     result.steps++;
-    result.nextStep = hAbs;
+    result.nextStep = control.hAbs;
     const previous = ws.yOld;
     ws.yOld = ws.y;
     ws.y = ws.yNew;
