@@ -24,12 +24,14 @@ import { createRootReport, findRootBrent, type ScalarFunction } from './brent';
 import { evaluateDenseOutput, prepareDenseOutput } from './denseOutput';
 import { MESSAGE_TERMINAL_EVENT } from './events';
 import {
+  advance,
   beginSolve,
   selectInitialStep,
   type RhsFunction,
   type RungeKuttaWorkspace,
   type SolveOptions,
   type SolveResult,
+  type StepTrial,
 } from './rungeKutta';
 import { DOP853 } from './tableaus';
 
@@ -67,6 +69,17 @@ const state = new Float64Array(2);
 const rootReport = createRootReport();
 const MAX_ROOT_ITERATIONS = 100;
 const ROOT_ABS_TOL_FRACTION = 1 / 1024;
+
+/** This method's step for the shared driver loop (`advance`); set up per solve. */
+class AxialTrial implements StepTrial {
+  force: AxialForce | null = null;
+  rtol = 0;
+  tryStep(ws: RungeKuttaWorkspace): void {
+    axialStep(ws, this.force as AxialForce);
+    axialError(ws, this.rtol);
+  }
+}
+const trial = new AxialTrial();
 
 function fail(result: SolveResult, ws: RungeKuttaWorkspace, message: string): SolveResult {
   result.status = 'failed';
@@ -375,53 +388,17 @@ export function solveAxial(
 
   const direction = tEnd > t0 ? 1 : -1;
   const fsal = 2 * ws.tableau.stages;
-  const control = ws.control;
-  control.start(
+  ws.control.start(
     options.firstStep > 0 ? options.firstStep : selectInitialStep(ws, axialRhs, force, t0, direction, Math.abs(tEnd - t0), rtol, maxStep),
     ws.tableau.errorOrder,
     options.predictive,
   );
-  let attempts = 0;
+  trial.force = force;
+  trial.rtol = rtol;
 
   for (;;) {
-    const t = ws.t;
-    const minStep = 10 * Math.max(Math.abs(t) * Number.EPSILON, Number.MIN_VALUE);
-    if (control.hAbs > maxStep) control.hAbs = maxStep;
-    else if (control.hAbs < minStep) control.hAbs = minStep;
-
-    // Numbers from the start (see `solve`): an `undefined` first value gets the doubles boxed.
-    // eslint-disable-next-line no-useless-assignment -- see above
-    let tNew = t;
-    // eslint-disable-next-line no-useless-assignment -- see above
-    let h = 0;
-    for (;;) {
-      if (control.hAbs < minStep) return fail(result, ws, `step size underflow at t = ${t}`);
-      if (attempts >= maxSteps) return fail(result, ws, `step limit (${maxSteps}) reached at t = ${t}`);
-      attempts++;
-      tNew = t + direction * control.hAbs;
-      if (direction * (tNew - tEnd) > 0) tNew = tEnd;
-      h = tNew - t;
-      control.hAbs = Math.abs(h);
-      ws.stepStart = t;
-      ws.stepSize = h;
-      ws.stepEnd = tNew;
-      axialStep(ws, force);
-      axialError(ws, rtol);
-      if (control.judge(ws)) break;
-      result.rejectedSteps++;
-    }
-
-    if (result.steps === 0) result.firstStep = Math.abs(h);
-    result.steps++;
-    result.nextStep = control.hAbs;
-    const previous = ws.yOld;
-    ws.yOld = ws.y;
-    ws.y = ws.yNew;
-    ws.yNew = previous;
-    ws.tOld = t;
-    ws.t = tNew;
-    ws.h = h;
-    ws.denseReady = false;
+    const failure = advance(ws, trial, tEnd, maxStep, maxSteps, result);
+    if (failure !== null) return fail(result, ws, failure);
 
     // The three events, with the crossing rules of events.ts.
     const z = ws.y[0];
@@ -439,8 +416,8 @@ export function solveAxial(
     gHigh = newHigh;
     gLow = newLow;
     gTurn = v;
-    if (tNew === tEnd) {
-      result.t = tNew;
+    if (ws.t === tEnd) {
+      result.t = tEnd;
       result.y[0] = z;
       result.y[1] = v;
       result.rhsEvaluations = ws.evaluations;

@@ -81,6 +81,8 @@ export const MIN_RTOL = 100 * Number.EPSILON;
 export class StepControl {
   /** Size of the step to try next (positive). */
   hAbs = 0;
+  /** Steps tried in this solve (accepted and rejected), for the step limit. */
+  attempts = 0;
   private exponent = 0;
   private predictive = false;
   /** The step being tried has already been rejected once: no growth right after a rejection. */
@@ -91,6 +93,7 @@ export class StepControl {
 
   start(firstStep: number, errorOrder: number, predictive: boolean): void {
     this.hAbs = firstStep;
+    this.attempts = 0;
     this.exponent = -1 / (errorOrder + 1);
     this.predictive = predictive;
     this.rejected = false;
@@ -166,6 +169,8 @@ export class RungeKuttaWorkspace {
   evaluations = 0;
   /** Step-size control of the current solve. */
   readonly control = new StepControl();
+  /** The generic method's step, set up by `solve`. */
+  readonly genericTrial = new GenericTrial();
   // The step being tried and its error norm. Passed through the workspace rather than as
   // arguments so that no double is boxed on the way into or out of the hot functions.
   stepStart = 0;
@@ -503,6 +508,72 @@ function allFinite(v: Float64Array, n: number): boolean {
   return true;
 }
 
+/** One try of a method over the step stored in the workspace: fills ws.yNew, the stages and ws.stepError. */
+export interface StepTrial {
+  tryStep(ws: RungeKuttaWorkspace): void;
+}
+
+/** The generic method's trial (`takeStep` and `measureError`), kept in its workspace. */
+class GenericTrial implements StepTrial {
+  rhs: RhsFunction<unknown> = () => {};
+  context: unknown = null;
+  rtol = 0;
+  tryStep(ws: RungeKuttaWorkspace): void {
+    takeStep(ws, this.rhs, this.context);
+    measureError(ws, this.rtol);
+  }
+}
+
+/**
+ * Take the next accepted step from ws.t towards tEnd, trying `trial` with the sizes ws.control
+ * proposes (shared by `solve` and its specialisations, so that all take the same steps). Then the
+ * workspace holds the accepted step (tOld, yOld → t, y; its stages in k) and `result` counts it.
+ * Returns null, or the message of a failure (step-size underflow, step limit), the workspace then
+ * still holding the last accepted state.
+ */
+export function advance(ws: RungeKuttaWorkspace, trial: StepTrial, tEnd: number, maxStep: number, maxSteps: number, result: SolveResult): string | null {
+  const control = ws.control;
+  const t = ws.t;
+  const direction = tEnd > t ? 1 : -1;
+  // Ten units in the last place of t: smaller steps would not move t reliably.
+  const minStep = 10 * Math.max(Math.abs(t) * Number.EPSILON, Number.MIN_VALUE);
+  if (control.hAbs > maxStep) control.hAbs = maxStep;
+  else if (control.hAbs < minStep) control.hAbs = minStep;
+  // Initialised so that they are numbers from the start: an `undefined` first value made the
+  // optimiser box the doubles assigned to them (measured: a third fewer minor GCs without it).
+  // eslint-disable-next-line no-useless-assignment -- see above
+  let tNew = t;
+  // eslint-disable-next-line no-useless-assignment -- see above
+  let h = 0;
+  for (;;) {
+    if (control.hAbs < minStep) return `step size underflow at t = ${t}`;
+    if (control.attempts >= maxSteps) return `step limit (${maxSteps}) reached at t = ${t}`;
+    control.attempts++;
+    tNew = t + direction * control.hAbs;
+    if (direction * (tNew - tEnd) > 0) tNew = tEnd;
+    h = tNew - t;
+    control.hAbs = Math.abs(h);
+    ws.stepStart = t;
+    ws.stepSize = h;
+    ws.stepEnd = tNew;
+    trial.tryStep(ws);
+    if (control.judge(ws)) break;
+    result.rejectedSteps++;
+  }
+  if (result.steps === 0) result.firstStep = Math.abs(h);
+  result.steps++;
+  result.nextStep = control.hAbs;
+  const previous = ws.yOld;
+  ws.yOld = ws.y;
+  ws.y = ws.yNew;
+  ws.yNew = previous;
+  ws.tOld = t;
+  ws.t = tNew;
+  ws.h = h;
+  ws.denseReady = false;
+  return null;
+}
+
 /**
  * Start of a solve, shared by `solve` and its specialisations: resets `result`, checks the
  * interval, the initial state and the options, fills ws.atol and puts (t0, y0) into the
@@ -606,62 +677,25 @@ export function solve<C>(
   const direction = tEnd > t0 ? 1 : -1;
   const fsalOffset = ws.tableau.stages * n;
   const k = ws.k;
-  const control = ws.control;
-  control.start(
+  ws.control.start(
     options.firstStep > 0 ? options.firstStep : selectInitialStep(ws, rhs, context, t0, direction, Math.abs(tEnd - t0), rtol, maxStep),
     ws.tableau.errorOrder,
     options.predictive,
   );
-  let attempts = 0;
+  const trial = ws.genericTrial;
+  trial.rhs = rhs as RhsFunction<unknown>;
+  trial.context = context;
+  trial.rtol = rtol;
 
   for (;;) {
-    const t = ws.t;
-    // Ten units in the last place of t: smaller steps would not move t reliably.
-    const minStep = 10 * Math.max(Math.abs(t) * Number.EPSILON, Number.MIN_VALUE);
-    if (control.hAbs > maxStep) control.hAbs = maxStep;
-    else if (control.hAbs < minStep) control.hAbs = minStep;
-
-    // Initialised so that they are numbers from the start: an `undefined` first value made the
-    // optimiser box the doubles assigned to them (measured: a third fewer minor GCs without it).
-    // eslint-disable-next-line no-useless-assignment -- see above
-    let tNew = t;
-    // eslint-disable-next-line no-useless-assignment -- see above
-    let h = 0;
-    for (;;) {
-      if (control.hAbs < minStep) return fail(result, ws, `step size underflow at t = ${t}`);
-      if (attempts >= maxSteps) return fail(result, ws, `step limit (${maxSteps}) reached at t = ${t}`);
-      attempts++;
-      tNew = t + direction * control.hAbs;
-      if (direction * (tNew - tEnd) > 0) tNew = tEnd;
-      h = tNew - t;
-      control.hAbs = Math.abs(h);
-      ws.stepStart = t;
-      ws.stepSize = h;
-      ws.stepEnd = tNew;
-      takeStep(ws, rhs, context);
-      measureError(ws, rtol);
-      if (control.judge(ws)) break;
-      result.rejectedSteps++;
-    }
-
-    if (result.steps === 0) result.firstStep = Math.abs(h);
-    result.steps++;
-    result.nextStep = control.hAbs;
-    const previous = ws.yOld;
-    ws.yOld = ws.y;
-    ws.y = ws.yNew;
-    ws.yNew = previous;
-    ws.tOld = t;
-    ws.t = tNew;
-    ws.h = h;
-    ws.denseReady = false;
-
+    const failure = advance(ws, trial, tEnd, maxStep, maxSteps, result);
+    if (failure !== null) return fail(result, ws, failure);
     if (eventCount > 0 && locateEvents(ws, rhs, events, context, result)) {
       result.rhsEvaluations = ws.evaluations;
       return result;
     }
-    if (tNew === tEnd) {
-      result.t = tNew;
+    if (ws.t === tEnd) {
+      result.t = tEnd;
       result.y.set(ws.y);
       result.rhsEvaluations = ws.evaluations;
       return result;
