@@ -41,7 +41,6 @@ export class CompareView {
   /** Refill the choice of setup B (call when the working setup or the saved presets change). */
   async refreshChoices(): Promise<void> {
     const working = this.app.working();
-    const keep = this.select.value;
     const solved = working.mirror.type === 'solved' || working.source.solved !== undefined;
     const options: HTMLOptionElement[] = [
       // Solved fields vs the ideal grids they replace: the comparison such a setup is made for.
@@ -54,6 +53,8 @@ export class CompareView {
       const listing = await this.app.store.list();
       for (const r of listing.records) options.push(el('option', { value: `record:${r.id}`, text: `Saved: ${r.name}` }));
     }
+    // Read the choice only now: it may have changed while the saved presets were being listed.
+    const keep = this.select.value;
     this.select.replaceChildren(...options);
     if (options.some((o) => o.value === keep)) this.select.value = keep;
   }
