@@ -20,9 +20,8 @@
  * The result goes into an ordinary SolveResult; after an event the workspace holds the step's
  * interpolant (evaluateDenseOutput works on it), as after `solve`.
  */
-import { createRootReport, findRootBrent, type ScalarFunction } from './brent';
 import { evaluateDenseOutput, prepareDenseOutput } from './denseOutput';
-import { MESSAGE_TERMINAL_EVENT } from './events';
+import { ensureEventCapacity, stopAtEarliest, type EventProbe } from './events';
 import {
   advance,
   beginSolve,
@@ -52,11 +51,17 @@ const axialRhs: RhsFunction<AxialForce> = (t, y, dydt, force) => {
   dydt[1] = force.acceleration(t, y[0]);
 };
 
-/** One event function along the interpolant of the last step: component − offset. */
-class AxialProbe implements ScalarFunction {
+/** The three events along the interpolant of the last step (for stopAtEarliest). */
+class AxialProbe implements EventProbe {
   ws: RungeKuttaWorkspace | null = null;
-  component = 0;
-  offset = 0;
+  lo = 0;
+  hi = 0;
+  private component = 0;
+  private offset = 0;
+  select(event: number): void {
+    this.component = event === AXIAL_TURN ? 1 : 0;
+    this.offset = event === AXIAL_HIGH ? this.hi : event === AXIAL_LOW ? this.lo : 0;
+  }
   evaluate(t: number): number {
     const ws = this.ws as RungeKuttaWorkspace;
     return evaluateDenseOutput(ws, t, ws.yDense)[this.component] - this.offset;
@@ -66,9 +71,6 @@ class AxialProbe implements ScalarFunction {
 const probe = new AxialProbe();
 /** (z0, v0) as an array for beginSolve. */
 const state = new Float64Array(2);
-const rootReport = createRootReport();
-const MAX_ROOT_ITERATIONS = 100;
-const ROOT_ABS_TOL_FRACTION = 1 / 1024;
 
 /** This method's step for the shared driver loop (`advance`); set up per solve. */
 class AxialTrial implements StepTrial {
@@ -371,6 +373,7 @@ export function solveAxial(
   state[1] = v0;
   const rtol = beginSolve(ws, t0, state, tEnd, options, result);
   if (rtol !== rtol) return result;
+  ensureEventCapacity(ws, 3);
   const maxStep = options.maxStep;
   const maxSteps = options.maxSteps;
   const k = ws.k;
@@ -409,7 +412,21 @@ export function solveAxial(
     const crossLow = gLow > 0 && newLow <= 0;
     const crossTurn = (gTurn < 0 && v >= 0) || (gTurn > 0 && v <= 0);
     if (crossHigh || crossLow || crossTurn) {
-      firstEvent(ws, force, crossHigh, crossLow, crossTurn, gHigh, newHigh, gLow, newLow, gTurn, v, hi, lo, result);
+      ws.gOld[AXIAL_HIGH] = gHigh;
+      ws.gNew[AXIAL_HIGH] = newHigh;
+      ws.eventCrossing[AXIAL_HIGH] = crossHigh ? 1 : 0;
+      ws.gOld[AXIAL_LOW] = gLow;
+      ws.gNew[AXIAL_LOW] = newLow;
+      ws.eventCrossing[AXIAL_LOW] = crossLow ? 1 : 0;
+      ws.gOld[AXIAL_TURN] = gTurn;
+      ws.gNew[AXIAL_TURN] = v;
+      ws.eventCrossing[AXIAL_TURN] = crossTurn ? 1 : 0;
+      prepareDenseOutput(ws, axialRhs, force);
+      probe.ws = ws;
+      probe.lo = lo;
+      probe.hi = hi;
+      stopAtEarliest(ws, probe, 3, result);
+      probe.ws = null;
       result.rhsEvaluations = ws.evaluations;
       return result;
     }
@@ -426,76 +443,4 @@ export function solveAxial(
     k[0] = k[fsal];
     k[1] = k[fsal + 1];
   }
-}
-
-/** Locate the crossings of the last step on its interpolant and stop at the earliest one. */
-function firstEvent(
-  ws: RungeKuttaWorkspace,
-  force: AxialForce,
-  crossHigh: boolean,
-  crossLow: boolean,
-  crossTurn: boolean,
-  gHighOld: number,
-  gHighNew: number,
-  gLowOld: number,
-  gLowNew: number,
-  gTurnOld: number,
-  gTurnNew: number,
-  hi: number,
-  lo: number,
-  result: SolveResult,
-): void {
-  prepareDenseOutput(ws, axialRhs, force);
-  const tOld = ws.tOld;
-  const tNew = ws.t;
-  const absTol = Number.EPSILON * Math.abs(tNew - tOld) * ROOT_ABS_TOL_FRACTION;
-  probe.ws = ws;
-  let best = -1;
-  let bestRoot = tNew;
-  let bestDirection = 0;
-  // In event order, keeping the first of equal roots (the generic driver's stable sort does the same).
-  for (let e = AXIAL_HIGH; e <= AXIAL_TURN; e++) {
-    let gOld: number;
-    let gNew: number;
-    if (e === AXIAL_HIGH) {
-      if (!crossHigh) continue;
-      probe.component = 0;
-      probe.offset = hi;
-      gOld = gHighOld;
-      gNew = gHighNew;
-    } else if (e === AXIAL_LOW) {
-      if (!crossLow) continue;
-      probe.component = 0;
-      probe.offset = lo;
-      gOld = gLowOld;
-      gNew = gLowNew;
-    } else {
-      if (!crossTurn) continue;
-      probe.component = 1;
-      probe.offset = 0;
-      gOld = gTurnOld;
-      gNew = gTurnNew;
-    }
-    let root = findRootBrent(probe, tOld, tNew, gOld, gNew, absTol, MAX_ROOT_ITERATIONS, rootReport);
-    if (root !== root) root = tNew;
-    if (best < 0 || Math.abs(root - tOld) < Math.abs(bestRoot - tOld)) {
-      best = e;
-      bestRoot = root;
-      bestDirection = gOld < 0 ? 1 : -1;
-    }
-  }
-  probe.ws = null;
-  if (result.eventCapacity > 0) {
-    result.eventIndex[0] = best;
-    result.eventTime[0] = bestRoot;
-    result.eventDirection[0] = bestDirection;
-    evaluateDenseOutput(ws, bestRoot, result.eventState, 0);
-  }
-  result.eventCount = 1;
-  evaluateDenseOutput(ws, bestRoot, result.y);
-  result.t = bestRoot;
-  result.terminalEvent = best;
-  result.terminalEventTime = bestRoot;
-  result.status = 'event';
-  result.message = MESSAGE_TERMINAL_EVENT;
 }

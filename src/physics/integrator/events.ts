@@ -159,3 +159,46 @@ export function locateEvents<C>(
 }
 
 export const MESSAGE_TERMINAL_EVENT = 'stopped at a terminal event';
+
+/** An event function on the last step's interpolant, chosen by its index (for stopAtEarliest). */
+export interface EventProbe extends ScalarFunction {
+  select(event: number): void;
+}
+
+/**
+ * For the drivers with built-in events (axialMotion.ts, spaceMotion.ts), all terminal: the last
+ * accepted step crossed the events e < count with ws.eventCrossing[e] ≠ 0, their values going from
+ * ws.gOld[e] to ws.gNew[e]. Locate each on the step's interpolant (prepared by the caller) and
+ * stop the solve at the earliest, recording it as `locateEvents` does; of equal roots the lower
+ * index wins, as in its stable sort.
+ */
+export function stopAtEarliest(ws: RungeKuttaWorkspace, probe: EventProbe, count: number, result: SolveResult): void {
+  const tOld = ws.tOld;
+  const tNew = ws.t;
+  const absTol = Number.EPSILON * Math.abs(tNew - tOld) * ROOT_ABS_TOL_FRACTION;
+  let best = -1;
+  let bestRoot = tNew;
+  for (let e = 0; e < count; e++) {
+    if (ws.eventCrossing[e] === 0) continue;
+    probe.select(e);
+    let root = findRootBrent(probe, tOld, tNew, ws.gOld[e], ws.gNew[e], absTol, MAX_ROOT_ITERATIONS, rootReport);
+    if (root !== root) root = tNew;
+    if (best < 0 || Math.abs(root - tOld) < Math.abs(bestRoot - tOld)) {
+      best = e;
+      bestRoot = root;
+    }
+  }
+  if (result.eventCapacity > 0) {
+    result.eventIndex[0] = best;
+    result.eventTime[0] = bestRoot;
+    result.eventDirection[0] = ws.gOld[best] < 0 ? 1 : -1;
+    evaluateDenseOutput(ws, bestRoot, result.eventState, 0);
+  }
+  result.eventCount = 1;
+  evaluateDenseOutput(ws, bestRoot, result.y);
+  result.t = bestRoot;
+  result.terminalEvent = best;
+  result.terminalEventTime = bestRoot;
+  result.status = 'event';
+  result.message = MESSAGE_TERMINAL_EVENT;
+}

@@ -20,9 +20,8 @@
  * writes the acceleration into another. After an event the workspace holds the step's interpolant
  * (evaluateDenseOutput works on it), as after `solve`.
  */
-import { createRootReport, findRootBrent, type ScalarFunction } from './brent';
 import { evaluateDenseOutput, prepareDenseOutput } from './denseOutput';
-import { MESSAGE_TERMINAL_EVENT } from './events';
+import { ensureEventCapacity, stopAtEarliest, type EventProbe } from './events';
 import {
   advance,
   beginSolve,
@@ -211,17 +210,21 @@ function spaceError(ws: RungeKuttaWorkspace, rtol: number): void {
   ws.stepError = Math.abs(ws.stepSize) * Math.sqrt(sum / 6);
 }
 
-/** One event function along the interpolant of the last step. */
-class SpaceProbe implements ScalarFunction {
+/** The three events along the interpolant of the last step (for stopAtEarliest). */
+class SpaceProbe implements EventProbe {
   ws: RungeKuttaWorkspace | null = null;
   force: SpaceForce | null = null;
-  /** 0, 1: z minus `plane`; 2: the guard. */
-  kind = 0;
-  plane = 0;
+  entryZ = 0;
+  farZ = 0;
+  private event = 0;
+  select(event: number): void {
+    this.event = event;
+  }
   evaluate(t: number): number {
     const ws = this.ws as RungeKuttaWorkspace;
     const s = evaluateDenseOutput(ws, t, ws.yDense);
-    if (this.kind !== SPACE_GUARD) return s[2] - this.plane;
+    if (this.event === SPACE_ENTRY) return s[2] - this.entryZ;
+    if (this.event === SPACE_FAR) return s[2] - this.farZ;
     at[0] = t;
     at[1] = s[0];
     at[2] = s[1];
@@ -231,9 +234,6 @@ class SpaceProbe implements ScalarFunction {
 }
 
 const probe = new SpaceProbe();
-const rootReport = createRootReport();
-const MAX_ROOT_ITERATIONS = 100;
-const ROOT_ABS_TOL_FRACTION = 1 / 1024;
 
 /** This method's step for the shared driver loop (`advance`); set up per solve. */
 class SpaceTrial implements StepTrial {
@@ -291,6 +291,7 @@ export function solveSpace(
   }
   const rtol = beginSolve(ws, t0, y0, tEnd, options, result);
   if (rtol !== rtol) return result;
+  ensureEventCapacity(ws, 3);
   const maxStep = options.maxStep;
   const maxSteps = options.maxSteps;
   const y = ws.y;
@@ -328,7 +329,23 @@ export function solveSpace(
     const crossFar = gFar < 0 && newFar >= 0;
     const crossGuard = gGuard > 0 && newGuard <= 0;
     if (crossEntry || crossFar || crossGuard) {
-      firstEvent(ws, force, crossEntry, crossFar, crossGuard, gEntry, newEntry, gFar, newFar, gGuard, newGuard, entryZ, farZ, result);
+      ws.gOld[SPACE_ENTRY] = gEntry;
+      ws.gNew[SPACE_ENTRY] = newEntry;
+      ws.eventCrossing[SPACE_ENTRY] = crossEntry ? 1 : 0;
+      ws.gOld[SPACE_FAR] = gFar;
+      ws.gNew[SPACE_FAR] = newFar;
+      ws.eventCrossing[SPACE_FAR] = crossFar ? 1 : 0;
+      ws.gOld[SPACE_GUARD] = gGuard;
+      ws.gNew[SPACE_GUARD] = newGuard;
+      ws.eventCrossing[SPACE_GUARD] = crossGuard ? 1 : 0;
+      prepareDenseOutput(ws, spaceRhs, force);
+      probe.ws = ws;
+      probe.force = force;
+      probe.entryZ = entryZ;
+      probe.farZ = farZ;
+      stopAtEarliest(ws, probe, 3, result);
+      probe.ws = null;
+      probe.force = null;
       result.rhsEvaluations = ws.evaluations;
       return result;
     }
@@ -343,77 +360,4 @@ export function solveSpace(
     }
     for (let i = 0; i < 6; i++) k[i] = k[36 + i];
   }
-}
-
-/** Locate the crossings of the last step on its interpolant and stop at the earliest one. */
-function firstEvent(
-  ws: RungeKuttaWorkspace,
-  force: SpaceForce,
-  crossEntry: boolean,
-  crossFar: boolean,
-  crossGuard: boolean,
-  gEntryOld: number,
-  gEntryNew: number,
-  gFarOld: number,
-  gFarNew: number,
-  gGuardOld: number,
-  gGuardNew: number,
-  entryZ: number,
-  farZ: number,
-  result: SolveResult,
-): void {
-  prepareDenseOutput(ws, spaceRhs, force);
-  const tOld = ws.tOld;
-  const tNew = ws.t;
-  const absTol = Number.EPSILON * Math.abs(tNew - tOld) * ROOT_ABS_TOL_FRACTION;
-  probe.ws = ws;
-  probe.force = force;
-  let best = -1;
-  let bestRoot = tNew;
-  let bestDirection = 0;
-  // In event order, keeping the first of equal roots (the generic driver's stable sort does the same).
-  for (let e = SPACE_ENTRY; e <= SPACE_GUARD; e++) {
-    let gOld: number;
-    let gNew: number;
-    if (e === SPACE_ENTRY) {
-      if (!crossEntry) continue;
-      probe.kind = e;
-      probe.plane = entryZ;
-      gOld = gEntryOld;
-      gNew = gEntryNew;
-    } else if (e === SPACE_FAR) {
-      if (!crossFar) continue;
-      probe.kind = e;
-      probe.plane = farZ;
-      gOld = gFarOld;
-      gNew = gFarNew;
-    } else {
-      if (!crossGuard) continue;
-      probe.kind = e;
-      gOld = gGuardOld;
-      gNew = gGuardNew;
-    }
-    let root = findRootBrent(probe, tOld, tNew, gOld, gNew, absTol, MAX_ROOT_ITERATIONS, rootReport);
-    if (root !== root) root = tNew;
-    if (best < 0 || Math.abs(root - tOld) < Math.abs(bestRoot - tOld)) {
-      best = e;
-      bestRoot = root;
-      bestDirection = gOld < 0 ? 1 : -1;
-    }
-  }
-  probe.ws = null;
-  probe.force = null;
-  if (result.eventCapacity > 0) {
-    result.eventIndex[0] = best;
-    result.eventTime[0] = bestRoot;
-    result.eventDirection[0] = bestDirection;
-    evaluateDenseOutput(ws, bestRoot, result.eventState, 0);
-  }
-  result.eventCount = 1;
-  evaluateDenseOutput(ws, bestRoot, result.y);
-  result.t = bestRoot;
-  result.terminalEvent = best;
-  result.terminalEventTime = bestRoot;
-  result.status = 'event';
-  result.message = MESSAGE_TERMINAL_EVENT;
 }
