@@ -25,6 +25,8 @@ import { ensureEventCapacity, stopAtEarliest, type EventProbe } from './events';
 import {
   advance,
   beginSolve,
+  fail,
+  failInput,
   selectInitialStep,
   type RhsFunction,
   type RungeKuttaWorkspace,
@@ -82,16 +84,6 @@ class AxialTrial implements StepTrial {
   }
 }
 const trial = new AxialTrial();
-
-function fail(result: SolveResult, ws: RungeKuttaWorkspace, message: string): SolveResult {
-  result.status = 'failed';
-  result.message = message;
-  result.t = ws.t;
-  result.y[0] = ws.y[0];
-  result.y[1] = ws.y[1];
-  result.rhsEvaluations = ws.evaluations;
-  return result;
-}
 
 // DOP853 coefficients (tableaus.ts) as constants, for the written-out uniform-field step: only
 // the nonzero entries, in the column order of the generic driver's sparse rows.
@@ -365,9 +357,7 @@ export function solveAxial(
   result: SolveResult,
 ): SolveResult {
   if (ws.dimension !== 2 || result.y.length !== 2) {
-    result.status = 'failed';
-    result.message = `axial motion needs dimension 2: workspace ${ws.dimension}, result ${result.y.length}`;
-    return result;
+    return failInput(result, `axial motion needs dimension 2: workspace ${ws.dimension}, result ${result.y.length}`);
   }
   state[0] = z0;
   state[1] = v0;

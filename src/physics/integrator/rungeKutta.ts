@@ -488,7 +488,8 @@ export function selectInitialStep<C>(
   return h > 0 ? h : h0; // h1 is NaN when f is not finite one Euler step ahead
 }
 
-function fail(result: SolveResult, ws: RungeKuttaWorkspace, message: string): SolveResult {
+/** A solve that failed after it started: the result keeps the last accepted state. */
+export function fail(result: SolveResult, ws: RungeKuttaWorkspace, message: string): SolveResult {
   result.status = 'failed';
   result.message = message;
   result.t = ws.t;
@@ -497,7 +498,8 @@ function fail(result: SolveResult, ws: RungeKuttaWorkspace, message: string): So
   return result;
 }
 
-function failInput(result: SolveResult, message: string): SolveResult {
+/** A solve refused for its input. */
+export function failInput(result: SolveResult, message: string): SolveResult {
   result.status = 'failed';
   result.message = message;
   return result;

@@ -25,6 +25,8 @@ import { ensureEventCapacity, stopAtEarliest, type EventProbe } from './events';
 import {
   advance,
   beginSolve,
+  fail,
+  failInput,
   selectInitialStep,
   type RhsFunction,
   type RungeKuttaWorkspace,
@@ -245,21 +247,6 @@ class SpaceTrial implements StepTrial {
   }
 }
 const trial = new SpaceTrial();
-
-function fail(result: SolveResult, ws: RungeKuttaWorkspace, message: string): SolveResult {
-  result.status = 'failed';
-  result.message = message;
-  result.t = ws.t;
-  result.y.set(ws.y);
-  result.rhsEvaluations = ws.evaluations;
-  return result;
-}
-
-function failInput(result: SolveResult, message: string): SolveResult {
-  result.status = 'failed';
-  result.message = message;
-  return result;
-}
 
 function guardAt(force: SpaceForce, t: number, s: Float64Array): number {
   at[0] = t;
