@@ -47,7 +47,10 @@
  * Step control follows SciPy's solve_ivp RK driver: error scale atol + max(|y|, |y_new|)·rtol,
  * RMS norm, factor SAFETY·err^(−1/(q+1)) clamped to [MIN_FACTOR, MAX_FACTOR], no growth right
  * after a rejection; first step by Hairer's algorithm (Hairer, Nørsett & Wanner, Solving ODEs I,
- * Sec. II.4) unless `firstStep` is given. Integration backwards in time works (tEnd < t0).
+ * Sec. II.4) unless `firstStep` is given; optionally Gustafsson's predictive control
+ * (`predictive`). Integration backwards in time works (tEnd < t0). The step loop (`advance`), the
+ * controller (`StepControl`) and the input checks (`beginSolve`) are shared with the specialised
+ * drivers axialMotion.ts and spaceMotion.ts, which only supply their own step.
  */
 import { locateEvents, startEvents, type OdeEvent } from './events';
 import type { RungeKuttaTableau } from './tableaus';
