@@ -191,10 +191,9 @@ function prepare(mesh: FieldMesh, inverseHr: number, inverseHz: number, r: numbe
   return SAMPLE_FREE;
 }
 
-/** Apply the prepared stencil to one coefficient array; adds scale × (φ, ∂φ/∂x, ∂φ/∂y) into the accumulators. */
-let accPhi = 0;
-let accDx = 0;
-let accDy = 0;
+/** Apply the prepared stencil to one coefficient array; adds scale × (φ, ∂φ/∂x, ∂φ/∂y) into `acc`. */
+/** Accumulators [φ, ∂φ/∂x, ∂φ/∂y] of `accumulate`: a typed array, as module-level doubles would be boxed on every write. */
+const acc = new Float64Array(3);
 function accumulate(phi: Float64Array, nr: number, scale: number): void {
   const c0 = cols[0];
   const c1 = cols[1];
@@ -223,9 +222,9 @@ function accumulate(phi: Float64Array, nr: number, scale: number): void {
     dy += dwz[b] * s;
     dx += wz[b] * ds;
   }
-  accPhi += scale * p;
-  accDx += scale * dx;
-  accDy += scale * dy;
+  acc[0] += scale * p;
+  acc[1] += scale * dx;
+  acc[2] += scale * dy;
 }
 
 function writeOutside(out: FieldSample): void {
@@ -325,38 +324,11 @@ function sampleFieldAnywhere(map: FieldMap, r_m: number, z_m: number, out: Field
     }
     return status;
   }
-  // Same arithmetic as accumulate(), written out: this is the tracer's innermost call.
-  const phi = map.coefficients;
-  const nr = mesh.nr;
-  const c0 = cols[0];
-  const c1 = cols[1];
-  const c2 = cols[2];
-  const c3 = cols[3];
-  const w0 = wr[0];
-  const w1 = wr[1];
-  const w2 = wr[2];
-  const w3 = wr[3];
-  const d0 = dwr[0];
-  const d1 = dwr[1];
-  const d2 = dwr[2];
-  const d3 = dwr[3];
-  let p = 0;
-  let dx = 0;
-  let dy = 0;
-  for (let b = 0; b < 4; b++) {
-    const row = rows[b] * nr;
-    const v0 = phi[row + c0];
-    const v1 = phi[row + c1];
-    const v2 = phi[row + c2];
-    const v3 = phi[row + c3];
-    const sr = w0 * v0 + w1 * v1 + w2 * v2 + w3 * v3;
-    p += wz[b] * sr;
-    dy += dwz[b] * sr;
-    dx += wz[b] * (d0 * v0 + d1 * v1 + d2 * v2 + d3 * v3);
-  }
-  out.potential_V = p;
-  out.fieldR_V_per_m = (r_m < 0 ? dx : 0 - dx) * map.inverseSpacingR_per_m; // 0 − x turns −0 into +0
-  out.fieldZ_V_per_m = (0 - dy) * map.inverseSpacingZ_per_m;
+  acc[0] = acc[1] = acc[2] = 0;
+  accumulate(map.coefficients, mesh.nr, 1);
+  out.potential_V = acc[0];
+  out.fieldR_V_per_m = (r_m < 0 ? acc[1] : 0 - acc[1]) * map.inverseSpacingR_per_m; // 0 − x turns −0 into +0
+  out.fieldZ_V_per_m = (0 - acc[2]) * map.inverseSpacingZ_per_m;
   return SAMPLE_FREE;
 }
 
@@ -383,14 +355,14 @@ export function sampleSuperposed(set: UnitFieldSet, driveVoltages_V: ArrayLike<n
     out.fieldZ_V_per_m = 0;
     return status;
   }
-  accPhi = accDx = accDy = 0;
+  acc[0] = acc[1] = acc[2] = 0;
   for (let d = 0; d < basis.length; d++) {
     const v = driveVoltages_V[d];
     if (v !== 0) accumulate(coefficients[d], mesh.nr, v);
   }
-  out.potential_V = accPhi;
-  out.fieldR_V_per_m = (r_m < 0 ? accDx : 0 - accDx) / mesh.hr_m; // 0 − x turns −0 into +0
-  out.fieldZ_V_per_m = (0 - accDy) / mesh.hz_m;
+  out.potential_V = acc[0];
+  out.fieldR_V_per_m = (r_m < 0 ? acc[1] : 0 - acc[1]) / mesh.hr_m; // 0 − x turns −0 into +0
+  out.fieldZ_V_per_m = (0 - acc[2]) / mesh.hz_m;
   return SAMPLE_FREE;
 }
 
