@@ -10,12 +10,13 @@
  *   AXIAL_TURN (2)  v changes sign: a turning point (either direction)
  *
  * Why a specialisation: in a uniform field (every source stage) the acceleration does not depend
- * on z, so the stage positions are never needed and their sums are skipped (`uniformInSpace`);
- * with the events built in as well, benchmark B2 ran about 1.3× faster than through `solve`, and
- * with the DOP853 uniform-field step and error norm written out with constant coefficients
- * another ~1.15× (bundled, best of 12 passes, measured side by side). Otherwise the arithmetic is the generic
- * driver's, operation for operation, so the two give the same numbers
- * (tests/physics/integrator/axialMotion.test.ts checks that on several force laws).
+ * on z, so the stage positions are never needed (`uniformInSpace`). For DOP853 in that case the
+ * step forms only the velocity sums, with constant coefficients, and the error norm is written
+ * out; with the events built in as well, benchmark B2 runs about 1.5× faster than through `solve`
+ * (bundled, measured side by side in two stages: 1.3× and 1.15×). Every other case takes the
+ * generic step on the first-order form. The arithmetic is the generic driver's, operation for
+ * operation, so the two give the same numbers (tests/physics/integrator/axialMotion.test.ts
+ * checks that on several force laws).
  *
  * The result goes into an ordinary SolveResult; after an event the workspace holds the step's
  * interpolant (evaluateDenseOutput works on it), as after `solve`.
@@ -33,6 +34,8 @@ import {
   type SolveOptions,
   type SolveResult,
   type StepTrial,
+  measureError,
+  takeStep,
 } from './rungeKutta';
 import { DOP853 } from './tableaus';
 
@@ -73,17 +76,6 @@ class AxialProbe implements EventProbe {
 const probe = new AxialProbe();
 /** (z0, v0) as an array for beginSolve. */
 const state = new Float64Array(2);
-
-/** This method's step for the shared driver loop (`advance`); set up per solve. */
-class AxialTrial implements StepTrial {
-  force: AxialForce | null = null;
-  rtol = 0;
-  tryStep(ws: RungeKuttaWorkspace): void {
-    axialStep(ws, this.force as AxialForce);
-    axialError(ws, this.rtol);
-  }
-}
-const trial = new AxialTrial();
 
 // DOP853 coefficients (tableaus.ts) as constants, for the written-out uniform-field step: only
 // the nonzero entries, in the column order of the generic driver's sparse rows.
@@ -176,7 +168,7 @@ const F10 = DOP853.e3[10];
 const F11 = DOP853.e3[11];
 
 /**
- * axialStep for DOP853 in a uniform field (the acceleration depends on t only), written out:
+ * The DOP853 step in a uniform field (the acceleration depends on t only), written out:
  * only the velocity sums are formed (the stage positions would go unused). Same operations in the
  * same order as the loops, so the same numbers.
  */
@@ -217,7 +209,7 @@ function uniformStepDop853(ws: RungeKuttaWorkspace, force: AxialForce): void {
   ws.evaluations += 12;
 }
 
-/** axialError for DOP853, written out (same operations in the same order as the loops). */
+/** The DOP853 error norm (measureError), written out: same operations in the same order. */
 function errorDop853(ws: RungeKuttaWorkspace, rtol: number): void {
   const k = ws.k;
   const y = ws.y;
@@ -236,107 +228,23 @@ function errorDop853(ws: RungeKuttaWorkspace, rtol: number): void {
   ws.stepError = (Math.abs(ws.stepSize) * sum) / Math.sqrt(denominator * 2);
 }
 
-/** One step from (ws.stepStart, ws.y) of size ws.stepSize; stage 0 of ws.k holds f there. */
-function axialStep(ws: RungeKuttaWorkspace, force: AxialForce): void {
-  if (force.uniformInSpace && ws.tableau === DOP853) {
-    uniformStepDop853(ws, force);
-    return;
-  }
-  const t = ws.stepStart;
-  const h = ws.stepSize;
-  const tab = ws.tableau;
-  const s = tab.stages;
-  const aStart = tab.aSparse.start;
-  const aOffset = ws.aOffset;
-  const aVal = tab.aSparse.value;
-  const c = tab.c;
-  const k = ws.k;
-  const z = ws.y[0];
-  const v = ws.y[1];
-  if (force.uniformInSpace) {
-    for (let j = 1; j < s; j++) {
-      let accV = 0;
-      const pEnd = aStart[j + 1];
-      for (let p = aStart[j]; p < pEnd; p++) accV += aVal[p] * k[aOffset[p] + 1];
-      k[2 * j] = v + h * accV;
-      k[2 * j + 1] = force.acceleration(t + c[j] * h, z);
-    }
-  } else {
-    for (let j = 1; j < s; j++) {
-      let accZ = 0;
-      let accV = 0;
-      const pEnd = aStart[j + 1];
-      for (let p = aStart[j]; p < pEnd; p++) {
-        const coef = aVal[p];
-        const o = aOffset[p];
-        accZ += coef * k[o];
-        accV += coef * k[o + 1];
-      }
-      k[2 * j] = v + h * accV;
-      k[2 * j + 1] = force.acceleration(t + c[j] * h, z + h * accZ);
+/** This method's step for the shared driver loop (`advance`); set up per solve. */
+class AxialTrial implements StepTrial {
+  force: AxialForce | null = null;
+  rtol = 0;
+  tryStep(ws: RungeKuttaWorkspace): void {
+    const force = this.force as AxialForce;
+    if (force.uniformInSpace && ws.tableau === DOP853) {
+      uniformStepDop853(ws, force);
+      errorDop853(ws, this.rtol);
+    } else {
+      // Any other case is the generic step on the first-order form: the same arithmetic.
+      takeStep(ws, axialRhs, force);
+      measureError(ws, this.rtol);
     }
   }
-  const bEnd = tab.bSparse.start[1];
-  const bOffset = ws.bOffset;
-  const bVal = tab.bSparse.value;
-  let accZ = 0;
-  let accV = 0;
-  for (let p = 0; p < bEnd; p++) {
-    const coef = bVal[p];
-    const o = bOffset[p];
-    accZ += coef * k[o];
-    accV += coef * k[o + 1];
-  }
-  const zNew = z + h * accZ;
-  const vNew = v + h * accV;
-  ws.yNew[0] = zNew;
-  ws.yNew[1] = vNew;
-  k[2 * s] = vNew;
-  k[2 * s + 1] = force.acceleration(ws.stepEnd, zNew);
-  ws.evaluations += s;
 }
-
-/** Scaled error norm of the step just taken (as `errorNorm` in rungeKutta.ts), into ws.stepError. */
-function axialError(ws: RungeKuttaWorkspace, rtol: number): void {
-  if (ws.tableau === DOP853) {
-    errorDop853(ws, rtol);
-    return;
-  }
-  const tab = ws.tableau;
-  const eEnd = tab.eSparse.start[1];
-  const eOffset = ws.eOffset;
-  const eVal = tab.eSparse.value;
-  const e3End = tab.e3Sparse.col.length;
-  const e3Offset = ws.e3Offset;
-  const e3Val = tab.e3Sparse.value;
-  const k = ws.k;
-  const y = ws.y;
-  const yNew = ws.yNew;
-  const atol = ws.atol;
-  let sum = 0;
-  let sum3 = 0;
-  for (let i = 0; i < 2; i++) {
-    const scale = atol[i] + Math.max(Math.abs(y[i]), Math.abs(yNew[i])) * rtol;
-    let acc = 0;
-    for (let p = 0; p < eEnd; p++) acc += eVal[p] * k[eOffset[p] + i];
-    const r = acc / scale;
-    sum += r * r;
-    if (e3End > 0) {
-      let acc3 = 0;
-      for (let p = 0; p < e3End; p++) acc3 += e3Val[p] * k[e3Offset[p] + i];
-      const r3 = acc3 / scale;
-      sum3 += r3 * r3;
-    }
-  }
-  const hAbs = Math.abs(ws.stepSize);
-  if (e3End === 0) {
-    ws.stepError = hAbs * Math.sqrt(sum / 2);
-    return;
-  }
-  let denominator = sum + 0.01 * sum3;
-  if (!(denominator > 0)) denominator = 1;
-  ws.stepError = (hAbs * sum) / Math.sqrt(denominator * 2);
-}
+const trial = new AxialTrial();
 
 /**
  * Integrate z'' = force(t, z) from (t0, z0, v0) towards tEnd, stopping at the first of the three

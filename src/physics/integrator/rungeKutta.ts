@@ -324,7 +324,7 @@ export function rungeKuttaStep<C>(
 }
 
 /** `rungeKuttaStep` for the step (stepStart, stepSize, stepEnd) stored in the workspace. */
-function takeStep<C>(ws: RungeKuttaWorkspace, rhs: RhsFunction<C>, context: C): void {
+export function takeStep<C>(ws: RungeKuttaWorkspace, rhs: RhsFunction<C>, context: C): void {
   const t = ws.stepStart;
   const h = ws.stepSize;
   const tNew = ws.stepEnd;
@@ -400,7 +400,7 @@ export function errorNorm(ws: RungeKuttaWorkspace, h: number, rtol: number): num
 }
 
 /** `errorNorm` for the step stored in the workspace; writes ws.stepError. */
-function measureError(ws: RungeKuttaWorkspace, rtol: number): void {
+export function measureError(ws: RungeKuttaWorkspace, rtol: number): void {
   const h = ws.stepSize;
   const tab = ws.tableau;
   const n = ws.dimension;
