@@ -22,7 +22,7 @@
  * interpolant (evaluateDenseOutput works on it), as after `solve`.
  */
 import { evaluateDenseOutput, prepareDenseOutput } from './denseOutput';
-import { ensureEventCapacity, stopAtEarliest, type EventProbe } from './events';
+import { crossingOf, ensureEventCapacity, noteCrossing, stopAtEarliest, type EventProbe } from './events';
 import {
   advance,
   beginSolve,
@@ -301,24 +301,18 @@ export function solveAxial(
     const failure = advance(ws, trial, tEnd, maxStep, maxSteps, result);
     if (failure !== null) return fail(result, ws, failure);
 
-    // The three events, with the crossing rules of events.ts.
+    // The three events, with the crossing rule of events.ts.
     const z = ws.y[0];
     const v = ws.y[1];
     const newHigh = z - hi;
     const newLow = z - lo;
-    const crossHigh = gHigh < 0 && newHigh >= 0;
-    const crossLow = gLow > 0 && newLow <= 0;
-    const crossTurn = (gTurn < 0 && v >= 0) || (gTurn > 0 && v <= 0);
-    if (crossHigh || crossLow || crossTurn) {
-      ws.gOld[AXIAL_HIGH] = gHigh;
-      ws.gNew[AXIAL_HIGH] = newHigh;
-      ws.eventCrossing[AXIAL_HIGH] = crossHigh ? 1 : 0;
-      ws.gOld[AXIAL_LOW] = gLow;
-      ws.gNew[AXIAL_LOW] = newLow;
-      ws.eventCrossing[AXIAL_LOW] = crossLow ? 1 : 0;
-      ws.gOld[AXIAL_TURN] = gTurn;
-      ws.gNew[AXIAL_TURN] = v;
-      ws.eventCrossing[AXIAL_TURN] = crossTurn ? 1 : 0;
+    const crossHigh = crossingOf(gHigh, newHigh, 1);
+    const crossLow = crossingOf(gLow, newLow, -1);
+    const crossTurn = crossingOf(gTurn, v, 0);
+    if (crossHigh !== 0 || crossLow !== 0 || crossTurn !== 0) {
+      noteCrossing(ws, AXIAL_HIGH, gHigh, newHigh, crossHigh);
+      noteCrossing(ws, AXIAL_LOW, gLow, newLow, crossLow);
+      noteCrossing(ws, AXIAL_TURN, gTurn, v, crossTurn);
       prepareDenseOutput(ws, axialRhs, force);
       probe.ws = ws;
       probe.lo = lo;

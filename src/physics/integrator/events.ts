@@ -51,6 +51,23 @@ class EventOnInterpolant implements ScalarFunction {
 const probe = new EventOnInterpolant();
 const rootReport = createRootReport();
 
+/**
+ * The crossing rule: +1 for an upward crossing (before < 0 ≤ after), −1 for a downward one
+ * (before > 0 ≥ after), each only if `direction` allows it; else 0.
+ */
+export function crossingOf(before: number, after: number, direction: EventDirection): number {
+  if (before < 0 && after >= 0) return direction >= 0 ? 1 : 0;
+  if (before > 0 && after <= 0) return direction <= 0 ? -1 : 0;
+  return 0;
+}
+
+/** For stopAtEarliest: event e's values over the last step and its crossing (crossingOf). */
+export function noteCrossing(ws: RungeKuttaWorkspace, e: number, before: number, after: number, crossed: number): void {
+  ws.gOld[e] = before;
+  ws.gNew[e] = after;
+  ws.eventCrossing[e] = crossed;
+}
+
 /** Make room for `count` events in the workspace's scratch arrays (allocates only when growing). */
 export function ensureEventCapacity(ws: RungeKuttaWorkspace, count: number): void {
   if (ws.gOld.length >= count) return;
@@ -89,11 +106,10 @@ export function locateEvents<C>(
     const before = gOld[e];
     const after = ev.g(ws.t, ws.y, context);
     gNew[e] = after;
-    const up = before < 0 && after >= 0;
-    const down = before > 0 && after <= 0;
-    if ((up && ev.direction >= 0) || (down && ev.direction <= 0)) {
+    const crossed = crossingOf(before, after, ev.direction);
+    if (crossed !== 0) {
       order[active++] = e;
-      crossing[e] = up ? 1 : -1;
+      crossing[e] = crossed;
     }
   }
   if (active === 0) {
@@ -168,7 +184,7 @@ export interface EventProbe extends ScalarFunction {
 /**
  * For the drivers with built-in events (axialMotion.ts, spaceMotion.ts), all terminal: the last
  * accepted step crossed the events e < count with ws.eventCrossing[e] ≠ 0, their values going from
- * ws.gOld[e] to ws.gNew[e]. Locate each on the step's interpolant (prepared by the caller) and
+ * ws.gOld[e] to ws.gNew[e] (noteCrossing). Locate each on the step's interpolant (prepared by the caller) and
  * stop the solve at the earliest, recording it as `locateEvents` does; of equal roots the lower
  * index wins, as in its stable sort.
  */
@@ -191,7 +207,7 @@ export function stopAtEarliest(ws: RungeKuttaWorkspace, probe: EventProbe, count
   if (result.eventCapacity > 0) {
     result.eventIndex[0] = best;
     result.eventTime[0] = bestRoot;
-    result.eventDirection[0] = ws.gOld[best] < 0 ? 1 : -1;
+    result.eventDirection[0] = ws.eventCrossing[best];
     evaluateDenseOutput(ws, bestRoot, result.eventState, 0);
   }
   result.eventCount = 1;

@@ -21,7 +21,7 @@
  * (evaluateDenseOutput works on it), as after `solve`.
  */
 import { evaluateDenseOutput, prepareDenseOutput } from './denseOutput';
-import { ensureEventCapacity, stopAtEarliest, type EventProbe } from './events';
+import { crossingOf, ensureEventCapacity, noteCrossing, stopAtEarliest, type EventProbe } from './events';
 import {
   advance,
   beginSolve,
@@ -307,24 +307,18 @@ export function solveSpace(
     const failure = advance(ws, trial, tEnd, maxStep, maxSteps, result);
     if (failure !== null) return fail(result, ws, failure);
 
-    // The three events, with the crossing rules of events.ts.
+    // The three events, with the crossing rule of events.ts.
     const s = ws.y;
     const newEntry = s[2] - entryZ;
     const newFar = s[2] - farZ;
     const newGuard = guardAt(force, ws.t, s);
-    const crossEntry = gEntry > 0 && newEntry <= 0;
-    const crossFar = gFar < 0 && newFar >= 0;
-    const crossGuard = gGuard > 0 && newGuard <= 0;
-    if (crossEntry || crossFar || crossGuard) {
-      ws.gOld[SPACE_ENTRY] = gEntry;
-      ws.gNew[SPACE_ENTRY] = newEntry;
-      ws.eventCrossing[SPACE_ENTRY] = crossEntry ? 1 : 0;
-      ws.gOld[SPACE_FAR] = gFar;
-      ws.gNew[SPACE_FAR] = newFar;
-      ws.eventCrossing[SPACE_FAR] = crossFar ? 1 : 0;
-      ws.gOld[SPACE_GUARD] = gGuard;
-      ws.gNew[SPACE_GUARD] = newGuard;
-      ws.eventCrossing[SPACE_GUARD] = crossGuard ? 1 : 0;
+    const crossEntry = crossingOf(gEntry, newEntry, -1);
+    const crossFar = crossingOf(gFar, newFar, 1);
+    const crossGuard = crossingOf(gGuard, newGuard, -1);
+    if (crossEntry !== 0 || crossFar !== 0 || crossGuard !== 0) {
+      noteCrossing(ws, SPACE_ENTRY, gEntry, newEntry, crossEntry);
+      noteCrossing(ws, SPACE_FAR, gFar, newFar, crossFar);
+      noteCrossing(ws, SPACE_GUARD, gGuard, newGuard, crossGuard);
       prepareDenseOutput(ws, spaceRhs, force);
       probe.ws = ws;
       probe.force = force;
