@@ -182,7 +182,8 @@ describe('parameter panel fields', () => {
     const checked = validatePreset(doc);
     expect(checked.ok).toBe(true);
     if (checked.ok) expect(checked.value.ions.species[0].mz).toBeCloseTo(1046.5418, 4);
-    // Doubly protonated: (M + 2H)/2; the species stays the mass calibrant it was.
+    // Doubly protonated: (M + 2H)/2, i.e. ([M+H]+ + proton mass 1.00727646688 u, CODATA 2018) / 2;
+    // the species stays the mass calibrant it was.
     expect(getAt(doc, 'analysis.calibrantMz[0]') as number).toBeCloseTo(1046.5418, 4);
     charge.set(doc, 2);
     expect(getAt(doc, 'analysis.calibrantMz[0]')).toBe(getAt(doc, 'ions.species[0].mz'));
