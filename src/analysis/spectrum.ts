@@ -26,6 +26,8 @@ export interface DigitizerSettings {
   /** Time of the leading edge of sample 0, measured from the nominal start (extraction) time. */
   readonly recordStart_s: number;
   readonly recordLength_s: number;
+  /** Constant delay (cables, electronics) added to every recorded time; 0 when absent. */
+  readonly timeOffset_s?: number;
 }
 
 export type AcquisitionSettings = DetectorSettings & DigitizerSettings;
@@ -73,6 +75,7 @@ export function checkAcquisitionSettings(s: AcquisitionSettings, prefix = 'acqui
   if (!Number.isFinite(s.sampleInterval_s) || s.sampleInterval_s <= 0) {
     issues.push({ path: `${prefix}.sampleInterval_s`, message: `must be a finite number > 0 (got ${s.sampleInterval_s})` });
   }
+  if (s.timeOffset_s !== undefined && !Number.isFinite(s.timeOffset_s)) issues.push({ path: `${prefix}.timeOffset_s`, message: `must be finite (got ${s.timeOffset_s})` });
   if (!Number.isFinite(s.recordStart_s)) issues.push({ path: `${prefix}.recordStart_s`, message: `must be finite (got ${s.recordStart_s})` });
   if (!Number.isFinite(s.recordLength_s) || s.recordLength_s <= 0) {
     issues.push({ path: `${prefix}.recordLength_s`, message: `must be a finite number > 0 (got ${s.recordLength_s})` });
@@ -114,13 +117,14 @@ export function buildSpectrum(input: SpectrumInput, settings: AcquisitionSetting
   const sd = effectivePulseSd_s(settings);
   const weight = input.weight;
   const end = start + count * dt;
+  const offset = settings.timeOffset_s ?? 0;
   let detectedIons = 0;
   let outside = 0;
   let detectedIntensity = 0;
   let recordedIntensity = 0;
   for (let i = from; i < to; i++) {
     if (input.fate[i] !== Fate.DETECTED) continue;
-    const t = recorded[i];
+    const t = recorded[i] + offset;
     const w = weight ? weight[i] : 1;
     if (!Number.isFinite(t) || !Number.isFinite(w)) throw new RangeError(`ion ${i}: arrival time or weight is not finite`);
     detectedIons++;

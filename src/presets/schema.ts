@@ -42,6 +42,7 @@ export const LIMITS = {
   shots: { min: 1, max: 1_000_000 },
   sampleInterval_ns: { min: 0.001, max: 1_000 },
   record_us: { min: 0, max: 100_000 },
+  timeOffset_ns: { min: -100_000, max: 100_000 },
 } as const;
 
 type Range = { min: number; max: number };
@@ -285,6 +286,8 @@ const acquisitionSchema = z.strictObject({
   /** Record window; omitted = from just before the first to just after the last detected ion. */
   recordStart_us: ranged(LIMITS.record_us, 'µs').optional(),
   recordLength_us: ranged(LIMITS.record_us, 'µs', true).optional(),
+  /** Constant delay of cables and electronics added to every recorded time (a fitted instrument's offset); 0 when omitted. */
+  timeOffset_ns: ranged(LIMITS.timeOffset_ns, 'ns').optional(),
 });
 
 const analysisSchema = z.strictObject({

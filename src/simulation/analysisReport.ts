@@ -67,6 +67,7 @@ function acquisitionSettings(preset: Preset, trace: TraceResult, from = 0, to = 
   const acq = preset.acquisition;
   if (!acq) return null;
   const sample_s = acq.sampleInterval_ns * 1e-9;
+  const offset_s = (acq.timeOffset_ns ?? 0) * 1e-9;
   let start = acq.recordStart_us === undefined ? undefined : acq.recordStart_us * 1e-6;
   let length = acq.recordLength_us === undefined ? undefined : acq.recordLength_us * 1e-6;
   if (start === undefined || length === undefined) {
@@ -79,6 +80,8 @@ function acquisitionSettings(preset: Preset, trace: TraceResult, from = 0, to = 
     }
     if (!(hi >= lo)) return null;
     const margin = 8 * Math.hypot(acq.pulseWidth_ns / 2.3548, acq.detectorJitter_ns, acq.triggerJitter_ns) * 1e-9 + 20 * sample_s;
+    lo += offset_s;
+    hi += offset_s;
     start ??= Math.max(0, lo - margin);
     length ??= Math.min(hi + margin - start, sample_s * ((1 << 24) - 1));
   }
@@ -91,6 +94,7 @@ function acquisitionSettings(preset: Preset, trace: TraceResult, from = 0, to = 
     sampleInterval_s: sample_s,
     recordStart_s: start,
     recordLength_s: Math.max(length, sample_s),
+    timeOffset_s: offset_s,
   };
 }
 
