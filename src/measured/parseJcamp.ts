@@ -28,9 +28,18 @@ export function parseJcampSpectrum(text: string, userTimeUnit?: TimeUnit): Measu
   return toMeasuredSpectrum('jcamp', spectrum.data.x, spectrum.data.y, axisOfXUnits(spectrum.xUnits), userTimeUnit, title, notes);
 }
 
-/** ##XUNITS: "M/Z" (the form the MS recommendations use) or a time unit; anything else is a time axis of unknown unit. */
+/**
+ * ##XUNITS: "M/Z" (the form the MS recommendations use) or a time unit, alone or in parentheses
+ * after a label ("time (MICROSECONDS)", as some writers put it); anything else is a time axis of
+ * unknown unit.
+ */
 export function axisOfXUnits(xUnits: unknown): RawAxis {
-  const u = typeof xUnits === 'string' ? xUnits.trim() : '';
-  if (/^(M\/Z|MZ|M\/E|TH|THOMSON)$/i.test(u)) return { axis: 'mz', secondsPerUnit: null };
-  return { axis: 'time', secondsPerUnit: u ? timeUnitOfWord(u) : null };
+  const whole = typeof xUnits === 'string' ? xUnits.trim() : '';
+  const inner = /\(([^)]*)\)\s*$/.exec(whole)?.[1]?.trim();
+  for (const u of inner === undefined ? [whole] : [inner, whole]) {
+    if (/^(M\/Z|MZ|M\/E|TH|THOMSON)$/i.test(u)) return { axis: 'mz', secondsPerUnit: null };
+    const unit = u ? timeUnitOfWord(u) : null;
+    if (unit !== null) return { axis: 'time', secondsPerUnit: unit };
+  }
+  return { axis: 'time', secondsPerUnit: null };
 }
