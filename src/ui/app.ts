@@ -37,6 +37,7 @@ import { createDrawnIons, traceDrawnIons } from './scene/paths';
 import { IdbPresetStore } from './storage/idbPresetStore';
 import type { WorkingSnapshot } from './storage/presetStore';
 import { TuningView } from './tuning/tuningView';
+import { MeasuredView } from './measured/measuredView';
 
 type Status = 'loading' | 'running' | 'done' | 'invalid' | 'error';
 
@@ -134,6 +135,7 @@ export async function startApp(): Promise<void> {
       if (phase === 'final') {
         autosave();
         tuning.refresh();
+        measured.refresh();
       }
       requestRun(phase);
     },
@@ -262,6 +264,7 @@ export async function startApp(): Promise<void> {
     refreshHeader();
     autosave();
     tuning.refresh();
+    measured.refresh();
     void compare.refreshChoices();
     requestRun('final');
   };
@@ -287,12 +290,14 @@ export async function startApp(): Promise<void> {
   const compare = new CompareView(context);
   const tuning = new TuningView(context);
   const presets = new PresetsView(context);
+  const measured = new MeasuredView(context, spectrum, [byId('spectrum').parentElement!]);
   presets.onListChange = () => void compare.refreshChoices();
 
   const showTab = setUpTabs(byId('lower-tabs'), (id) => {
     if (id === 'tab-compare') void compare.refreshChoices();
     if (id === 'tab-presets') void presets.refresh();
     if (id === 'tab-tuning') tuning.refresh();
+    if (id === 'tab-measured') measured.refresh();
   });
 
   // ---- header actions -------------------------------------------------------------------------

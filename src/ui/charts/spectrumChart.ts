@@ -30,6 +30,21 @@ export interface SpectrumRun {
   readonly peaks: readonly SpectrumPeak[];
 }
 
+/**
+ * An extra series drawn over the simulated histogram (a measured spectrum), computed for the bins
+ * on show; `scale` 'own' gives it its own y axis on the right.
+ */
+export interface SpectrumOverlay {
+  readonly label: string;
+  readonly colour: string;
+  readonly scale: 'shared' | 'own';
+  readonly axisLabel: string;
+  /** Values per bin of `range` on `axis`, given the simulated total per bin; null when it has nothing on this axis. */
+  values(axis: SpectrumAxis, range: BinRange, simulated: Float64Array): Float64Array | null;
+  /** Told after each redraw which range is on show. */
+  drawn?(axis: SpectrumAxis, range: BinRange): void;
+}
+
 /** Species drawn as separate series up to this count; above it, one total series. */
 const MAX_SERIES = 12;
 
@@ -40,6 +55,7 @@ export class SpectrumChart {
   private fullRange: BinRange | null = null;
   private range: BinRange | null = null;
   private rebinning = false;
+  private overlay: SpectrumOverlay | null = null;
   private readonly observer: ResizeObserver;
   /** Called after every redraw with new data (for the latency figure). */
   onDrawn: () => void = () => {};
@@ -82,6 +98,13 @@ export class SpectrumChart {
     if (centre === null || centre === undefined) return;
     const half = Math.max(6 * (width ?? 0), 0.002 * Math.abs(centre));
     this.range = { lo: centre - half, hi: centre + half, bins: Math.min(400, this.bins()) };
+    this.draw();
+  }
+
+  /** Draw (or, with null, remove) an overlay series. */
+  setOverlay(overlay: SpectrumOverlay | null): void {
+    this.overlay = overlay;
+    this.rebuild();
     this.draw();
   }
 
@@ -129,10 +152,13 @@ export class SpectrumChart {
     const stepped = uPlot.paths.stepped!({ align: 1 });
     const list = many ? [{ label: 'all species', colour: '#8fd0ff' }] : run.labels.map((label, i) => ({ label, colour: run.colours[i] }));
     for (const s of list) series.push({ label: s.label, stroke: s.colour, fill: withAlpha(s.colour, 0.16), width: 1.25, paths: stepped, points: { show: false } });
+    const overlay = this.overlay;
+    if (overlay) series.push({ label: overlay.label, stroke: overlay.colour, width: 1.5, paths: stepped, points: { show: false }, scale: overlay.scale === 'own' ? 'overlay' : 'y' });
+    const overlayAxis = overlay?.scale === 'own' ? [axis(overlay.axisLabel, { scale: 'overlay', side: 1, size: 56, grid: { show: false } })] : [];
     const opts: uPlot.Options = {
       ...chartSize(this.host),
-      scales: { x: { time: false }, y: { range: (_u, _min, max) => [0, Math.max(1, max) * 1.08] } },
-      axes: [axis(this.axisKind === 'time' ? 'flight time (µs)' : 'm/z (Th)'), axis('ions per bin', { size: 52 })],
+      scales: { x: { time: false }, y: { range: (_u, _min, max) => [0, Math.max(1, max) * 1.08] }, overlay: { range: (_u, _min, max) => [0, (max > 0 ? max : 1) * 1.08] } },
+      axes: [axis(this.axisKind === 'time' ? 'flight time (µs)' : 'm/z (Th)'), axis('ions per bin', { size: 52 }), ...overlayAxis],
       series,
       cursor: { drag: { x: true, y: false, setScale: true }, bind: { dblclick: () => null } },
       legend: { live: false },
@@ -162,7 +188,7 @@ export class SpectrumChart {
     if (!run || !chart || !values) return;
     const range = this.range;
     if (!range) {
-      chart.setData([[], ...run.labels.slice(0, this.seriesCount(run)).map(() => [])]);
+      chart.setData([[], ...run.labels.slice(0, this.seriesCount(run)).map(() => []), ...(this.overlay ? [[]] : [])]);
       return;
     }
     const x = binCentres(range, new Float64Array(range.bins));
@@ -175,6 +201,14 @@ export class SpectrumChart {
         data.push(accumulate(values, run.fate, Fate.DETECTED, run.speciesStart[s], run.speciesStart[s + 1], range, new Float64Array(range.bins)));
       }
     }
+    if (this.overlay) {
+      const total = new Float64Array(range.bins);
+      for (let k = 1; k < data.length; k++) for (let b = 0; b < range.bins; b++) total[b] += (data[k] as Float64Array)[b];
+      const values = this.overlay.values(this.axisKind, range, total);
+      data.push(values ?? new Float64Array(range.bins));
+      const index = data.length - 1;
+      if (chart.series[index] && chart.series[index].show !== (values !== null)) chart.setSeries(index, { show: values !== null });
+    }
     this.rebinning = true;
     try {
       chart.batch(() => {
@@ -184,6 +218,7 @@ export class SpectrumChart {
     } finally {
       this.rebinning = false;
     }
+    this.overlay?.drawn?.(this.axisKind, range);
   }
 
   dispose(): void {
