@@ -142,6 +142,7 @@ export function fitMeasured(
   if (spectrum.axis !== 'time') {
     throw new FitError('measured', 'the fit needs a spectrum on a time axis; this one is on m/z (converting it would need the very calibration the fit is for)');
   }
+  if (spectrum.centroided) throw new FitError('measured', 'the fit needs a profile spectrum (it compares peak shapes); this file holds a centroided peak list');
   const requests = options.parameters;
   if (requests.length === 0) throw new FitError('fit', 'give at least one parameter path to fit');
   const paths = requests.map((r) => r.path);

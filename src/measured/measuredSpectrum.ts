@@ -30,6 +30,8 @@ export interface MeasuredSpectrum {
   readonly timeUnitFrom: 'file' | 'user' | null;
   /** Facts worth telling the user (which block or spectrum was read, what was skipped). */
   readonly notes: readonly string[];
+  /** A centroided peak list (each point a peak, e.g. a JCAMP-DX ##PEAK TABLE) rather than a profile. */
+  readonly centroided?: boolean;
 }
 
 /** A file that cannot be read as a spectrum. `needsTimeUnit` asks the caller for the time unit. */
@@ -62,6 +64,7 @@ export function toMeasuredSpectrum(
   userTimeUnit: TimeUnit | undefined,
   title: string | null,
   notes: string[],
+  centroided = false,
 ): MeasuredSpectrum {
   const n = x.length;
   if (y.length !== n) throw new MeasuredFileError(`the x and intensity arrays differ in length (${n} and ${y.length} points)`);
@@ -99,7 +102,7 @@ export function toMeasuredSpectrum(
     }
   }
   if (axis.axis === 'mz' && !(xs[0] > 0)) throw new MeasuredFileError(`m/z values must be positive (the first is ${xs[0]})`);
-  return { format, axis: axis.axis, x: xs, intensity: ys, title, timeUnitFrom, notes };
+  return { format, axis: axis.axis, x: xs, intensity: ys, title, timeUnitFrom, notes, ...(centroided ? { centroided } : {}) };
 }
 
 function unitName(secondsPerUnit: number): string {

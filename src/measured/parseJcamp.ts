@@ -25,7 +25,7 @@ export function parseJcampSpectrum(text: string, userTimeUnit?: TimeUnit): Measu
   if (dataType && !/MASS/i.test(dataType)) notes.push(`##DATA TYPE is "${dataType}", not a mass spectrum; read as one`);
   notes.push(`${spectrum.isPeaktable ? '##PEAK TABLE' : '##XYDATA'} with ${spectrum.data.x.length} points, ##XUNITS=${String(spectrum.xUnits ?? '(none)')}`);
   const title = typeof entry.title === 'string' && entry.title.trim() ? entry.title.trim() : null;
-  return toMeasuredSpectrum('jcamp', spectrum.data.x, spectrum.data.y, axisOfXUnits(spectrum.xUnits), userTimeUnit, title, notes);
+  return toMeasuredSpectrum('jcamp', spectrum.data.x, spectrum.data.y, axisOfXUnits(spectrum.xUnits), userTimeUnit, title, notes, spectrum.isPeaktable === true);
 }
 
 /**

@@ -28,7 +28,16 @@ export interface PickOptions {
 }
 
 export function pickMeasuredPeaks(spectrum: MeasuredSpectrum, options: PickOptions = {}): MeasuredPeak[] {
-  const smoothed = triangularSmooth(spectrum.intensity, options.smoothHalfWidth ?? 2);
+  const y = spectrum.intensity;
+  let tallest = 0;
+  for (const v of y) if (v > tallest) tallest = v;
+  if (spectrum.centroided) {
+    // A peak list: every point above the height threshold is a peak.
+    const min = (options.minRelativeHeight ?? 0.02) * tallest;
+    return Array.from(spectrum.x).flatMap((x, k) => (y[k] > 0 && y[k] >= min ? [{ position: x, apexIndex: k, height: y[k], fwhm: null, area: y[k] }] : []));
+  }
+  // Smoothing mixes neighbours, which is only right where the samples are evenly spaced.
+  const smoothed = triangularSmooth(y, isEvenlySampled(spectrum.x) ? (options.smoothHalfWidth ?? 2) : 0);
   const found = findPeaks(spectrum.x, smoothed, {
     minRelativeProminence: options.minRelativeProminence ?? 0.05,
     minRelativeHeight: options.minRelativeHeight ?? 0.02,
@@ -40,6 +49,13 @@ export function pickMeasuredPeaks(spectrum: MeasuredSpectrum, options: PickOptio
     const raw = measurePeak(spectrum.x, spectrum.intensity, apex, p.regionStart, p.regionEnd);
     return { position: raw.centroid_s, apexIndex: apex, height: raw.height, fwhm: raw.fwhm_s, area: raw.area };
   });
+}
+
+/** True when no step of the axis exceeds 1.5 times the median step. */
+export function isEvenlySampled(x: Float64Array): boolean {
+  if (x.length < 3) return true;
+  const steps = Array.from({ length: x.length - 1 }, (_, i) => x[i + 1] - x[i]).sort((a, b) => a - b);
+  return steps[steps.length - 1] <= 1.5 * steps[steps.length >> 1];
 }
 
 /** Moving average with triangular weights over ±h samples (h = 0 returns a copy). */

@@ -18,6 +18,7 @@ import Papa from 'papaparse';
 import { describe, expect, it } from 'vitest';
 import { detectFormat, importMeasuredSpectrum, readMeasuredSpectrum } from '../../src/measured/importSpectrum';
 import { MeasuredFileError } from '../../src/measured/measuredSpectrum';
+import { pickMeasuredPeaks } from '../../src/measured/peakMatch';
 
 const arr = (a: Float64Array): number[] => Array.from(a);
 const close = (a: Float64Array, b: number[], rel = 1e-12): void => {
@@ -105,6 +106,9 @@ describe('JCAMP-DX (IUPAC recommendations, mass spectrometry form)', () => {
     expect(s.title).toBe('invented calibration mix, centroided');
     expect(arr(s.x)).toEqual([1046.54, 1296.68, 2093.09]);
     expect(arr(s.intensity)).toEqual([100, 62, 18]);
+    // A peak table is a list of centroids: every entry is a peak.
+    expect(s.centroided).toBe(true);
+    expect(pickMeasuredPeaks(s).map((p) => p.position)).toEqual([1046.54, 1296.68, 2093.09]);
   });
 
   it('reads ##XYDATA=(X++(Y..Y)) in MICROSECONDS with XFACTOR and ASDF compressed lines', () => {
