@@ -438,6 +438,7 @@ export const FIELDS: readonly FieldSpec[] = [
   numberAt('sampleInterval_ns', 'detector', 'sample interval (ns)', 'acquisition.sampleInterval_ns', LIMITS.sampleInterval_ns, 0.01, [0.05, 10], (doc) =>
     has(doc, 'acquisition'),
   ),
+  numberAt('timeOffset_ns', 'detector', 'time offset, cables + electronics (ns)', 'acquisition.timeOffset_ns', LIMITS.timeOffset_ns, 0.1, [-200, 200], (doc) => has(doc, 'acquisition')),
   {
     kind: 'boolean',
     key: 'quadraticCalibration',
