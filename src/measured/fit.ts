@@ -205,18 +205,27 @@ export function fitMeasured(
   const scale = bounds.map(([lo, hi]) => (hi - lo) / 2);
   const toP = (u: readonly number[]): number[] => u.map((v, k) => initial[k] + v * scale[k]);
   const step = 1e-4;
+  // Differences stay inside the bounds (one-sided next to a bound), so every preset stays valid.
   const jacobianAt = (p: readonly number[], sigma: readonly number[], central: boolean): number[][] => {
     const f0 = model(p).values;
     return p.map((_, k) => {
+      const [lo, hi] = bounds[k];
       const h = step * scale[k];
-      const up = [...p];
-      up[k] += h;
-      const fUp = model(up).values;
-      if (!central) return fUp.map((v, j) => (v - f0[j]) / (h * (sigma[j] ?? 1)));
-      const down = [...p];
-      down[k] -= h;
-      const fDown = model(down).values;
-      return fUp.map((v, j) => (v - fDown[j]) / (2 * h * (sigma[j] ?? 1)));
+      const canUp = p[k] + h <= hi;
+      const canDown = p[k] - h >= lo;
+      const shifted = (d: number): number[] => {
+        const q = [...p];
+        q[k] += d;
+        return model(q).values;
+      };
+      if (central && canUp && canDown) {
+        const fUp = shifted(h);
+        const fDown = shifted(-h);
+        return fUp.map((v, j) => (v - fDown[j]) / (2 * h * (sigma[j] ?? 1)));
+      }
+      const d = canUp ? h : -h;
+      const fd = shifted(d);
+      return fd.map((v, j) => (v - f0[j]) / (d * (sigma[j] ?? 1)));
     });
   };
 
