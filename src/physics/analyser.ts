@@ -97,6 +97,11 @@ export interface AnalyserModel {
   readonly maxFlightTime_s: number;
   /** Integrate every region numerically, even where a closed form exists (a cross-check). */
   readonly forceIntegrator: boolean;
+  /**
+   * Integrate source stages whose potentials change in time (at the pulse tolerance) instead of
+   * using their closed form, the rest staying closed-form: how the benchmark keeps an integrated figure.
+   */
+  readonly integratePulse?: boolean;
 }
 
 /** True when some region has no closed form and must be integrated. */

@@ -1,6 +1,7 @@
 /**
- * The tracer: each region with the closed form where its field allows it, and by numerical
- * integration where it does not (time-dependent source potentials, polynomial mirrors), or
+ * The tracer: each region with the closed form where its field allows it (source stages with
+ * rising potentials included, src/physics/pulsedStage.ts), and by numerical integration where it
+ * does not (polynomial mirrors, solved fields), or
  * everywhere when the model asks for the integrator as a cross-check. Same fates as the exact engine.
  */
 import type { AnalyserModel } from './analyser';
@@ -19,6 +20,7 @@ import {
 } from './exactEngine';
 import { Fate } from './fates';
 import { Exit, crossProfileNumeric, crossSourceStageNumeric, crossUniformNumeric } from './numericRegions';
+import { crossSourceStageClosed } from './pulsedStage';
 import { mirrorSolved, startTransverse, transverseX, transverseY } from './solvedMirror';
 import { sourceSolved } from './solvedSource';
 import { nextBreakpoint_s, settleTime_s, switchStart_s } from './waveforms';
@@ -42,7 +44,11 @@ function sourceNumeric(st: IonState, plan: ExactPlan, model: AnalyserModel): boo
     const lo = plan.sourcePlane_m[j];
     const hi = plan.sourcePlane_m[j + 1];
     const tEnd = Math.min(settleAt, tLimit, nextBreakpoint_s(src, st.t));
-    const exit = crossSourceStageNumeric(st, src, plan.qOverM, j, lo, hi, tEnd, model.forceIntegrator);
+    // Closed form between ideal grids (src/physics/pulsedStage.ts); integrated as the cross-check or on request.
+    const exit =
+      model.forceIntegrator || model.integratePulse === true
+        ? crossSourceStageNumeric(st, src, plan.qOverM, j, lo, hi, tEnd, model.forceIntegrator)
+        : crossSourceStageClosed(st, src, plan.qOverM, j, lo, hi, tEnd);
     if (exit === Exit.TIME_LIMIT && st.t < tLimit) {
       if (st.t >= settleAt) return extractExact(st, plan); // static from here on: closed form again
       continue; // a jump or kink of the waveform: restart the integration there
