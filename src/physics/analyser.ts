@@ -102,6 +102,8 @@ export interface AnalyserModel {
    * using their closed form, the rest staying closed-form: how the benchmark keeps an integrated figure.
    */
   readonly integratePulse?: boolean;
+  /** Cross a solved mirror by the run's fitted transfer map where it validates (src/physics/solvedMirrorMap.ts); opt-in, experimental. */
+  readonly mapSolvedMirror?: boolean;
 }
 
 /** True when some region has no closed form and must be integrated. */
