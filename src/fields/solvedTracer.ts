@@ -248,6 +248,16 @@ const options = createSolveOptions({
   maxSteps: 200_000,
   predictive: true,
 });
+/**
+ * Tighter settings on request: FINE for the rays a transfer map is fitted to and validated on
+ * (src/physics/solvedMirrorMap.ts), REFERENCE for measuring the error of the others (benchmarks).
+ */
+export const SolvedPrecision = { NORMAL: 0, FINE: 1, REFERENCE: 2 } as const;
+const precisionOptions = [
+  options,
+  createSolveOptions({ rtol: 1e-9, atol: Float64Array.of(1e-10, 1e-10, 1e-10, 1e-5, 1e-5, 1e-5), maxSteps: 1_000_000, predictive: true }),
+  createSolveOptions({ rtol: 1e-12, atol: Float64Array.of(1e-13, 1e-13, 1e-13, 1e-8, 1e-8, 1e-8), maxSteps: 5_000_000, predictive: true }),
+];
 const workspace = createWorkspace(DOPRI5, 6);
 const result = createResult(6, 4);
 const y0 = new Float64Array(6);
@@ -300,7 +310,8 @@ function struck(region: SolvedRegion, r: number, z: number): number {
   return SolvedExit.STRUCK;
 }
 
-export function traceSolvedRegion(ion: SolvedIonState, region: SolvedRegion, qOverM: number, tLimit_s: number): number {
+export function traceSolvedRegion(ion: SolvedIonState, region: SolvedRegion, qOverM: number, tLimit_s: number, precision: number = SolvedPrecision.NORMAL): number {
+  const options = precisionOptions[precision];
   context.map = region.map;
   context.region = region;
   context.qOverM = qOverM;

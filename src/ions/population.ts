@@ -83,9 +83,14 @@ export function samplePopulation(spec: PopulationSpec): Ensemble {
     samplePositions(ens.z0_m, from, to, spec.startPosition, spec.firstStage_m, rng);
     sampleVelocities(ens.vz0_m_per_s, from, to, spec.startVelocity, spec.species[s], rng);
     // Transverse draws come after the axial ones, so adding them leaves the axial sample unchanged.
-    if (spec.transverse) sampleTransverse(ens, from, to, spec.transverse, spec.species[s], rng);
+    if (spec.transverse && drawsTransverse(spec.transverse)) sampleTransverse(ens, from, to, spec.transverse, spec.species[s], rng);
   }
   return ens;
+}
+
+/** False when the transverse spec draws nothing and would only write the zeros the arrays start with. */
+function drawsTransverse(spec: TransverseSpec): boolean {
+  return spec.spotRadius_m > 0 || spec.velocity.kind !== 'none' || spec.beamEnergy_J > 0;
 }
 
 function samplePositions(
@@ -96,23 +101,26 @@ function samplePositions(
   limit_m: number,
   rng: SeededRandom,
 ): void {
-  for (let i = from; i < to; i++) {
-    switch (spec.kind) {
-      case 'surface':
-        z[i] = spec.z_m;
-        break;
-      case 'uniform':
-        z[i] = spec.from_m + (spec.to_m - spec.from_m) * rng.uniform();
-        break;
-      case 'gaussian': {
+  // One loop per kind, so the per-ion loop has no branch on the spec.
+  switch (spec.kind) {
+    case 'surface':
+      z.fill(spec.z_m, from, to);
+      return;
+    case 'uniform': {
+      const lo = spec.from_m;
+      const span = spec.to_m - spec.from_m;
+      for (let i = from; i < to; i++) z[i] = lo + span * rng.uniform();
+      return;
+    }
+    case 'gaussian':
+      for (let i = from; i < to; i++) {
         let x = spec.mean_m + spec.sd_m * rng.normal();
         for (let tries = 0; (x < 0 || x >= limit_m) && tries < MAX_REDRAWS; tries++) {
           x = spec.mean_m + spec.sd_m * rng.normal();
         }
         z[i] = Math.min(Math.max(x, 0), limit_m * (1 - 1e-12));
-        break;
       }
-    }
+      return;
   }
 }
 
@@ -125,12 +133,13 @@ function sampleVelocities(
   rng: SeededRandom,
 ): void {
   if (spec.kind === 'normal') {
+    const mean = spec.mean_m_per_s;
+    const sd = spec.sd_m_per_s;
+    const minimum = spec.minimum_m_per_s;
     for (let i = from; i < to; i++) {
-      let x = spec.mean_m_per_s + spec.sd_m_per_s * rng.normal();
-      for (let tries = 0; x < spec.minimum_m_per_s && tries < MAX_REDRAWS; tries++) {
-        x = spec.mean_m_per_s + spec.sd_m_per_s * rng.normal();
-      }
-      v[i] = Math.max(x, spec.minimum_m_per_s);
+      let x = mean + sd * rng.normal();
+      for (let tries = 0; x < minimum && tries < MAX_REDRAWS; tries++) x = mean + sd * rng.normal();
+      v[i] = Math.max(x, minimum);
     }
     return;
   }

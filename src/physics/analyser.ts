@@ -97,6 +97,13 @@ export interface AnalyserModel {
   readonly maxFlightTime_s: number;
   /** Integrate every region numerically, even where a closed form exists (a cross-check). */
   readonly forceIntegrator: boolean;
+  /**
+   * Integrate source stages whose potentials change in time (at the pulse tolerance) instead of
+   * using their closed form, the rest staying closed-form: how the benchmark keeps an integrated figure.
+   */
+  readonly integratePulse?: boolean;
+  /** Cross a solved mirror by the run's fitted transfer map where it validates (src/physics/solvedMirrorMap.ts); opt-in, experimental. */
+  readonly mapSolvedMirror?: boolean;
 }
 
 /** True when some region has no closed form and must be integrated. */

@@ -10,6 +10,7 @@
 import type { AnalyserModel } from './analyser';
 import { hasSolvedRegion } from './analyser';
 import { chargeToMass_C_per_kg } from './constants';
+import { traceSpeciesBatch } from './exactBatch';
 import { Fate } from './fates';
 import { mirrorSolved, startTransverse, transverseX, transverseY, type SolvedMirrorModel } from './solvedMirror';
 import { sourceSolved, type SolvedSourceModel } from './solvedSource';
@@ -261,6 +262,10 @@ export function traceExact(model: AnalyserModel, ens: Ensemble, out: TraceResult
   for (let s = 0; s < ens.species.length; s++) {
     const plan = prepareExactPlan(scratchPlan, model, ens.species[s].mz);
     const end = ens.speciesStart[s + 1];
+    if (!solved) {
+      traceSpeciesBatch(plan, ens, out, ens.speciesStart[s], end); // region by region, same numbers
+      continue;
+    }
     for (let i = ens.speciesStart[s]; i < end; i++) {
       st.t = 0;
       st.z = z0_m[i];

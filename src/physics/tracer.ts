@@ -1,6 +1,7 @@
 /**
- * The tracer: each region with the closed form where its field allows it, and by numerical
- * integration where it does not (time-dependent source potentials, polynomial mirrors), or
+ * The tracer: each region with the closed form where its field allows it (source stages with
+ * rising potentials included, src/physics/pulsedStage.ts), and by numerical integration where it
+ * does not (polynomial mirrors, solved fields), or
  * everywhere when the model asks for the integrator as a cross-check. Same fates as the exact engine.
  */
 import type { AnalyserModel } from './analyser';
@@ -19,7 +20,9 @@ import {
 } from './exactEngine';
 import { Fate } from './fates';
 import { Exit, crossProfileNumeric, crossSourceStageNumeric, crossUniformNumeric } from './numericRegions';
+import { crossSourceStageClosed } from './pulsedStage';
 import { mirrorSolved, startTransverse, transverseX, transverseY } from './solvedMirror';
+import { MAP_MIN_IONS, SolvedMirrorMapper, type MirrorMapReport } from './solvedMirrorMap';
 import { sourceSolved } from './solvedSource';
 import { nextBreakpoint_s, settleTime_s, switchStart_s } from './waveforms';
 import type { Ensemble, TraceResult } from '../ions/ensemble';
@@ -42,7 +45,11 @@ function sourceNumeric(st: IonState, plan: ExactPlan, model: AnalyserModel): boo
     const lo = plan.sourcePlane_m[j];
     const hi = plan.sourcePlane_m[j + 1];
     const tEnd = Math.min(settleAt, tLimit, nextBreakpoint_s(src, st.t));
-    const exit = crossSourceStageNumeric(st, src, plan.qOverM, j, lo, hi, tEnd, model.forceIntegrator);
+    // Closed form between ideal grids (src/physics/pulsedStage.ts); integrated as the cross-check or on request.
+    const exit =
+      model.forceIntegrator || model.integratePulse === true
+        ? crossSourceStageNumeric(st, src, plan.qOverM, j, lo, hi, tEnd, model.forceIntegrator)
+        : crossSourceStageClosed(st, src, plan.qOverM, j, lo, hi, tEnd);
     if (exit === Exit.TIME_LIMIT && st.t < tLimit) {
       if (st.t >= settleAt) return extractExact(st, plan); // static from here on: closed form again
       continue; // a jump or kink of the waveform: restart the integration there
@@ -128,7 +135,7 @@ function postNumeric(st: IonState, plan: ExactPlan, tLimit: number): boolean {
 }
 
 /** One ion from start to fate, choosing closed form or integration region by region. */
-export function traceOneMixed(st: IonState, plan: ExactPlan, model: AnalyserModel): void {
+export function traceOneMixed(st: IonState, plan: ExactPlan, model: AnalyserModel, mirrorMap: SolvedMirrorMapper | null = null): void {
   const forced = model.forceIntegrator;
   const tLimit = model.maxFlightTime_s;
   const src = model.source;
@@ -144,7 +151,7 @@ export function traceOneMixed(st: IonState, plan: ExactPlan, model: AnalyserMode
   }
   if (alive) alive = forced ? driftNumeric(st, plan.driftLength_m, tLimit) : driftExact(st, plan.driftLength_m);
   if (alive && model.mirror) {
-    if (model.mirror.solved) alive = mirrorSolved(st, plan, model.mirror.solved, tLimit);
+    if (model.mirror.solved) alive = mirrorMap ? mirrorMap.pass(st, plan, tLimit) : mirrorSolved(st, plan, model.mirror.solved, tLimit);
     else if (model.mirror.profile) alive = mirrorProfileNumeric(st, plan, model);
     else alive = forced ? mirrorStagesNumeric(st, plan, tLimit) : mirrorExact(st, plan);
     if (alive) alive = forced ? driftNumeric(st, plan.returnLength_m, tLimit) : driftExact(st, plan.returnLength_m);
@@ -161,11 +168,19 @@ export function traceOneMixed(st: IonState, plan: ExactPlan, model: AnalyserMode
 const scratchPlan = createExactPlan();
 const scratchState = createIonState();
 
+/** The run's transfer map of a solved mirror (src/physics/solvedMirrorMap.ts), or null to trace every ion directly. */
+export function createMirrorMap(model: AnalyserModel, ions: number): SolvedMirrorMapper | null {
+  const solved = model.mirror?.solved;
+  if (!solved || model.forceIntegrator || model.mapSolvedMirror !== true || ions < MAP_MIN_IONS) return null;
+  return new SolvedMirrorMapper(solved, ions);
+}
+
 /** Trace every ion of `ens` with the mixed tracer, writing into `out`. */
 export function traceMixed(model: AnalyserModel, ens: Ensemble, out: TraceResult): void {
   const st = scratchState;
   // Solved regions bend transverse paths: the detector-plane position comes from where the ion left them.
   const solved = hasSolvedRegion(model);
+  const mirrorMap = createMirrorMap(model, ens.count);
   for (let s = 0; s < ens.species.length; s++) {
     const plan = prepareExactPlan(scratchPlan, model, ens.species[s].mz);
     const end = ens.speciesStart[s + 1];
@@ -176,7 +191,7 @@ export function traceMixed(model: AnalyserModel, ens: Ensemble, out: TraceResult
       st.fate = Fate.UNSET;
       st.w = 1;
       if (solved) startTransverse(ens.x0_m[i], ens.y0_m[i], ens.vx0_m_per_s[i], ens.vy0_m_per_s[i]);
-      traceOneMixed(st, plan, model);
+      traceOneMixed(st, plan, model, mirrorMap);
       if (solved) {
         out.detectorX_m[i] = transverseX(st.t);
         out.detectorY_m[i] = transverseY(st.t);
@@ -188,4 +203,8 @@ export function traceMixed(model: AnalyserModel, ens: Ensemble, out: TraceResult
     }
   }
   startTransverse(0, 0, 0, 0); // single-ion callers trace on the axis
+  lastMirrorMap = mirrorMap ? { ...mirrorMap.report } : null;
 }
+
+/** How the last traceMixed run crossed its solved mirror: ions mapped, ions traced, and why not mapped (null: no map). */
+export let lastMirrorMap: MirrorMapReport | null = null;

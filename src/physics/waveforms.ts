@@ -84,7 +84,31 @@ export function settleTime_s(source: SourceModel): number {
 
 /** Next time after t at which a source potential jumps or kinks (integration restarts there), or Infinity. */
 export function nextBreakpoint_s(source: SourceModel, t: number): number {
+  if (source.rise.kind === 'table') return nextTableBreakpoint_s(source.rise.tables, source.delay_s, t);
   if (t < source.delay_s) return source.delay_s;
   if (source.rise.kind === 'linear' && t < source.delay_s + source.rise.riseTime_s) return source.delay_s + source.rise.riseTime_s;
   return Infinity;
+}
+
+/** The next table point after t over every tabulated electrode (the others step at the delay). */
+function nextTableBreakpoint_s(tables: readonly (WaveformTable | null)[], delay_s: number, t: number): number {
+  let next = Infinity;
+  let stepped = false;
+  for (const table of tables) {
+    if (!table) {
+      stepped = true;
+      continue;
+    }
+    const ts = table.time_s;
+    if (t >= ts[ts.length - 1]) continue;
+    let lo = -1; // largest index with ts[lo] <= t
+    let hi = ts.length - 1;
+    while (hi - lo > 1) {
+      const mid = (lo + hi) >> 1;
+      if (ts[mid] <= t) lo = mid;
+      else hi = mid;
+    }
+    next = Math.min(next, ts[hi]);
+  }
+  return stepped && t < delay_s ? Math.min(next, delay_s) : next;
 }
