@@ -12,6 +12,7 @@ import { isTuningCommand, runTuningCommand, type TuningCliOptions } from './cli/
 import { TUNING_USAGE } from './cli/tuningArgs';
 import type { SpectrumSection } from './simulation/analysisReport';
 import { compareWithIdeal, formatIdealComparison } from './simulation/idealComparison';
+import { isToleranceCommand, runToleranceCommand, TOLERANCE_USAGE, type ToleranceCliOptions } from './cli/toleranceCommand';
 
 export const USAGE = `Usage: npm run sim -- <preset.json> [--json | --csv] [--ions N] [--seed S]
 
@@ -25,7 +26,9 @@ export const USAGE = `Usage: npm run sim -- <preset.json> [--json | --csv] [--io
                   (flight time, FWHM, R, transmission; in --json as "idealComparison")
   --help          show this text
 
-${TUNING_USAGE}`;
+${TUNING_USAGE}
+
+${TOLERANCE_USAGE}`;
 
 export interface CliArgs {
   presetPath: string;
@@ -99,7 +102,8 @@ function spectrumJson(s: SpectrumSection | null) {
 }
 
 /** Plain runs return their exit code at once; scans, tunes and merges (worker pool) return a promise of it. */
-export function main(argv: readonly string[], io: CliIo = processIo, options: TuningCliOptions = {}): number | Promise<number> {
+export function main(argv: readonly string[], io: CliIo = processIo, options: TuningCliOptions & ToleranceCliOptions = {}): number | Promise<number> {
+  if (isToleranceCommand(argv) && !argv.includes('--help')) return runToleranceCommand(argv, io, options);
   if (isTuningCommand(argv)) return runTuningCommand(argv, io, options);
   const parsed = parseArgs(argv);
   if (!parsed.ok) {
