@@ -6,7 +6,7 @@
  *    calibration (src/tolerance/calibration.ts) and resolving power, per unit of the parameter,
  *    and the resolving power at the stated tolerance;
  * 2. a budget for a target mass accuracy (src/tolerance/budget.ts);
- * 3. a seeded Monte Carlo (Latin hypercube over the slow terms, per-shot draws of the shot terms),
+ * 3. a seeded Monte Carlo (slow terms stratified along their linearised mass error, per-shot draws of the shot terms),
  *    each draw a full rerun; a shard runs a deterministic share of the draws.
  * Results depend only on the request, not on the pool size.
  */
@@ -20,7 +20,7 @@ import { buildBudget, type Budget } from './budget';
 import { apparentMz, fixedCalibration, type FixedCalibration } from './calibration';
 import { shotCount, type BlockFigures, type TolerancePoint, type ToleranceTask, type ToleranceTaskResult } from './evaluate';
 import { toleranceParameters, toleranceSettings, TRIGGER_ID, type ToleranceParameter } from './parameters';
-import { histogram, latinHypercubeNormal, summarise, type Histogram, type Summary } from './statistics';
+import { histogram, stratifiedNormalDesign, summarise, type Histogram, type Summary } from './statistics';
 
 export const MAX_DRAWS = 100_000;
 /** Default target when neither the request nor the preset gives one (common practice, no source). */
@@ -312,11 +312,19 @@ export async function toleranceWith(pool: TaskPool, request: ToleranceRequest, o
 
   let monteCarlo: MonteCarloResult | null = null;
   if (draws > 0) {
-    const design = latinHypercubeNormal(draws, slowWithTolerance.length, drawSeed);
+    // Stratified along the linearised mass error of the budget's worst species (see stratifiedNormalDesign).
+    const ref = Math.max(0, species.findIndex((sp) => sp.mz === budget.worstMz));
+    // The shot terms enter through the mean of their per-shot values (sd = tolerance/√shots).
+    const perUnit = (p: ToleranceParameter): number => sensitivities.find((x) => x.parameter === p.id)?.species[ref].massShift_ppm_per_unit ?? 0;
+    const rootShots = Math.sqrt(shots);
+    const weights = [...slowWithTolerance.map((p) => perUnit(p) * p.tolerance), ...shotWithTolerance.map((p) => (perUnit(p) * p.tolerance) / rootShots)];
+    const design = stratifiedNormalDesign(draws, weights, drawSeed);
+    const nSlow = slowWithTolerance.length;
     const mcPoints: TolerancePoint[] = mcIndices.map((d) => ({
       index: d,
       slow: Object.fromEntries(slowWithTolerance.map((p, k) => [p.id, p.tolerance * design[d][k]])),
       shot: Object.fromEntries(shotWithTolerance.map((p) => [p.id, p.tolerance])),
+      shotMean: Object.fromEntries(shotWithTolerance.map((p, k) => [p.id, (p.tolerance * design[d][nSlow + k]) / rootShots])),
       shotSeed: (Math.imul(drawSeed + 1, 0x9e3779b1) ^ d) >>> 0,
     }));
     const round3 = await runPoints(pool, { ...baseTask, shotDerivatives }, mcPoints, tick('Monte Carlo'));

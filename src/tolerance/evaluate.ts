@@ -27,6 +27,13 @@ export interface TolerancePoint {
   readonly shot: Readonly<Record<string, number>>;
   /** Seed of the per-shot draws (the ions' seed stays the request's). */
   readonly shotSeed: number;
+  /**
+   * Optional mean over the shots of a shot term's values (by id, in its unit). For normal draws
+   * the sample mean is independent of the deviations from it (Cochran's theorem), so replacing it
+   * by an independently drawn N(0, sd²/shots) value keeps the joint distribution; the Monte Carlo
+   * uses this to stratify what the shot terms do to the summed spectrum's centroid.
+   */
+  readonly shotMean?: Readonly<Record<string, number>>;
 }
 
 export interface ToleranceTask {
@@ -81,12 +88,21 @@ export function applyShotTerms(
   derivative: readonly (readonly number[])[],
   sd: readonly number[],
   seed: number,
+  mean: readonly (number | undefined)[] = [],
 ): void {
   const terms = sd.length;
   if (terms === 0) return;
   const rng = new SeededRandom(seed, SHOT_STREAM);
   const draws = new Float64Array(shots * terms);
   for (let j = 0; j < shots; j++) for (let k = 0; k < terms; k++) draws[j * terms + k] = sd[k] * rng.normal();
+  for (let k = 0; k < terms; k++) {
+    const wanted = mean[k];
+    if (wanted === undefined) continue;
+    let sum = 0;
+    for (let j = 0; j < shots; j++) sum += draws[j * terms + k];
+    const shift = wanted - sum / shots;
+    for (let j = 0; j < shots; j++) draws[j * terms + k] += shift;
+  }
   const blocks = blockStart.length - 1;
   const perShot = new Float64Array(shots);
   for (let b = 0; b < blocks; b++) {
@@ -163,6 +179,7 @@ export function evaluateTolerancePoints(task: ToleranceTask): ToleranceTaskResul
         ids.map((id) => task.shotDerivatives[id]),
         ids.map((id) => point.shot[id]),
         point.shotSeed,
+        ids.map((id) => point.shotMean?.[id]),
       );
     }
     results.push({ index: point.index, ok: true, blocks: blockFigures(sim, preset, times) });

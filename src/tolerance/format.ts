@@ -61,7 +61,7 @@ export function formatToleranceTable(presetName: string, r: ToleranceResult): st
   if (mc) {
     lines.push('');
     lines.push(
-      `Monte Carlo: ${mc.drawsRun} of ${mc.draws} draws${mc.shard ? ` (shard ${mc.shard.index + 1}/${mc.shard.count})` : ''}, draw seed ${mc.drawSeed}, Latin hypercube over ${mc.parameters.length} parameter(s)` +
+      `Monte Carlo: ${mc.drawsRun} of ${mc.draws} draws${mc.shard ? ` (shard ${mc.shard.index + 1}/${mc.shard.count})` : ''}, draw seed ${mc.drawSeed}, ${mc.parameters.length} parameter(s) drawn` +
         (mc.failedDraws ? `, ${mc.failedDraws} failed` : ''),
     );
     lines.push(

@@ -1,5 +1,5 @@
 /**
- * The statistics the Monte-Carlo part needs: the standard normal quantile, Latin-hypercube normal
+ * The statistics the Monte-Carlo part needs: the standard normal quantile, a stratified normal design
  * draws, sample percentiles and histograms.
  */
 import { SeededRandom } from '../ions/random';
@@ -35,33 +35,45 @@ export function normalQuantile(p: number): number {
   return x;
 }
 
-/** Stream of the Latin-hypercube permutations and jitters in SeededRandom. */
-const LHS_STREAM = 0x1a75;
+/** Stream of the design's permutation and draws in SeededRandom. */
+const DESIGN_STREAM = 0x1a75;
 
 /**
- * Latin-hypercube standard normal draws (McKay, Beckman & Conover, Technometrics 21 (1979) 239):
- * for each of `dimensions`, the `draws` values fall one in each of `draws` equal-probability
- * strata, in a seeded random order. Returns z[d][k] for draw d, dimension k. The whole design
- * depends only on (seed, draws, dimensions), so any share of the draws (a shard) is the same as
- * in the full run.
+ * Standard normal draws z[d][k] (draw d, dimension k), stratified along the direction of `weights`
+ * (the linearised output is Σ_k weights[k]·z[k]): the component along ŵ = weights/|weights| takes one
+ * value in each of `draws` equal-probability strata, in a seeded random order (Latin-hypercube
+ * sampling in one dimension: McKay, Beckman & Conover, Technometrics 21 (1979) 239); the components
+ * orthogonal to it are independent normal draws. A rotation of independent standard normals is
+ * again independent standard normals, so every z[d] is still distributed N(0, I); only the
+ * sampling error of the linearised output's distribution is removed, which would otherwise move
+ * its 5th/95th percentiles by ~6 % at 400 draws. Without weights (all zero) the draws are plain.
+ * The design depends only on (draws, weights, seed), so a shard sees the same draws as the full run.
  */
-export function latinHypercubeNormal(draws: number, dimensions: number, seed: number): Float64Array[] {
-  const rng = new SeededRandom(seed, LHS_STREAM);
-  const z = Array.from({ length: draws }, () => new Float64Array(dimensions));
+export function stratifiedNormalDesign(draws: number, weights: readonly number[], seed: number): Float64Array[] {
+  const dims = weights.length;
+  const rng = new SeededRandom(seed, DESIGN_STREAM);
+  const z = Array.from({ length: draws }, () => new Float64Array(dims));
+  for (const row of z) for (let k = 0; k < dims; k++) row[k] = rng.normal();
+  let norm = 0;
+  for (const w of weights) norm += w * w;
+  norm = Math.sqrt(norm);
+  if (!(norm > 0) || dims === 0) return z;
   const order = new Int32Array(draws);
-  for (let k = 0; k < dimensions; k++) {
-    for (let d = 0; d < draws; d++) order[d] = d;
-    for (let d = draws - 1; d > 0; d--) {
-      const j = Math.floor(rng.uniform() * (d + 1));
-      const t = order[d];
-      order[d] = order[j];
-      order[j] = t;
-    }
-    for (let d = 0; d < draws; d++) {
-      let u = (order[d] + rng.uniform()) / draws;
-      if (u <= 0) u = Number.MIN_VALUE;
-      z[d][k] = normalQuantile(u);
-    }
+  for (let d = 0; d < draws; d++) order[d] = d;
+  for (let d = draws - 1; d > 0; d--) {
+    const j = Math.floor(rng.uniform() * (d + 1));
+    const t = order[d];
+    order[d] = order[j];
+    order[j] = t;
+  }
+  for (let d = 0; d < draws; d++) {
+    let u = (order[d] + rng.uniform()) / draws;
+    if (u <= 0) u = Number.MIN_VALUE;
+    const along = normalQuantile(u);
+    const row = z[d];
+    let proj = 0;
+    for (let k = 0; k < dims; k++) proj += row[k] * (weights[k] / norm);
+    for (let k = 0; k < dims; k++) row[k] += (along - proj) * (weights[k] / norm);
   }
   return z;
 }
