@@ -37,6 +37,7 @@ import { createDrawnIons, traceDrawnIons } from './scene/paths';
 import { IdbPresetStore } from './storage/idbPresetStore';
 import type { WorkingSnapshot } from './storage/presetStore';
 import { TuningView } from './tuning/tuningView';
+import { ToleranceView } from './tolerance/toleranceView';
 
 type Status = 'loading' | 'running' | 'done' | 'invalid' | 'error';
 
@@ -286,6 +287,7 @@ export async function startApp(): Promise<void> {
   };
   const compare = new CompareView(context);
   const tuning = new TuningView(context);
+  const tolerance = new ToleranceView(context);
   const presets = new PresetsView(context);
   presets.onListChange = () => void compare.refreshChoices();
 
@@ -293,6 +295,7 @@ export async function startApp(): Promise<void> {
     if (id === 'tab-compare') void compare.refreshChoices();
     if (id === 'tab-presets') void presets.refresh();
     if (id === 'tab-tuning') tuning.refresh();
+    if (id === 'tab-tolerance') tolerance.refresh();
   });
 
   // ---- header actions -------------------------------------------------------------------------
