@@ -43,7 +43,10 @@ export interface ToleranceRequest {
 export interface SpeciesBaseline {
   readonly label: string;
   readonly mz: number;
+  /** Centroid of the simulated spectrum's peak (mean arrival time without acquisition settings). */
   readonly flightTime_ns: number | null;
+  /** Mean arrival time of the detected ions (ideal detector). */
+  readonly flightTimeIons_ns: number | null;
   /** R of the simulated spectrum's peak (null without acquisition settings). */
   readonly resolvingPower: number | null;
   /** R of the ions' arrival times (ideal detector). */
@@ -52,12 +55,18 @@ export interface SpeciesBaseline {
 
 export interface SpeciesSensitivity {
   readonly mz: number;
+  /** From the simulated spectrum's peak centroid (the mean arrival time without acquisition settings). */
   readonly flightTime_ns_per_unit: number | null;
   readonly massShift_ppm_per_unit: number | null;
+  /** The same from the mean arrival time of the ions (ideal detector). */
+  readonly flightTimeIons_ns_per_unit: number | null;
+  readonly massShiftIons_ppm_per_unit: number | null;
   readonly resolvingPower_per_unit: number | null;
   readonly resolvingPowerIons_per_unit: number | null;
   /** Mass error (1 sd, ppm) this parameter alone gives at its tolerance; for a shot term, of the summed spectrum (÷ √shots). */
   readonly massError_ppm_atTolerance: number | null;
+  /** The same from the mean arrival time (ideal detector). */
+  readonly massErrorIons_ppm_atTolerance: number | null;
   /** R with this parameter at its tolerance (spectrum, else ions); null when the tolerance is 0. */
   readonly resolvingPowerAtTolerance: number | null;
   readonly resolvingPowerIonsAtTolerance: number | null;
@@ -77,16 +86,21 @@ export interface ParameterSensitivity {
 export interface MonteCarloSpecies {
   readonly label: string;
   readonly mz: number;
+  /** Apparent mass error from the simulated spectrum's peak (the headline figure). */
   readonly massError_ppm: Summary;
+  /** From the ions' mean arrival time (ideal detector): no counting noise of the peak's centroid. */
+  readonly massErrorIons_ppm: Summary;
   readonly resolvingPower: Summary;
   /** The linearised prediction: normal with sd from the sensitivities (5th/95th percentiles ±1.645 sd). */
   readonly linear: { readonly sd_ppm: number | null; readonly p5_ppm: number | null; readonly p95_ppm: number | null };
+  readonly linearIons: { readonly sd_ppm: number | null; readonly p5_ppm: number | null; readonly p95_ppm: number | null };
   readonly histograms: { readonly massError_ppm: Histogram; readonly resolvingPower: Histogram };
 }
 
 export interface MonteCarloDraw {
   readonly index: number;
   readonly massError_ppm: (number | null)[];
+  readonly massErrorIons_ppm: (number | null)[];
   readonly resolvingPower: (number | null)[];
   readonly error?: string;
 }
@@ -111,7 +125,7 @@ export interface ToleranceResult {
   readonly calibration: FixedCalibration & { readonly coefficients_ns: { t0_ns: number; a_ns_per_sqrtTh: number; b_ns_per_Th: number } };
   readonly species: SpeciesBaseline[];
   readonly sensitivities: ParameterSensitivity[];
-  /** R with every shot-to-shot term at its tolerance together (one acquisition), per species. */
+  /** R of the reference acquisition: every shot-to-shot term at its tolerance together (shots' mean offset 0), per species. */
   readonly resolvingPowerAllShotTerms: (number | null)[] | null;
   readonly budget: Budget;
   readonly monteCarlo: MonteCarloResult | null;
@@ -119,7 +133,7 @@ export interface ToleranceResult {
 
 const METHOD =
   'central differences with common random numbers (every point traces the same ions with the same seed); ' +
-  'apparent mass from the mean arrival time of the detected ions under a calibration fitted once on the unperturbed run; ' +
+  "apparent mass from the simulated spectrum's peak centroid (the mean arrival time without acquisition settings; ideal-detector figures beside it) under a calibration fitted once on the unperturbed run; " +
   'shot-to-shot terms applied per shot to the arrival times with the species flight-time derivative (linear)';
 
 /** Points per task: enough tasks to keep every lane busy, few enough to share simulations within one. */
@@ -190,6 +204,8 @@ export async function toleranceWith(pool: TaskPool, request: ToleranceRequest, o
   const shots = shotCount(preset);
   const hasSpectrum = Boolean(preset.acquisition);
   const headline = (b: BlockFigures): number | null => (hasSpectrum ? b.spectrumResolvingPower : b.ionResolvingPower);
+  // Peak times as an instrument measures them: the simulated spectrum's centroid (mean arrival without acquisition settings).
+  const peakTime = (b: BlockFigures): number | null => (hasSpectrum ? b.spectrumCentroid_s : b.meanTime_s);
 
   // Round 1: the unperturbed run, ± steps of every slow parameter, and each at its tolerance.
   const points: TolerancePoint[] = [{ index: 0, slow: {}, shot: {}, shotSeed: seed }];
@@ -206,7 +222,7 @@ export async function toleranceWith(pool: TaskPool, request: ToleranceRequest, o
   const shotWithTolerance = shotTerms.filter((p) => p.tolerance > 0);
   const slowWithTolerance = slow.filter((p) => p.tolerance > 0);
   const mcIndices = draws > 0 ? shardIndices(draws, request.shard) : [];
-  const total = points.length + shotWithTolerance.length + (shotWithTolerance.length > 1 ? 1 : 0) + mcIndices.length;
+  const total = points.length + shotWithTolerance.length + (shotWithTolerance.length > 0 ? 1 : 0) + mcIndices.length;
   let done = 0;
   const tick = (message: string) => (n: number) => {
     done += n;
@@ -219,13 +235,6 @@ export async function toleranceWith(pool: TaskPool, request: ToleranceRequest, o
   if (baseBlocks === undefined || typeof baseBlocks === 'string') throw new TuningInputError('preset', `the unperturbed run failed: ${String(baseBlocks)}`);
   const species = round1.species;
   const main = (blocks: BlockFigures[], s: number): BlockFigures => blocks[species[s].mainBlock];
-  const calResult = fixedCalibration(
-    preset,
-    species.map((sp, s) => ({ mz: sp.mz, time_s: main(baseBlocks, s).meanTime_s })),
-  );
-  if (!calResult.ok) throw new TuningInputError('preset', `cannot calibrate the unperturbed run: ${calResult.error}`);
-  const cal = calResult.value;
-  const baseMassPpm = species.map((sp, s) => massPpm(main(baseBlocks, s).meanTime_s, cal, sp.mz));
   const blocksAt = (key: string): BlockFigures[] | null => {
     const r = round1.results.get(index.get(key) ?? -1);
     if (typeof r === 'string') throw new TuningInputError(key.replace(/[+-]$|@tol$/, ''), `the perturbed preset is invalid: ${r}`);
@@ -248,39 +257,65 @@ export async function toleranceWith(pool: TaskPool, request: ToleranceRequest, o
     shotDerivatives[p.id] = p.linkedTo ? timeDerivative.get(p.linkedTo)! : new Array<number>(blockCount).fill(1e-9); // trigger: 1 ns per ns
   }
 
-  // Round 2: each shot term alone at its tolerance, and all of them together.
+  // Round 2: each shot term alone at its tolerance, and the reference acquisition: every shot term
+  // at its tolerance with the shots' mean offset held at 0. The instrument is calibrated as it runs,
+  // with its shot-to-shot noise: the broadening moves the centroid of an asymmetric peak, and that
+  // shift is part of the calibration, not an error.
   const shotPoints: TolerancePoint[] = shotWithTolerance.map((p, k) => ({ index: k, slow: {}, shot: { [p.id]: p.tolerance }, shotSeed: seed }));
-  if (shotWithTolerance.length > 1) {
-    shotPoints.push({ index: shotPoints.length, slow: {}, shot: Object.fromEntries(shotWithTolerance.map((p) => [p.id, p.tolerance])), shotSeed: seed });
+  const referenceIndex = shotPoints.length;
+  if (shotWithTolerance.length > 0) {
+    shotPoints.push({
+      index: referenceIndex,
+      slow: {},
+      shot: Object.fromEntries(shotWithTolerance.map((p) => [p.id, p.tolerance])),
+      shotMean: Object.fromEntries(shotWithTolerance.map((p) => [p.id, 0])),
+      shotSeed: seed,
+    });
   }
   const round2 = shotPoints.length > 0 ? await runPoints(pool, { ...baseTask, shotDerivatives }, shotPoints, tick('shot-to-shot terms')) : null;
   const shotBlocks = (k: number): BlockFigures[] | null => {
     const r = round2?.results.get(k);
     return r === undefined || typeof r === 'string' ? null : r;
   };
+  const referenceBlocks = shotWithTolerance.length > 0 ? shotBlocks(referenceIndex) : baseBlocks;
+  if (referenceBlocks === null) throw new TuningInputError('preset', 'the reference acquisition (shot-to-shot terms at their tolerances) failed');
+  const calResult = fixedCalibration(
+    preset,
+    species.map((sp, s) => ({ mz: sp.mz, time_s: peakTime(main(referenceBlocks, s)) })),
+  );
+  if (!calResult.ok) throw new TuningInputError('preset', `cannot calibrate the unperturbed run: ${calResult.error}`);
+  const cal = calResult.value;
+  const baseMassPpm = species.map((sp, s) => massPpm(peakTime(main(referenceBlocks, s)), cal, sp.mz));
+  const baseMassIonsPpm = species.map((sp, s) => massPpm(main(referenceBlocks, s).meanTime_s, cal, sp.mz));
 
   const sensitivities: ParameterSensitivity[] = params.map((p) => {
     const perSpecies = species.map((sp, s): SpeciesSensitivity => {
       const linked = p.kind === 'slow' ? p.id : p.linkedTo;
       let dt: number | null = null;
       let dm: number | null = null;
+      let dtIons: number | null = null;
+      let dmIons: number | null = null;
       let dR: number | null = null;
       let dRi: number | null = null;
       if (linked) {
         const plus = main(blocksAt(`${linked}+`)!, s);
         const minus = main(blocksAt(`${linked}-`)!, s);
         const step = slow.find((q) => q.id === linked)!.step;
-        dt = diff(plus.meanTime_s, minus.meanTime_s, step);
-        dm = diff(massPpm(plus.meanTime_s, cal, sp.mz), massPpm(minus.meanTime_s, cal, sp.mz), step);
+        dt = diff(peakTime(plus), peakTime(minus), step);
+        dm = diff(massPpm(peakTime(plus), cal, sp.mz), massPpm(peakTime(minus), cal, sp.mz), step);
+        dtIons = diff(plus.meanTime_s, minus.meanTime_s, step);
+        dmIons = diff(massPpm(plus.meanTime_s, cal, sp.mz), massPpm(minus.meanTime_s, cal, sp.mz), step);
         if (p.kind === 'slow') {
           dR = diff(headline(plus), headline(minus), step);
           dRi = diff(plus.ionResolvingPower, minus.ionResolvingPower, step);
         }
       } else if (p.id === TRIGGER_ID) {
-        const t = main(baseBlocks, s).meanTime_s;
+        const t = peakTime(main(baseBlocks, s));
         dt = 1e-9;
-        dm = t === null ? null : diff(massPpm(t + 1e-10, cal, sp.mz), massPpm(t - 1e-10, cal, sp.mz), 1e-10) ;
+        dm = t === null ? null : diff(massPpm(t + 1e-10, cal, sp.mz), massPpm(t - 1e-10, cal, sp.mz), 1e-10);
         dm = dm === null ? null : dm * 1e-9;
+        dtIons = dt;
+        dmIons = dm;
       }
       let atTol: BlockFigures | null = null;
       if (p.tolerance > 0) {
@@ -295,9 +330,12 @@ export async function toleranceWith(pool: TaskPool, request: ToleranceRequest, o
         mz: sp.mz,
         flightTime_ns_per_unit: dt === null ? null : dt * 1e9,
         massShift_ppm_per_unit: dm,
+        flightTimeIons_ns_per_unit: dtIons === null ? null : dtIons * 1e9,
+        massShiftIons_ppm_per_unit: dmIons,
         resolvingPower_per_unit: dR,
         resolvingPowerIons_per_unit: dRi,
         massError_ppm_atTolerance: dm === null ? null : Math.abs(dm) * p.tolerance * scale,
+        massErrorIons_ppm_atTolerance: dmIons === null ? null : Math.abs(dmIons) * p.tolerance * scale,
         resolvingPowerAtTolerance: atTol ? headline(atTol) : null,
         resolvingPowerIonsAtTolerance: atTol ? atTol.ionResolvingPower : null,
       };
@@ -330,12 +368,19 @@ export async function toleranceWith(pool: TaskPool, request: ToleranceRequest, o
     const round3 = await runPoints(pool, { ...baseTask, shotDerivatives }, mcPoints, tick('Monte Carlo'));
     const perDraw: MonteCarloDraw[] = mcIndices.map((d) => {
       const r = round3.results.get(d);
-      if (r === undefined || typeof r === 'string') return { index: d, massError_ppm: species.map(() => null), resolvingPower: species.map(() => null), error: r ?? 'no result' };
+      if (r === undefined || typeof r === 'string') {
+        const none = species.map(() => null);
+        return { index: d, massError_ppm: none, massErrorIons_ppm: none, resolvingPower: none, error: r ?? 'no result' };
+      }
       return {
         index: d,
         massError_ppm: species.map((sp, s) => {
-          const m = massPpm(main(r, s).meanTime_s, cal, sp.mz);
+          const m = massPpm(peakTime(main(r, s)), cal, sp.mz);
           return m === null || baseMassPpm[s] === null ? null : m - baseMassPpm[s]!;
+        }),
+        massErrorIons_ppm: species.map((sp, s) => {
+          const m = massPpm(main(r, s).meanTime_s, cal, sp.mz);
+          return m === null || baseMassIonsPpm[s] === null ? null : m - baseMassIonsPpm[s]!;
         }),
         resolvingPower: species.map((_, s) => headline(main(r, s))),
       };
@@ -352,23 +397,28 @@ export async function toleranceWith(pool: TaskPool, request: ToleranceRequest, o
     calibration: { ...cal, coefficients_ns: { t0_ns: c.t0_s * 1e9, a_ns_per_sqrtTh: c.a_s_per_sqrtTh * 1e9, b_ns_per_Th: c.b_s_per_Th * 1e9 } },
     species: species.map((sp, s) => {
       const b = main(baseBlocks, s);
-      return { label: sp.label, mz: sp.mz, flightTime_ns: b.meanTime_s === null ? null : b.meanTime_s * 1e9, resolvingPower: b.spectrumResolvingPower, resolvingPowerIons: b.ionResolvingPower };
+      const t = peakTime(b);
+      return {
+        label: sp.label,
+        mz: sp.mz,
+        flightTime_ns: t === null ? null : t * 1e9,
+        flightTimeIons_ns: b.meanTime_s === null ? null : b.meanTime_s * 1e9,
+        resolvingPower: b.spectrumResolvingPower,
+        resolvingPowerIons: b.ionResolvingPower,
+      };
     }),
     sensitivities,
-    resolvingPowerAllShotTerms: shotWithTolerance.length > 0 ? species.map((_, s) => {
-      const b = shotBlocks(shotWithTolerance.length > 1 ? shotWithTolerance.length : 0);
-      return b ? headline(main(b, s)) : null;
-    }) : null,
+    resolvingPowerAllShotTerms: shotWithTolerance.length > 0 ? species.map((_, s) => headline(main(referenceBlocks, s))) : null,
     budget,
     monteCarlo,
   };
 }
 
 /** The linearised prediction of the mass error's sd per species: root-sum-square of the contributions at the tolerances. */
-export function linearMassSd_ppm(sensitivities: readonly ParameterSensitivity[], s: number): number | null {
+export function linearMassSd_ppm(sensitivities: readonly ParameterSensitivity[], s: number, ions = false): number | null {
   let sum = 0;
   for (const p of sensitivities) {
-    const e = p.species[s].massError_ppm_atTolerance;
+    const e = ions ? p.species[s].massErrorIons_ppm_atTolerance : p.species[s].massError_ppm_atTolerance;
     if (e === null) {
       if (p.tolerance > 0) return null;
       continue;
@@ -399,6 +449,9 @@ function summariseDraws(
   };
 }
 
+/** Φ⁻¹(0.95): the 5th/95th percentiles of a normal distribution lie at ∓1.6449 sd. */
+const Z95 = 1.6448536269514722;
+
 /** Per-species summaries and histograms of a set of draws (also used to join shards). */
 export function monteCarloSpecies(
   perDraw: readonly MonteCarloDraw[],
@@ -408,13 +461,15 @@ export function monteCarloSpecies(
   return species.map((sp, s) => {
     const mass = perDraw.map((d) => d.massError_ppm[s]);
     const r = perDraw.map((d) => d.resolvingPower[s]);
-    const sd = linearMassSd_ppm(sensitivities, s);
+    const band = (sd: number | null) => ({ sd_ppm: sd, p5_ppm: sd === null ? null : -Z95 * sd, p95_ppm: sd === null ? null : Z95 * sd });
     return {
       label: sp.label,
       mz: sp.mz,
       massError_ppm: summarise(mass),
+      massErrorIons_ppm: summarise(perDraw.map((d) => d.massErrorIons_ppm[s])),
       resolvingPower: summarise(r),
-      linear: { sd_ppm: sd, p5_ppm: sd === null ? null : -1.6448536269514722 * sd, p95_ppm: sd === null ? null : 1.6448536269514722 * sd },
+      linear: band(linearMassSd_ppm(sensitivities, s)),
+      linearIons: band(linearMassSd_ppm(sensitivities, s, true)),
       histograms: { massError_ppm: histogram(mass), resolvingPower: histogram(r) },
     };
   });

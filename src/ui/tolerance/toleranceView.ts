@@ -160,7 +160,9 @@ export class ToleranceView {
           renderHistogram(s.histograms.massError_ppm, 'apparent mass error', 'ppm'),
           el('p', {
             className: 'summary',
-            text: `median ${num(s.massError_ppm.median)} ppm, 5–95 % ${num(s.massError_ppm.p5)}…${num(s.massError_ppm.p95)} ppm (linear ±${num(s.linear.p95_ppm)})`,
+            text:
+              `spectrum peak: median ${num(s.massError_ppm.median)} ppm, 5–95 % ${num(s.massError_ppm.p5)}…${num(s.massError_ppm.p95)} ppm (linear ±${num(s.linear.p95_ppm)}); ` +
+              `ideal detector: 5–95 % ${num(s.massErrorIons_ppm.p5)}…${num(s.massErrorIons_ppm.p95)} ppm`,
           }),
           renderHistogram(s.histograms.resolvingPower, 'resolving power (spectrum)', ''),
           el('p', { className: 'summary', text: `R median ${formatR(s.resolvingPower.median)}, 5–95 % ${formatR(s.resolvingPower.p5)}…${formatR(s.resolvingPower.p95)} (unperturbed ${formatR(r.species[i].resolvingPower ?? r.species[i].resolvingPowerIons)})` }),
