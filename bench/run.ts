@@ -10,6 +10,7 @@ import { pathToFileURL } from 'node:url';
 import { build } from 'esbuild';
 import { runTuningBench } from './tuning';
 import { runMeasuredBench } from './measured';
+import { runToleranceBench } from './tolerance';
 
 async function engineFigures(): Promise<Record<string, number | string>> {
   // Next to the sources, so that paths relative to import.meta.url (presets/) still resolve.
@@ -33,6 +34,6 @@ async function engineFigures(): Promise<Record<string, number | string>> {
 }
 
 const json = process.argv.includes('--json');
-const figures: Record<string, number | string> = { ...(await engineFigures()), ...(await runTuningBench()), ...runMeasuredBench() };
+const figures: Record<string, number | string> = { ...(await engineFigures()), ...(await runTuningBench()), ...runMeasuredBench(), ...(await runToleranceBench()) };
 if (json) process.stdout.write(JSON.stringify(figures) + '\n');
 else for (const [key, value] of Object.entries(figures)) process.stdout.write(`${key.padEnd(28)} ${value}\n`);

@@ -13,6 +13,7 @@ import { TUNING_USAGE } from './cli/tuningArgs';
 import type { SpectrumSection } from './simulation/analysisReport';
 import { compareWithIdeal, formatIdealComparison } from './simulation/idealComparison';
 import { isMeasuredCommand, MEASURED_USAGE, runMeasuredCommand } from './cli/measuredCommand';
+import { isToleranceCommand, runToleranceCommand, TOLERANCE_USAGE, type ToleranceCliOptions } from './cli/toleranceCommand';
 
 export const USAGE = `Usage: npm run sim -- <preset.json> [--json | --csv] [--ions N] [--seed S]
 
@@ -28,7 +29,8 @@ export const USAGE = `Usage: npm run sim -- <preset.json> [--json | --csv] [--io
 
 ${TUNING_USAGE}
 
-${MEASURED_USAGE}`;
+${MEASURED_USAGE}
+${TOLERANCE_USAGE}`;
 
 export interface CliArgs {
   presetPath: string;
@@ -102,8 +104,9 @@ function spectrumJson(s: SpectrumSection | null) {
 }
 
 /** Plain runs return their exit code at once; scans, tunes and merges (worker pool) return a promise of it. */
-export function main(argv: readonly string[], io: CliIo = processIo, options: TuningCliOptions = {}): number | Promise<number> {
+export function main(argv: readonly string[], io: CliIo = processIo, options: TuningCliOptions & ToleranceCliOptions = {}): number | Promise<number> {
   if (isMeasuredCommand(argv) && !argv.includes('--help')) return runMeasuredCommand(argv, io, (rest, plainIo) => main(rest, plainIo, options));
+  if (isToleranceCommand(argv) && !argv.includes('--help')) return runToleranceCommand(argv, io, options);
   if (isTuningCommand(argv)) return runTuningCommand(argv, io, options);
   const parsed = parseArgs(argv);
   if (!parsed.ok) {

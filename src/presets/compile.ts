@@ -13,6 +13,7 @@ import type { SolvedSourceModel } from '../physics/solvedSource';
 import type { PresetIssue } from './issues';
 import { isotopeBlocks, resolveChemistry } from './speciesChemistry';
 import type { Preset } from './schema';
+import { checkTolerances } from '../tolerance/checks';
 
 /** Longest flight followed before an ion is reported as timed out. */
 export const MAX_FLIGHT_TIME_S = 0.1;
@@ -74,6 +75,7 @@ export function checkPreset(preset: Preset): PresetIssue[] {
   if (acq && acq.recordLength_us !== undefined && (acq.recordLength_us * 1e3) / acq.sampleInterval_ns > 1 << 24) {
     issues.push({ path: 'acquisition.recordLength_us', message: `gives more than ${1 << 24} samples at this sample interval` });
   }
+  issues.push(...checkTolerances(preset));
   if (!preset.ions.species.some((s) => s.abundance > 0)) {
     issues.push({ path: 'ions.species', message: 'at least one species needs an abundance > 0' });
   }

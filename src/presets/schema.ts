@@ -6,6 +6,7 @@
  */
 import { z } from 'zod';
 import { solvedMirrorSchema, solvedSourceSchema } from './fieldsSchema';
+import { tolerancesSchema } from './toleranceSchema';
 
 // Zod compiles validators with `new Function` unless told not to; the app runs under a CSP without eval.
 z.config({ jitless: true });
@@ -317,6 +318,8 @@ export const presetSchema = z.strictObject({
   ions: ionsSchema,
   acquisition: acquisitionSchema.optional(),
   analysis: analysisSchema.optional(),
+  /** Instrument stability for the tolerance analysis (src/presets/toleranceSchema.ts). */
+  tolerances: tolerancesSchema.optional(),
   run: runSchema,
 });
 

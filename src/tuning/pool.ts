@@ -53,6 +53,7 @@ export function inProcessPool(tasks: EngineTasks, size = 1): TaskPool {
     evaluatePoints: async (t) => tasks.evaluatePoints(t),
     search: async (t) => tasks.search(t),
     flatnessEdge: async (t) => tasks.flatnessEdge(t),
+    evaluateTolerance: async (t) => tasks.evaluateTolerance(t),
   };
   return { lanes: Array.from({ length: Math.max(1, size) }, () => lane) };
 }

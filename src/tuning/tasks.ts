@@ -9,6 +9,7 @@ import type { Objective, ScanPoint, WidthMeasure } from './api';
 import { evaluateAt, scanPoint, type PointSettings } from './evaluate';
 import { costQuality, resolveObjective } from './objective';
 import { goldenSection, nelderMead } from './optimiser';
+import { evaluateTolerancePoints, type ToleranceTask, type ToleranceTaskResult } from '../tolerance/evaluate';
 
 /** Settings shared by every evaluation of one request. */
 export interface TaskContext {
@@ -69,6 +70,8 @@ export interface EngineTasks {
   evaluatePoints(task: PointsTask): PointsTaskResult;
   search(task: SearchTask): SearchTaskResult;
   flatnessEdge(task: FlatnessTask): FlatnessTaskResult;
+  /** Points of a tolerance analysis (src/tolerance/). */
+  evaluateTolerance(task: ToleranceTask): ToleranceTaskResult;
 }
 
 function settingsOf(task: TaskContext): PointSettings {
@@ -89,6 +92,8 @@ const EDGE_BISECTIONS = 10;
 const EDGE_FIRST_STEP = 0.004;
 
 export const engineTasks: EngineTasks = {
+  evaluateTolerance: evaluateTolerancePoints,
+
   evaluatePoints(task) {
     const settings = settingsOf(task);
     const points: ScanPoint[] = [];

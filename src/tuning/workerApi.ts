@@ -19,5 +19,6 @@ export function createWorkerApi(run: (request: RunRequest) => RunOutput): Engine
     evaluatePoints: engineTasks.evaluatePoints,
     search: engineTasks.search,
     flatnessEdge: engineTasks.flatnessEdge,
+    evaluateTolerance: engineTasks.evaluateTolerance,
   };
 }

@@ -15,6 +15,7 @@ import { CancelledError } from './errors';
 import type { TaskLane, TaskPool } from './pool';
 import { scanWith } from './scan';
 import { optimiseWith } from './tune';
+import { toleranceWith, type ToleranceRequest, type ToleranceResult } from '../tolerance/analysis';
 import type { EngineWorkerApi } from './workerApi';
 
 /** What the client reads from a worker's events: `data` of a message, `message` of an error. */
@@ -77,6 +78,12 @@ export class EngineWorkerClient {
   optimise(request: TuneRequest): Promise<TuneResult> {
     const generation = this.generation;
     return this.guardResult(optimiseWith(this.pool(), request, (p) => this.progress(generation, p)), generation);
+  }
+
+  /** A tolerance analysis (src/tolerance/analysis.ts) spread over every worker. */
+  tolerance(request: ToleranceRequest): Promise<ToleranceResult> {
+    const generation = this.generation;
+    return this.guardResult(toleranceWith(this.pool(), request, (p) => this.progress(generation, p)), generation);
   }
 
   /** Stop everything in flight: terminate and respawn the workers, reject every pending call. */
@@ -171,6 +178,7 @@ export class EngineWorkerClient {
       evaluatePoints: (task) => this.guard(() => remote.evaluatePoints(task), generation),
       search: (task) => this.guard(() => remote.search(task), generation),
       flatnessEdge: (task) => this.guard(() => remote.flatnessEdge(task), generation),
+      evaluateTolerance: (task) => this.guard(() => remote.evaluateTolerance(task), generation),
     }));
     return { lanes };
   }

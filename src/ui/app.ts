@@ -38,6 +38,7 @@ import { IdbPresetStore } from './storage/idbPresetStore';
 import type { WorkingSnapshot } from './storage/presetStore';
 import { TuningView } from './tuning/tuningView';
 import { MeasuredView } from './measured/measuredView';
+import { ToleranceView } from './tolerance/toleranceView';
 
 type Status = 'loading' | 'running' | 'done' | 'invalid' | 'error';
 
@@ -289,6 +290,7 @@ export async function startApp(): Promise<void> {
   };
   const compare = new CompareView(context);
   const tuning = new TuningView(context);
+  const tolerance = new ToleranceView(context);
   const presets = new PresetsView(context);
   const measured = new MeasuredView(context, spectrum, [byId('spectrum').parentElement!]);
   presets.onListChange = () => void compare.refreshChoices();
@@ -298,6 +300,7 @@ export async function startApp(): Promise<void> {
     if (id === 'tab-presets') void presets.refresh();
     if (id === 'tab-tuning') tuning.refresh();
     if (id === 'tab-measured') measured.refresh();
+    if (id === 'tab-tolerance') tolerance.refresh();
   });
 
   // ---- header actions -------------------------------------------------------------------------

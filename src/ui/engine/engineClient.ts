@@ -6,12 +6,15 @@
 import type { Progress, RunOutput, RunRequest, ScanRequest, ScanResult, TuneRequest, TuneResult } from '../../tuning/api';
 import { CancelledError } from '../../tuning/errors';
 import type { EngineWorkerClient } from '../../tuning/workerClient';
+import type { ToleranceRequest, ToleranceResult } from '../../tolerance/analysis';
 import { createEngineWorkerPool, defaultPoolSize } from '../../../workers/pool';
 
 export interface EngineClient {
   run(request: RunRequest): Promise<RunOutput>;
   scan(request: ScanRequest, onProgress?: (p: Progress) => void): Promise<ScanResult>;
   optimise(request: TuneRequest, onProgress?: (p: Progress) => void): Promise<TuneResult>;
+  /** The stability analysis (src/tolerance/); optional so that other engines need not offer it. */
+  tolerance?(request: ToleranceRequest, onProgress?: (p: Progress) => void): Promise<ToleranceResult>;
   /** Stop everything in flight now; the pending promises reject with CancelledError. */
   cancel(): void;
   dispose(): void;
@@ -36,6 +39,11 @@ class PoolEngineClient implements EngineClient {
   optimise(request: TuneRequest, onProgress?: (p: Progress) => void): Promise<TuneResult> {
     this.client.onProgress = onProgress ?? null;
     return this.client.optimise(request);
+  }
+
+  tolerance(request: ToleranceRequest, onProgress?: (p: Progress) => void): Promise<ToleranceResult> {
+    this.client.onProgress = onProgress ?? null;
+    return this.client.tolerance(request);
   }
 
   cancel(): void {
