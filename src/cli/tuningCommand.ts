@@ -12,7 +12,9 @@ import type { EngineApi, Objective, ScanRequest, TuneParameter, TuneRequest } fr
 import { TuningInputError } from '../tuning/errors';
 import { cloneJson, numberAt, parsePath, withValues } from '../tuning/paramPath';
 import { checkScanRequest, type ScanLabels } from '../tuning/scan';
-import { checkScanDocument, mergeScanDocuments, scanDocument, type ScanDocument } from '../tuning/scanDocument';
+import { mergeScanDocuments, scanDocument, type ScanDocument } from '../tuning/scanDocument';
+import { validateScanText } from '../tuning/mergeValidation';
+import { stripByteOrderMark } from '../presets/textInput';
 import { checkTuneRequest, type TuneLabels } from '../tuning/tune';
 import { createThreadPoolClient, defaultThreadCount } from './threadPool';
 import { parseTuningArgs, TUNING_USAGE, type TuningArgs } from './tuningArgs';
@@ -229,7 +231,7 @@ export function roundWithin(x: number, low: number, high: number, bounds: { min:
  * omitted defaults kept), or the validated tuned preset if that document cannot take the values.
  */
 function tunedPresetText(loaded: LoadedPreset, parameters: readonly TuneParameter[], best: readonly number[], tunedPreset: Preset): string {
-  const raw = JSON.parse(loaded.text) as unknown;
+  const raw = JSON.parse(stripByteOrderMark(loaded.text)) as unknown;
   const paths = parameters.map((p) => p.path);
   if (paths.every((p) => numberAt(raw, p).ok)) {
     const r = withValues(raw, paths, best);
@@ -260,11 +262,9 @@ function runMerge(args: TuningArgs, io: TuningIo): number {
       issues.push({ path: file, message: `cannot read the scan file (${(err as { code?: string }).code ?? 'unreadable'})` });
       continue;
     }
-    try {
-      docs.push({ label: file, doc: checkScanDocument(JSON.parse(text), file) });
-    } catch (err) {
-      issues.push({ path: file, message: err instanceof TuningInputError ? err.reason : `is not valid JSON: ${(err as Error).message}` });
-    }
+    const checked = validateScanText(text, file);
+    if (checked.ok) docs.push({ label: file, doc: checked.doc });
+    else issues.push(...checked.issues);
   }
   if (issues.length) {
     io.err(formatIssues(issues) + '\n');
