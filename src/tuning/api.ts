@@ -13,6 +13,8 @@ export interface RunRequest {
   readonly seed?: number;
   /** Build the spectrum, peak, calibration and focus sections (default true); off for quick previews. */
   readonly analysis?: boolean;
+  /** Also count the ions that cross the extraction grid during the delay (src/simulation/pulseReach.ts). */
+  readonly pulseReach?: boolean;
 }
 
 export interface RunOutput {
@@ -24,6 +26,8 @@ export interface RunOutput {
   readonly speciesStart: Int32Array;
   /** Wall-clock time the run took inside the engine (ms), for the app's status line. */
   readonly elapsed_ms: number;
+  /** When asked for (RunRequest.pulseReach): ions in the source at the pulse, and those past its first stage. */
+  readonly pulseReach?: { readonly inSource: number; readonly pastFirstStage: number };
 }
 
 /** One scanned parameter, addressed by its dotted path in the preset (e.g. `source.extraction.delay_ns`). */
