@@ -10,6 +10,8 @@ import { simulate } from './simulation/run';
 import { formatCsv, formatTable } from './simulation/format';
 import { isTuningCommand, runTuningCommand, type TuningCliOptions } from './cli/tuningCommand';
 import { TUNING_USAGE } from './cli/tuningArgs';
+import { parseCliInteger } from './cli/numbers';
+import { outputFormatClash } from './cli/outputFlags';
 import type { SpectrumSection } from './simulation/analysisReport';
 import { compareWithIdeal, formatIdealComparison } from './simulation/idealComparison';
 import { isMeasuredCommand, MEASURED_USAGE, runMeasuredCommand } from './cli/measuredCommand';
@@ -59,15 +61,17 @@ export function parseArgs(argv: readonly string[]): ArgsResult {
     } else if (arg === '--compare-ideal') {
       compareIdeal = true;
     } else if (arg === '--json' || arg === '--csv') {
-      format = arg === '--json' ? 'json' : 'csv';
+      const clash = outputFormatClash(format, arg);
+      if (clash) issues.push({ path: arg, message: clash });
+      else format = arg === '--json' ? 'json' : 'csv';
     } else if (arg === '--ions' || arg === '--seed') {
       const range = arg === '--ions' ? LIMITS.ions : LIMITS.seed;
       const text = argv[++i];
-      const value = Number(text);
-      if (text === undefined || !Number.isInteger(value) || value < range.min || value > range.max) {
-        issues.push({ path: arg, message: `must be an integer from ${range.min} to ${range.max} (got ${text ?? 'nothing'})` });
-      } else if (arg === '--ions') ions = value;
-      else seed = value;
+      const parsed = parseCliInteger(text, range);
+      if ((arg === '--ions' ? ions : seed) !== undefined) issues.push({ path: arg, message: 'is given twice: give it once' });
+      else if (!parsed.ok) issues.push({ path: arg, message: parsed.message });
+      else if (arg === '--ions') ions = parsed.value;
+      else seed = parsed.value;
     } else if (arg.startsWith('-')) {
       issues.push({ path: arg, message: 'unknown option (see --help)' });
     } else if (presetPath === undefined) {

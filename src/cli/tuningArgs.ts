@@ -7,6 +7,8 @@ import type { PresetIssue } from '../presets/issues';
 import { LIMITS } from '../presets/schema';
 import type { ObjectiveName, ScanAxis } from '../tuning/api';
 import { OBJECTIVE_NAMES } from '../tuning/objective';
+import { parseCliInteger, parseCliNumber } from './numbers';
+import { checkOutputFileName, outputFormatClash } from './outputFlags';
 
 export const TUNING_USAGE = `Scans, auto-tune and merging shards:
   npm run sim -- <preset.json> --scan <path>=<from>:<to>:<steps> [--scan <path>=...] [--json | --csv]
@@ -22,6 +24,7 @@ export const TUNING_USAGE = `Scans, auto-tune and merging shards:
   --target-mz M     species the objective looks at (max-r-at-mz, min-fwhm)
   --range A:B       m/z range whose least R is maximised (max-min-r-over-range)
   --min-transmission F  tune constraint, 0..1 (default: 99 % of the transmission at the current settings)
+  --allow-worse     give the search's best even when the preset's own settings score better (default: keep the preset's)
   --write <file>    save the tuned preset (tune) or the scan / merged scan as JSON; never replaces
                     an existing file, the input included, unless --force is given
   --shard i/n       run share i of n (1-based) of a scan's points; join the outputs with merge
@@ -49,6 +52,7 @@ export interface TuningArgs {
   readonly minTransmission?: number;
   readonly write?: string;
   readonly force: boolean;
+  readonly allowWorse?: boolean;
   /** 0-based shard index. */
   readonly shard?: { readonly index: number; readonly count: number };
   readonly ions?: number;
@@ -57,12 +61,14 @@ export interface TuningArgs {
 
 export type TuningArgsResult = { ok: true; args: TuningArgs } | { ok: false; issues: PresetIssue[]; help?: boolean };
 
+/** Flags that may be given more than once (each adds an axis or parameters). */
+const REPEATABLE = new Set(['--scan', '--tune']);
+
 export function isTuningCommand(argv: readonly string[]): boolean {
   return argv[0] === 'merge' || argv.includes('--scan') || argv.includes('--tune');
 }
 
-const NUMBER = /^[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?$/;
-const num = (text: string): number => (NUMBER.test(text.trim()) ? Number(text) : NaN);
+const num = parseCliNumber;
 
 /** `path=from:to:steps` or `path=v1,v2,...`. */
 export function parseScanAxis(text: string): ScanAxis | string {
@@ -118,6 +124,9 @@ export function parseTuningArgs(argv: readonly string[]): TuningArgsResult {
   let minTransmission: number | undefined;
   let write: string | undefined;
   let force = false;
+  let allowWorse = false;
+  // Flags that appeared (even with a bad value), so a later "is required" check does not add a second message.
+  const given = new Set<string>();
   let shard: { index: number; count: number } | undefined;
   let ions: number | undefined;
   let seed: number | undefined;
@@ -127,6 +136,11 @@ export function parseTuningArgs(argv: readonly string[]): TuningArgsResult {
     const arg = rest[i];
     const takesValue = ['--scan', '--tune', '--objective', '--target-mz', '--range', '--min-transmission', '--write', '--shard', '--ions', '--seed'].includes(arg);
     const value = takesValue ? rest[++i] : undefined;
+    if (takesValue && given.has(arg) && !REPEATABLE.has(arg)) {
+      bad(arg, 'is given twice: give it once');
+      continue;
+    }
+    given.add(arg);
     if (takesValue && (value === undefined || value.startsWith('--'))) {
       bad(arg, 'needs a value (see --help)');
       if (value !== undefined) i--;
@@ -137,11 +151,17 @@ export function parseTuningArgs(argv: readonly string[]): TuningArgsResult {
       case '-h':
         return { ok: false, issues: [], help: true };
       case '--json':
-      case '--csv':
-        format = arg === '--json' ? 'json' : 'csv';
+      case '--csv': {
+        const clash = outputFormatClash(format, arg);
+        if (clash) bad(arg, clash);
+        else format = arg === '--json' ? 'json' : 'csv';
         break;
+      }
       case '--force':
         force = true;
+        break;
+      case '--allow-worse':
+        allowWorse = true;
         break;
       case '--scan': {
         const axis = parseScanAxis(value!);
@@ -181,9 +201,12 @@ export function parseTuningArgs(argv: readonly string[]): TuningArgsResult {
         else minTransmission = f;
         break;
       }
-      case '--write':
-        write = value;
+      case '--write': {
+        const problem = checkOutputFileName(value!);
+        if (problem) bad('--write', problem);
+        else write = value;
         break;
+      }
       case '--shard': {
         const m = /^(\d+)\/(\d+)$/.exec(value!.trim());
         const index = m ? Number(m[1]) : NaN;
@@ -194,11 +217,10 @@ export function parseTuningArgs(argv: readonly string[]): TuningArgsResult {
       }
       case '--ions':
       case '--seed': {
-        const range_ = arg === '--ions' ? LIMITS.ions : LIMITS.seed;
-        const v = num(value!);
-        if (!Number.isInteger(v) || v < range_.min || v > range_.max) bad(arg, `must be an integer from ${range_.min} to ${range_.max} (got ${value})`);
-        else if (arg === '--ions') ions = v;
-        else seed = v;
+        const parsedInt = parseCliInteger(value, arg === '--ions' ? LIMITS.ions : LIMITS.seed);
+        if (!parsedInt.ok) bad(arg, parsedInt.message);
+        else if (arg === '--ions') ions = parsedInt.value;
+        else seed = parsedInt.value;
         break;
       }
       default:
@@ -210,7 +232,7 @@ export function parseTuningArgs(argv: readonly string[]): TuningArgsResult {
   const mode: TuningArgs['mode'] = merge ? 'merge' : tuneGiven ? 'tune' : 'scan';
   if (merge) {
     if (files.length === 0) bad('merge', 'give the scan files to merge');
-    for (const flag of ['--scan', '--tune', '--objective', '--target-mz', '--range', '--shard', '--ions', '--seed', '--min-transmission']) {
+    for (const flag of ['--scan', '--tune', '--objective', '--target-mz', '--range', '--shard', '--ions', '--seed', '--min-transmission', '--allow-worse']) {
       if (rest.includes(flag)) bad(flag, 'does not apply to merge');
     }
   } else {
@@ -220,20 +242,25 @@ export function parseTuningArgs(argv: readonly string[]): TuningArgsResult {
     if (mode === 'scan' && axes.length > 2) bad('--scan', 'at most two --scan axes (a 1-D or 2-D scan)');
     if (mode === 'tune' && shard) bad('--shard', 'applies to scans only');
     if (mode === 'scan' && minTransmission !== undefined) bad('--min-transmission', 'applies to --tune only');
-    // Infer the objective from a lone target or range; a tune needs one.
-    if (!objective && targetMz !== undefined && range === undefined) objective = 'max-r-at-mz';
-    if (!objective && range !== undefined && targetMz === undefined) objective = 'max-min-r-over-range';
-    if (!objective && (targetMz !== undefined || range !== undefined)) bad('--objective', 'is required when both --target-mz and --range are given');
-    if (mode === 'tune' && !objective && targetMz === undefined && range === undefined) {
+    if (mode === 'scan' && allowWorse) bad('--allow-worse', 'applies to --tune only');
+    // Infer the objective from a lone target or range; a tune needs one. A flag that was given with a
+    // bad value already has its message, so nothing is inferred from or required of it here.
+    const objectiveGiven = given.has('--objective');
+    const targetGiven = given.has('--target-mz');
+    const rangeGiven = given.has('--range');
+    if (!objectiveGiven && targetMz !== undefined && !rangeGiven) objective = 'max-r-at-mz';
+    if (!objectiveGiven && range !== undefined && !targetGiven) objective = 'max-min-r-over-range';
+    if (!objectiveGiven && targetGiven && rangeGiven) bad('--objective', 'is required when both --target-mz and --range are given');
+    if (mode === 'tune' && !objectiveGiven && !targetGiven && !rangeGiven) {
       bad('--objective', `is required with --tune (choose ${OBJECTIVE_NAMES.join(', ')})`);
     }
-    if (objective === 'max-min-r-over-range' && range === undefined) bad('--range', `is required by --objective ${objective} (give the m/z range as A:B)`);
-    if ((objective === 'max-r-at-mz' || objective === 'min-fwhm') && targetMz === undefined) bad('--target-mz', `is required by --objective ${objective} (give the m/z of a species of the preset)`);
+    if (objective === 'max-min-r-over-range' && !rangeGiven) bad('--range', `is required by --objective ${objective} (give the m/z range as A:B)`);
+    if ((objective === 'max-r-at-mz' || objective === 'min-fwhm') && !targetGiven) bad('--target-mz', `is required by --objective ${objective} (give the m/z of a species of the preset)`);
   }
-  if (force && !write) bad('--force', 'only applies together with --write');
+  if (force && !given.has('--write')) bad('--force', 'only applies together with --write');
   if (issues.length) return { ok: false, issues };
   return {
     ok: true,
-    args: { mode, presetPath: merge ? undefined : files[0], files, format, axes, axisTexts, tune, objective, targetMz, range, minTransmission, write, force, shard, ions, seed },
+    args: { mode, presetPath: merge ? undefined : files[0], files, format, axes, axisTexts, tune, objective, targetMz, range, minTransmission, write, force, allowWorse, shard, ions, seed },
   };
 }

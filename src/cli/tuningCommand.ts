@@ -12,10 +12,13 @@ import type { EngineApi, Objective, ScanRequest, TuneParameter, TuneRequest } fr
 import { TuningInputError } from '../tuning/errors';
 import { cloneJson, numberAt, parsePath, withValues } from '../tuning/paramPath';
 import { checkScanRequest, type ScanLabels } from '../tuning/scan';
-import { checkScanDocument, mergeScanDocuments, scanDocument, type ScanDocument } from '../tuning/scanDocument';
+import { mergeScanDocuments, scanDocument, type ScanDocument } from '../tuning/scanDocument';
+import { validateScanText } from '../tuning/mergeValidation';
+import { stripByteOrderMark } from '../presets/textInput';
 import { checkTuneRequest, type TuneLabels } from '../tuning/tune';
 import { createThreadPoolClient, defaultThreadCount } from './threadPool';
 import { parseTuningArgs, TUNING_USAGE, type TuningArgs } from './tuningArgs';
+import { emptyShardWarning } from './shardWarning';
 import { formatScanCsv, formatScanTable, formatTuneTable } from './tuningFormat';
 
 export interface TuningIo {
@@ -135,6 +138,8 @@ async function runScan(args: TuningArgs, loaded: LoadedPreset, io: TuningIo, opt
   };
   const labels: ScanLabels = { axis: (i) => `--scan ${args.axisTexts[i] ?? ''}`.trim(), objective: CLI_OBJECTIVE_LABELS, shard: '--shard', ions: '--ions', seed: '--seed' };
   const checked = checkScanRequest(request, labels);
+  const empty = emptyShardWarning(args.shard, checked.total, checked.indices.length);
+  if (empty) io.err(empty + '\n');
   const engine = (options.createEngine ?? defaultEngine)(Math.min(defaultThreadCount(), Math.max(1, checked.indices.length)));
   let doc: ScanDocument;
   try {
@@ -167,7 +172,7 @@ function tuneParameters(args: TuningArgs, preset: Preset): TuneParameter[] {
 async function runTune(args: TuningArgs, loaded: LoadedPreset, io: TuningIo, options: TuningCliOptions): Promise<number> {
   const parameters = tuneParameters(args, loaded.preset);
   const objective = objectiveOf(args)!;
-  const request: TuneRequest = { preset: loaded.preset, parameters, objective, ions: args.ions, seed: args.seed, minTransmission: args.minTransmission };
+  const request: TuneRequest = { preset: loaded.preset, parameters, objective, ions: args.ions, seed: args.seed, minTransmission: args.minTransmission, allowWorse: args.allowWorse };
   const labels: TuneLabels = {
     parameter: (i) => `--tune ${parameters[i]?.path ?? ''}`.trim(),
     objective: CLI_OBJECTIVE_LABELS,
@@ -194,7 +199,8 @@ async function runTune(args: TuningArgs, loaded: LoadedPreset, io: TuningIo, opt
   if (args.write) {
     // Written values are rounded to a step of at most 1/1000 of their flatness interval: readable, and
     // far inside the region where the objective stays within 10 % of its best.
-    const rounded = result.best.map((x, i) => roundWithin(x, result.flatness[i].low, result.flatness[i].high, parameters[i]));
+    // A kept preset is written with its own values, unrounded.
+    const rounded = result.recommendation === 'preset' ? result.best : result.best.map((x, i) => roundWithin(x, result.flatness[i].low, result.flatness[i].high, parameters[i]));
     writeOut(args, io, tunedPresetText(loaded, parameters, rounded, result.tunedPreset));
   }
   const ions = args.ions ?? loaded.preset.run.ions;
@@ -202,10 +208,11 @@ async function runTune(args: TuningArgs, loaded: LoadedPreset, io: TuningIo, opt
   if (args.format === 'json') {
     io.out(JSON.stringify({ preset: loaded.preset.name, ions, seed, objectiveDefinition: objective, ...result }) + '\n');
   } else if (args.format === 'csv') {
-    const lines = ['path,start,tuned,flatLow,flatHigh', ...result.flatness.map((f, i) => [f.path, result.start[i], result.best[i], f.low, f.high].join(','))];
+    const lines = ['path,start,tuned,flatLow,flatHigh,preset,recommendation', ...result.flatness.map((f, i) => [f.path, result.start[i], result.best[i], f.low, f.high, result.presetValues?.[i] ?? '', result.recommendation ?? ''].join(','))];
     io.out(lines.join('\n') + '\n');
   } else {
-    io.out(formatTuneTable(loaded.preset.name, ions, seed, objective, result) + (args.write ? `saved: ${args.write} (tuned values rounded to 1/1000 of their interval)\n` : ''));
+    const saved = result.recommendation === 'preset' ? "the preset's own values" : 'tuned values rounded to 1/1000 of their interval';
+    io.out(formatTuneTable(loaded.preset.name, ions, seed, objective, result) + (args.write ? `saved: ${args.write} (${saved})\n` : ''));
   }
   return 0;
 }
@@ -224,7 +231,7 @@ export function roundWithin(x: number, low: number, high: number, bounds: { min:
  * omitted defaults kept), or the validated tuned preset if that document cannot take the values.
  */
 function tunedPresetText(loaded: LoadedPreset, parameters: readonly TuneParameter[], best: readonly number[], tunedPreset: Preset): string {
-  const raw = JSON.parse(loaded.text) as unknown;
+  const raw = JSON.parse(stripByteOrderMark(loaded.text)) as unknown;
   const paths = parameters.map((p) => p.path);
   if (paths.every((p) => numberAt(raw, p).ok)) {
     const r = withValues(raw, paths, best);
@@ -255,11 +262,9 @@ function runMerge(args: TuningArgs, io: TuningIo): number {
       issues.push({ path: file, message: `cannot read the scan file (${(err as { code?: string }).code ?? 'unreadable'})` });
       continue;
     }
-    try {
-      docs.push({ label: file, doc: checkScanDocument(JSON.parse(text), file) });
-    } catch (err) {
-      issues.push({ path: file, message: err instanceof TuningInputError ? err.reason : `is not valid JSON: ${(err as Error).message}` });
-    }
+    const checked = validateScanText(text, file);
+    if (checked.ok) docs.push({ label: file, doc: checked.doc });
+    else issues.push(...checked.issues);
   }
   if (issues.length) {
     io.err(formatIssues(issues) + '\n');

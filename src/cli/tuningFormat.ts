@@ -2,6 +2,7 @@
 import { HV_CAUTION } from '../simulation/format';
 import type { Objective, ScanSpeciesPoint, TuneResult } from '../tuning/api';
 import type { ScanDocument } from '../tuning/scanDocument';
+import { describeFigure } from '../tuning/tuneVerdict';
 
 const fmt = (x: number | null | undefined, digits: number): string => (x === null || x === undefined ? '—' : x.toFixed(digits));
 const fmtR = (x: number | null | undefined): string => (x === null || x === undefined ? '—' : x >= 1e6 ? x.toExponential(2) : Math.round(x).toString());
@@ -77,32 +78,47 @@ export function formatScanCsv(doc: ScanDocument): string {
 }
 
 export function formatTuneTable(presetName: string, ions: number, seed: number, objective: Objective, result: TuneResult): string {
-  const rows = result.flatness.map((f, i) => [f.path, fmtValue(result.start[i]), fmtValue(result.best[i]), `${fmtValue(f.low)} … ${fmtValue(f.high)}`]);
-  const speciesRows = (result.species ?? []).map((s) => [
+  const measure = result.measure ?? 'sd';
+  const presetValues = result.presetValues ?? result.start;
+  const rows = result.flatness.map((f, i) => [f.path, fmtValue(presetValues[i]), fmtValue(result.start[i]), fmtValue(result.best[i]), `${fmtValue(f.low)} … ${fmtValue(f.high)}`]);
+  const pct = (s: ScanSpeciesPoint | undefined): string => (s ? (s.transmission * 100).toFixed(1) + ' %' : '—');
+  const speciesRows = (result.species ?? []).map((s, k) => [
     s.label ?? `m/z ${s.mz}`,
     s.mz.toFixed(4),
+    pct(result.presetSpecies?.[k]),
+    pct(result.startSpecies?.[k]),
+    pct(s),
     fmt(s.flightTime_ns, 2),
     fmt(s.fwhm_ns, 3),
     fmtR(s.resolvingPower),
     fmtR(s.resolvingPowerShortest),
-    (s.transmission * 100).toFixed(1) + ' %',
   ]);
-  const what = objective.name === 'min-fwhm' ? 'FWHM/ns' : 'R (FWHM)';
-  const smooth = result.smoothObjective;
+  const keptPreset = result.recommendation === 'preset';
+  const verdict = keptPreset
+    ? [
+        `recommendation: keep the preset's own settings: no setting found scores better (preset ${fmtObjective(objective, result.presetObjective ?? null)}, best found ` +
+          `${fmtObjective(objective, result.searchObjective ?? null)} at ${(result.searchBest ?? []).map(fmtValue).join(', ')}); add --allow-worse to be given the search's best instead.`,
+      ]
+    : result.worseThanPreset
+      ? [`WARNING: as asked (--allow-worse), the tuned setting is shown although it scores worse than the preset's own settings (${fmtObjective(objective, result.objective)} vs ${fmtObjective(objective, result.presetObjective ?? null)}).`]
+      : [];
   const out = [
-    `${presetName} — tuned for ${describeObjective(objective)}; ${ions} ions per evaluation, seed ${seed}`,
+    `${presetName} — tuned for ${objective.name}; ${ions} ions per evaluation, seed ${seed}`,
+    `figure optimised and reported: ${describeFigure(objective, measure)}`,
     `start: ${result.startSource && result.startSource.length ? result.startSource.join('; ') : 'current settings (no published condition applies to these parameters)'}`,
     '',
-    ...table(['parameter', 'start', 'tuned', 'objective within 10 % of best over'], rows, 1),
+    ...table(['parameter', 'preset', 'start', keptPreset ? 'recommended (preset)' : 'tuned', 'objective within 10 % of best over'], rows, 1),
     '',
     ...(result.feasible === false
       ? [`WARNING: no setting tried kept the transmission ≥ ${((result.minTransmission ?? 0) * 100).toFixed(1)} %; the values below only come closest to it.`]
       : []),
-    `${what}: ${fmtObjective(objective, result.startObjective ?? null)} at the start → ${fmtObjective(objective, result.objective)} tuned`,
-    `optimised on the ${result.measure ?? 'sd'} width: ${fmtObjective(objective, smooth?.start ?? null)} → ${fmtObjective(objective, smooth?.best ?? null)}; ` +
-      `${result.evaluations} evaluations; transmission kept ≥ ${((result.minTransmission ?? 0) * 100).toFixed(1)} %`,
+    `objective: ${fmtObjective(objective, result.presetObjective ?? null)} with the preset's settings, ${fmtObjective(objective, result.startObjective ?? null)} at the start, ` +
+      `${fmtObjective(objective, result.objective)} ${keptPreset ? 'recommended (the preset\'s)' : 'tuned'}`,
+    ...verdict,
+    `${result.evaluations} evaluations; transmission kept ≥ ${((result.minTransmission ?? 0) * 100).toFixed(1)} %`,
     '',
-    ...table(['species', 'm/z', 'flight time/ns', 'FWHM/ns', 'R (FWHM)', 'R (76% width)', 'transmission'], speciesRows, 1),
+    ...table(['species', 'm/z', 'transm. preset', 'start', keptPreset ? 'recommended' : 'tuned', 'flight time/ns', 'FWHM/ns', 'R (FWHM)', 'R (76% width)'], speciesRows, 1),
+    `(flight time, FWHM and R per species at the ${keptPreset ? 'recommended' : 'tuned'} setting, from the ion arrival times)`,
     '',
     HV_CAUTION,
     '',

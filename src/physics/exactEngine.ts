@@ -37,6 +37,8 @@ export interface ExactPlan {
   delay_s: number;
   /** Acceleration in the first source stage while the extraction is held (m/s²). */
   holdAcceleration: number;
+  /** Acceleration in each source stage while the extraction is held (the hold potentials; m/s²). */
+  readonly sourceHoldAcceleration: Float64Array;
   sourceStageCount: number;
   /** Axial position of each source plane: [0, z1, (z2)] (m). */
   readonly sourcePlane_m: Float64Array;
@@ -71,6 +73,7 @@ export function createExactPlan(): ExactPlan {
     sourceStageCount: 0,
     sourcePlane_m: new Float64Array(MAX_STAGES + 1),
     sourceAcceleration: new Float64Array(MAX_STAGES),
+    sourceHoldAcceleration: new Float64Array(MAX_STAGES),
     sourceExitTransmission: new Float64Array(MAX_STAGES),
     driftLength_m: 0,
     mirrorStageCount: 0,
@@ -99,6 +102,7 @@ export function prepareExactPlan(plan: ExactPlan, model: AnalyserModel, mz: numb
     const gap = src.stageLengths_m[j];
     plan.sourcePlane_m[j + 1] = plan.sourcePlane_m[j] + gap;
     plan.sourceAcceleration[j] = (k * (src.planes[j].final_V - src.planes[j + 1].final_V)) / gap;
+    plan.sourceHoldAcceleration[j] = (k * (src.planes[j].hold_V - src.planes[j + 1].hold_V)) / gap;
     plan.sourceExitTransmission[j] = src.planeTransmission[j + 1] ?? 1;
   }
   plan.holdAcceleration = (k * (src.planes[0].hold_V - src.planes[1].hold_V)) / src.stageLengths_m[0];
@@ -129,30 +133,61 @@ export function prepareExactPlan(plan: ExactPlan, model: AnalyserModel, mz: numb
 const motion = createMotion();
 
 /**
- * Hold phase of delayed extraction: the ion moves in the first stage's hold field until the delay
- * ends. Returns false (fate set) if it reaches the repeller or the next grid first.
+ * Hold phase of delayed extraction: until the delay ends the ion moves in the hold fields, stage
+ * by stage: an ion that crosses the extraction grid during the delay flies on into the next stage
+ * under that stage's hold potentials (as a solved source field does), and is extracted from wherever
+ * it is at the pulse. Returns false (fate set) if it reaches the repeller, or leaves the whole source
+ * through the ground grid before the pulse (it is then never extracted).
  */
 export function holdExact(st: IonState, plan: ExactPlan): boolean {
   return holdExactUntil(st, plan, plan.delay_s);
 }
 
-/** The hold phase up to time `until` (s since ion formation), in the static hold field. */
+/** Grid crossings allowed during the hold; only an ion resting on a grid between two fields pushing it back reaches it. */
+const MAX_HOLD_CROSSINGS = 10_000;
+
+/** The hold phase up to time `until` (s since ion formation), in the static hold fields. */
 export function holdExactUntil(st: IonState, plan: ExactPlan, until: number): boolean {
-  const duration = until - st.t;
-  if (duration <= 0) return true;
-  const side = firstExit(motion, st.z, st.v, plan.holdAcceleration, 0, plan.sourcePlane_m[1]);
-  if (side !== 0 && motion.dt <= duration) {
+  const last = plan.sourceStageCount - 1;
+  let crossings = 0;
+  let j = 0;
+  while (j < last && (st.z > plan.sourcePlane_m[j + 1] || (st.z === plan.sourcePlane_m[j + 1] && st.v > 0))) j++;
+  for (;;) {
+    const duration = until - st.t;
+    if (duration <= 0) return true;
+    const lo = plan.sourcePlane_m[j];
+    const hi = plan.sourcePlane_m[j + 1];
+    const a = plan.sourceHoldAcceleration[j];
+    const side = firstExit(motion, st.z, st.v, a, lo, hi);
+    if (side === 0 || motion.dt > duration) {
+      st.z += st.v * duration + 0.5 * a * duration * duration;
+      st.v += a * duration;
+      st.t = until;
+      return true;
+    }
     st.t += motion.dt;
-    st.z = side < 0 ? 0 : plan.sourcePlane_m[1];
     st.v = motion.v;
-    st.fate = side < 0 ? Fate.STRUCK_REPELLER : Fate.LEFT_SOURCE_DURING_DELAY;
-    return false;
+    if (++crossings > MAX_HOLD_CROSSINGS) {
+      st.fate = Fate.TIMED_OUT; // held at a grid by fields pushing from both sides: it never settles
+      return false;
+    }
+    if (side < 0) {
+      st.z = lo;
+      if (j === 0) {
+        st.fate = Fate.STRUCK_REPELLER;
+        return false;
+      }
+      j--; // back through a grid into the previous stage
+      continue;
+    }
+    st.z = hi;
+    st.w *= plan.sourceExitTransmission[j];
+    if (j === last) {
+      st.fate = Fate.LEFT_SOURCE_DURING_DELAY;
+      return false;
+    }
+    j++;
   }
-  const a = plan.holdAcceleration;
-  st.z += st.v * duration + 0.5 * a * duration * duration;
-  st.v += a * duration;
-  st.t = until;
-  return true;
 }
 
 /** From the ion's current position (any source stage, static extraction fields) through the remaining stages to the ground grid. */

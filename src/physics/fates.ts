@@ -38,7 +38,7 @@ export const FATE_DESCRIPTIONS: Record<FateKey, string> = {
   unset: 'not traced (engine defect)',
   detected: 'reached the detector',
   struckRepeller: 'moved back and struck the repeller',
-  leftSourceDuringDelay: 'left the first source stage before the extraction pulse',
+  leftSourceDuringDelay: 'left the source (through the ground grid) before the extraction pulse, so never extracted',
   passedThroughMirror: 'energy above the mirror back-plate potential: passed through the mirror',
   turnedBack: 'turned back by a retarding field before the detector',
   missedDetector: 'arrived outside the detector active area',

@@ -45,6 +45,12 @@ class RegionForce implements AxialForce {
   aHold = 0;
   aFinal = 0;
   delay_s = 0;
+  /**
+   * The crossing started before the switch, so it ends at it (nextBreakpoint_s): every evaluation,
+   * including a Runge–Kutta stage placed exactly at the switch time, takes the hold value (the left
+   * limit of a step), never the value after the step.
+   */
+  beforeSwitch = false;
   riseKind = RISE_STEP;
   riseTime_s = 1;
   /** 1/riseTime_s, so the exponential multiplies instead of dividing. */
@@ -77,7 +83,7 @@ class RegionForce implements AxialForce {
   private sourceStage(t: number): number {
     // The stage field is uniform, so only the potential difference matters: for the analytic rises
     // the acceleration itself follows the rise shape (one exponential per evaluation, not two).
-    if (t < this.delay_s && this.riseKind !== RISE_TABLE) return this.aHold;
+    if ((t < this.delay_s || this.beforeSwitch) && this.riseKind !== RISE_TABLE) return this.aHold;
     switch (this.riseKind) {
       case RISE_STEP:
         return this.aFinal;
@@ -227,6 +233,7 @@ export function crossSourceStageNumeric(
   ctx.aHold = (qOverM * (near.hold_V - far.hold_V)) / ctx.gap_m;
   ctx.aFinal = (qOverM * (near.final_V - far.final_V)) / ctx.gap_m;
   ctx.delay_s = source.delay_s;
+  ctx.beforeSwitch = st.t < source.delay_s;
   const rise = source.rise;
   ctx.riseKind = rise.kind === 'step' ? RISE_STEP : rise.kind === 'linear' ? RISE_LINEAR : rise.kind === 'exponential' ? RISE_EXPONENTIAL : RISE_TABLE;
   ctx.riseTime_s = rise.kind === 'linear' ? rise.riseTime_s : rise.kind === 'exponential' ? rise.timeConstant_s : 1;

@@ -55,11 +55,12 @@ function sourceNumeric(st: IonState, plan: ExactPlan, model: AnalyserModel): boo
       continue; // a jump or kink of the waveform: restart the integration there
     }
     if (exit === Exit.HIGH) {
-      if (j === 0 && st.t < src.delay_s) {
+      st.w *= plan.sourceExitTransmission[j];
+      // Through the ground grid before the pulse: never extracted (as in holdExactUntil).
+      if (j === plan.sourceStageCount - 1 && st.t < src.delay_s) {
         st.fate = Fate.LEFT_SOURCE_DURING_DELAY;
         return false;
       }
-      st.w *= plan.sourceExitTransmission[j];
       j++;
       continue;
     }

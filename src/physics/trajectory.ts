@@ -76,6 +76,8 @@ function push(tr: Trajectory, region: RegionCode, stage: number, t0: number, dt:
 }
 
 const motion = createMotion();
+/** Hold-phase grid crossings drawn before the path is given up (an ion pinned at a grid; see exactEngine). */
+const MAX_DRAWN_HOLD_CROSSINGS = 10_000;
 
 /**
  * Fill `tr` with the path of an ion of the plan's m/z starting at z0 (m from the repeller) with
@@ -99,20 +101,33 @@ export function traceTrajectory(tr: Trajectory, plan: ExactPlan, z0: number, v0:
     return tr;
   };
 
-  // Hold phase of delayed extraction (exactEngine.holdExact).
+  // Hold phase of delayed extraction, stage by stage in the hold fields (exactEngine.holdExactUntil).
   if (plan.delay_s > 0) {
-    const a = plan.holdAcceleration;
-    const side = firstExit(motion, z, v, a, 0, plan.sourcePlane_m[1]);
-    if (side !== 0 && motion.dt <= plan.delay_s) {
-      push(tr, Region.HOLD, 0, t, motion.dt, z, v, a);
+    const last = plan.sourceStageCount - 1;
+    let j = 0;
+    for (let crossing = 0; ; crossing++) {
+      const duration = plan.delay_s - t;
+      if (duration <= 0) break;
+      const lo = plan.sourcePlane_m[j];
+      const hi = plan.sourcePlane_m[j + 1];
+      const a = plan.sourceHoldAcceleration[j];
+      const side = firstExit(motion, z, v, a, lo, hi);
+      if (side === 0 || motion.dt > duration) {
+        push(tr, Region.HOLD, j, t, duration, z, v, a);
+        z += v * duration + 0.5 * a * duration * duration;
+        v += a * duration;
+        t = plan.delay_s;
+        break;
+      }
+      if (crossing >= MAX_DRAWN_HOLD_CROSSINGS) return finish(Fate.TIMED_OUT);
+      push(tr, Region.HOLD, j, t, motion.dt, z, v, a);
       t += motion.dt;
-      return finish(side < 0 ? Fate.STRUCK_REPELLER : Fate.LEFT_SOURCE_DURING_DELAY);
+      v = motion.v;
+      z = side < 0 ? lo : hi;
+      if (side < 0 && j === 0) return finish(Fate.STRUCK_REPELLER);
+      if (side > 0 && j === last) return finish(Fate.LEFT_SOURCE_DURING_DELAY);
+      j += side;
     }
-    const dt = plan.delay_s;
-    push(tr, Region.HOLD, 0, t, dt, z, v, a);
-    z += v * dt + 0.5 * a * dt * dt;
-    v += a * dt;
-    t += dt;
   }
 
   // Source stages (exactEngine.extractExact).

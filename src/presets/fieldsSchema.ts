@@ -13,6 +13,7 @@
  * field-free drift region continues there).
  */
 import { z } from 'zod';
+import { rangeMessage } from './rangeWords';
 
 /** Allowed ranges of the solved-field keys. */
 export const FIELD_LIMITS = {
@@ -29,7 +30,7 @@ export const FIELD_LIMITS = {
 type Range = { readonly min: number; readonly max: number };
 
 function ranged(range: Range, unit: string) {
-  const text = `must be a number ≥ ${range.min} and ≤ ${range.max} ${unit}`;
+  const text = rangeMessage(range, unit);
   return z.number({ error: text }).gte(range.min, { error: text }).lte(range.max, { error: text });
 }
 
@@ -54,7 +55,7 @@ export const solvedMirrorSchema = z.strictObject({
   rings: z.strictObject({
     count: z
       .number()
-      .int({ error: `must be an integer from ${FIELD_LIMITS.ringCount.min} to ${FIELD_LIMITS.ringCount.max}` })
+      .int({ error: rangeMessage({ ...FIELD_LIMITS.ringCount, integer: true }, '') })
       .gte(FIELD_LIMITS.ringCount.min)
       .lte(FIELD_LIMITS.ringCount.max),
     /** From the entrance electrode's downstream face to ring 0's upstream face. */

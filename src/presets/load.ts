@@ -8,6 +8,7 @@ import { jsonPath, type PresetIssue, type PresetResult } from './issues';
 import { migratePreset } from './migrate';
 import { presetSchema, type Preset } from './schema';
 import { fillChemistryMz } from './speciesChemistry';
+import { stripByteOrderMark } from './textInput';
 
 /** Allowed values of the discriminating keys, for messages. */
 const DISCRIMINATOR_VALUES: Record<string, string> = {
@@ -26,7 +27,7 @@ export function parsePresetText(text: string): PresetResult<Preset> {
   }
   let doc: unknown;
   try {
-    doc = JSON.parse(text);
+    doc = JSON.parse(stripByteOrderMark(text));
   } catch (err) {
     return { ok: false, issues: [{ path: '(file)', message: `is not valid JSON: ${(err as Error).message}` }] };
   }

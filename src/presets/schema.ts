@@ -5,6 +5,7 @@
  * are refused instead of being merged into application state.
  */
 import { z } from 'zod';
+import { rangeMessage } from './rangeWords';
 import { solvedMirrorSchema, solvedSourceSchema } from './fieldsSchema';
 import { tolerancesSchema } from './toleranceSchema';
 
@@ -50,14 +51,13 @@ type Range = { min: number; max: number };
 
 /** A finite number inside [min, max] (or (min, max] when `exclusiveMin`), with a message that states the range and unit. */
 function ranged(range: Range, unit: string, exclusiveMin = false) {
-  const lo = exclusiveMin ? `> ${range.min}` : `≥ ${range.min}`;
-  const text = `must be a number ${lo} and ≤ ${range.max}${unit ? ' ' + unit : ''}`;
+  const text = rangeMessage({ ...range, exclusiveMin }, unit);
   const base = z.number({ error: text }); // zod 4 numbers refuse NaN and ±Infinity
   return (exclusiveMin ? base.gt(range.min, { error: text }) : base.gte(range.min, { error: text })).lte(range.max, { error: text });
 }
 
 function rangedInt(range: Range, what: string) {
-  const text = `must be an integer from ${range.min} to ${range.max}${what ? ' ' + what : ''}`;
+  const text = rangeMessage({ ...range, integer: true }, what);
   return z.number({ error: text }).int({ error: text }).gte(range.min, { error: text }).lte(range.max, { error: text });
 }
 

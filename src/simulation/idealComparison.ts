@@ -6,6 +6,7 @@
 import { idealGridEquivalent } from '../presets/compileFields';
 import type { Preset } from '../presets/schema';
 import type { RunReport } from './report';
+import { pulseReach, pulseReachNote } from './pulseReach';
 import { simulate, type RunOptions } from './run';
 
 export const IDEAL_EQUIVALENT_DEFINITION =
@@ -30,6 +31,8 @@ export interface IdealComparison {
   readonly ideal: ComparedSpecies[];
   /** Per species: solved − ideal flight time (ns), null when either has no detected ion. */
   readonly flightTimeShift_ns: (number | null)[];
+  /** Known physical reasons the two differ for this setup (see ./pulseReach), in words. */
+  readonly notes: string[];
 }
 
 function summary(report: RunReport): ComparedSpecies[] {
@@ -46,7 +49,9 @@ function summary(report: RunReport): ComparedSpecies[] {
 /** Runs the ideal-grid equivalent of `preset` with the same options and compares it with `solvedReport`. */
 export function compareWithIdeal(preset: Preset, solvedReport: RunReport, options: RunOptions): IdealComparison {
   const hasSolvedRegion = preset.mirror.type === 'solved' || preset.source.solved !== undefined;
-  const ideal = hasSolvedRegion ? simulate(idealGridEquivalent(preset), { ...options, withSpectrum: false }).report : solvedReport;
+  const idealPreset = hasSolvedRegion ? idealGridEquivalent(preset) : preset;
+  const ideal = hasSolvedRegion ? simulate(idealPreset, { ...options, withSpectrum: false }).report : solvedReport;
+  const reachNote = preset.source.solved !== undefined ? pulseReachNote(pulseReach(idealPreset, options)) : null;
   const solved = summary(solvedReport);
   const idealSummary = summary(ideal);
   return {
@@ -58,6 +63,7 @@ export function compareWithIdeal(preset: Preset, solvedReport: RunReport, option
       const t = idealSummary[k]?.flightTime_ns ?? null;
       return s.flightTime_ns === null || t === null ? null : s.flightTime_ns - t;
     }),
+    notes: reachNote ? [reachNote] : [],
   };
 }
 
@@ -80,5 +86,6 @@ export function formatIdealComparison(c: IdealComparison): string {
     }
     lines.push(`  ${''.padEnd(26)}  shift   ${cell(c.flightTimeShift_ns[k], 2).padStart(17)}`);
   });
+  for (const note of c.notes) lines.push(`  why they differ: ${note}`);
   return lines.join('\n') + '\n';
 }

@@ -1,5 +1,6 @@
 /** Turns a simulation result into the engine service's `RunOutput` (shared by the worker and in-process callers). */
 import type { RunOutput, RunRequest } from '../tuning/api';
+import { pulseReach } from './pulseReach';
 import { simulate } from './run';
 import { speciesIonStart } from './report';
 
@@ -13,6 +14,7 @@ export function runRequest(request: RunRequest, now: () => number = () => perfor
     // Per reported species (a species' isotope peaks together), matching report.species.
     speciesStart: speciesIonStart(result.ensemble),
     elapsed_ms: now() - start,
+    ...(request.pulseReach ? { pulseReach: pulseReach(request.preset, { ions: request.ions, seed: request.seed }) } : {}),
   };
 }
 

@@ -13,6 +13,8 @@ export interface RunRequest {
   readonly seed?: number;
   /** Build the spectrum, peak, calibration and focus sections (default true); off for quick previews. */
   readonly analysis?: boolean;
+  /** Also count the ions that cross the extraction grid during the delay (src/simulation/pulseReach.ts). */
+  readonly pulseReach?: boolean;
 }
 
 export interface RunOutput {
@@ -24,6 +26,8 @@ export interface RunOutput {
   readonly speciesStart: Int32Array;
   /** Wall-clock time the run took inside the engine (ms), for the app's status line. */
   readonly elapsed_ms: number;
+  /** When asked for (RunRequest.pulseReach): ions in the source at the pulse, and those past its first stage. */
+  readonly pulseReach?: { readonly inSource: number; readonly pastFirstStage: number };
 }
 
 /** One scanned parameter, addressed by its dotted path in the preset (e.g. `source.extraction.delay_ns`). */
@@ -123,11 +127,15 @@ export interface TuneRequest {
   readonly maxEvaluations?: number;
   /** Start from the published focusing conditions where they apply (default true); false starts from the preset's values. */
   readonly useAnalyticStart?: boolean;
+  /** Return the search's best even when the preset's own settings score better (default false: keep the preset's). */
+  readonly allowWorse?: boolean;
 }
 
 export interface TuneResult {
   readonly start: readonly number[];
+  /** The recommended values: the search's best, or the preset's own when they score better (see `recommendation`). */
   readonly best: readonly number[];
+  /** The objective's own figure (the one the optimiser minimised, by `measure`) at `best`. */
   readonly objective: number | null;
   /** For each parameter, the interval over which the objective stays within 10 % of the best. */
   readonly flatness: readonly { readonly path: string; readonly low: number; readonly high: number }[];
@@ -138,14 +146,25 @@ export interface TuneResult {
   readonly startObjective?: number | null;
   readonly startSource?: readonly string[];
   readonly measure?: WidthMeasure;
-  /** The objective by `measure` (what the optimiser worked on), at the start and at the optimum; null where infeasible. */
-  readonly smoothObjective?: { readonly start: number | null; readonly best: number | null };
   /** False when no evaluated setting met the constraints (the values shown then only reduce the violation). */
   readonly feasible?: boolean;
   /** Transmission constraint the tune respected (given, or the default). */
   readonly minTransmission?: number;
-  /** Per-species figures at the optimum. */
+  /** Per-species figures at the recommended setting. */
   readonly species?: readonly ScanSpeciesPoint[];
+  /** The preset's own values of the tuned parameters, the objective's figure and the per-species figures there. */
+  readonly presetValues?: readonly number[];
+  readonly presetObjective?: number | null;
+  readonly presetSpecies?: readonly ScanSpeciesPoint[];
+  /** Per-species figures at the start. */
+  readonly startSpecies?: readonly ScanSpeciesPoint[];
+  /** 'preset' when the preset's own settings scored at least as well as anything found and were kept. */
+  readonly recommendation?: 'tuned' | 'preset';
+  /** The search's best values and figure (the same as best and objective unless the preset was kept). */
+  readonly searchBest?: readonly number[];
+  readonly searchObjective?: number | null;
+  /** True when `allowWorse` was asked and the result scores worse than the preset's own settings. */
+  readonly worseThanPreset?: boolean;
 }
 
 export interface Progress {

@@ -54,17 +54,7 @@ export function scanDocument(preset: Preset, result: ScanResult): ScanDocument {
   };
 }
 
-/** Check the shape of a parsed document; `label` names the file in messages. */
-export function checkScanDocument(doc: unknown, label: string): ScanDocument {
-  const d = doc as Partial<ScanDocument> | null;
-  if (typeof d !== 'object' || d === null || d.format !== SCAN_FORMAT) throw new TuningInputError(label, `is not a scan file (no "format": "${SCAN_FORMAT}"); write one with --scan ... --json or --write`);
-  if (d.version !== SCAN_FORMAT_VERSION) throw new TuningInputError(label, `has scan format version ${String(d.version)}; this tool reads version ${SCAN_FORMAT_VERSION}`);
-  if (!Array.isArray(d.points) || !Array.isArray(d.axes) || !Number.isInteger(d.totalPoints)) throw new TuningInputError(label, 'is damaged: points, axes or totalPoints missing');
-  for (const p of d.points) {
-    if (!Number.isInteger(p?.index) || p.index < 0 || p.index >= (d.totalPoints as number)) throw new TuningInputError(label, `is damaged: point index ${String(p?.index)} outside 0..${(d.totalPoints as number) - 1}`);
-  }
-  return d as ScanDocument;
-}
+/** A parsed document is validated before merging by ./mergeValidation (validateScanText). */
 
 const sameScan = (a: ScanDocument, b: ScanDocument): string | null => {
   if (a.presetDigest !== b.presetDigest) return 'a different preset';

@@ -3,9 +3,11 @@
  * (./analyticStarts). In 1-D a coarse grid over the bounds finds the basins, and golden-section
  * searches refine the best few in parallel; in n-D bounded Nelder–Mead runs from the analytic start
  * and from a fixed number of Halton-spread restarts in parallel, then once more from the best with a
- * small simplex. The optimiser minimises a smooth width (see WidthMeasure); the objective is reported
- * with the histogram FWHM at the optimum, and the flatness interval is where the smooth R stays
- * within 10 % of its best. The number of starts does not depend on the pool size, so neither does the result.
+ * small simplex; the preset's own settings are searched from as well. The optimiser minimises the
+ * objective's cost (by default on a smooth width, see WidthMeasure), and the same figure is reported
+ * at the preset's settings, at the start and at the result (./tuneVerdict); a result that scores
+ * worse than the preset is not recommended unless `allowWorse` asks for it. The flatness interval is
+ * where that figure stays within 10 % of its best. The number of starts does not depend on the pool size, so neither does the result.
  */
 import type { Progress, TuneParameter, TuneRequest, TuneResult } from './api';
 import { analyticStart } from './analyticStarts';
@@ -14,6 +16,7 @@ import { costQuality, INFEASIBLE_COST, resolveObjective, REQUEST_LABELS, type Ob
 import { haltonPoint } from './optimiser';
 import { withValues } from './paramPath';
 import { formatIssues } from '../presets/issues';
+import { chooseRecommendation, figureOfCost } from './tuneVerdict';
 import { runInOrder, type TaskPool } from './pool';
 import { checkIons, checkMeasure, checkSeed } from './requestChecks';
 import { checkPath, checkValue } from './scanPlan';
@@ -121,13 +124,16 @@ export async function optimiseWith(pool: TaskPool, request: TuneRequest, onProgr
     request.useAnalyticStart === false
       ? { values: parameters.map((p, i) => clampTo(p, checked.current[i])), sources: [] }
       : analyticStart(preset, parameters, request.objective, checked.current);
+  // The preset's own settings (inside the bounds) are searched from too, unless they are the start.
+  const own = parameters.map((p, i) => clampTo(p, checked.current[i]));
+  const ownStart = own.some((x, i) => x !== start.values[i]) ? [own] : [];
   let best: SearchTaskResult;
 
   if (n === 1) {
     // Coarse grid (plus the analytic start) to find the basins; golden section inside the best few.
     const p = parameters[0];
     const grid = Array.from({ length: GRID_INTERVALS + 1 }, (_, i) => (i === GRID_INTERVALS ? p.max : p.min + ((p.max - p.min) * i) / GRID_INTERVALS));
-    const xs = [...new Set([...grid, start.values[0]])].sort((a, b) => a - b);
+    const xs = [...new Set([...grid, start.values[0], ...ownStart.map((o) => o[0])])].sort((a, b) => a - b);
     report('coarse grid', 0, xs.length);
     const gridResults = await runInOrder(
       lanes,
@@ -159,7 +165,7 @@ export async function optimiseWith(pool: TaskPool, request: TuneRequest, onProgr
       if (r.cost < best.cost) best = r;
     }
   } else {
-    const starts = [start.values, ...Array.from({ length: restarts }, (_, k) => haltonPoint(k, n).map((u, i) => lower[i] + u * (upper[i] - lower[i])))];
+    const starts = [start.values, ...ownStart, ...Array.from({ length: restarts }, (_, k) => haltonPoint(k, n).map((u, i) => lower[i] + u * (upper[i] - lower[i])))];
     const searches: SearchTask[] = starts.map((s) => ({
       ...context,
       method: 'nelder-mead',
@@ -191,44 +197,61 @@ export async function optimiseWith(pool: TaskPool, request: TuneRequest, onProgr
       if (!improved) break;
     }
   }
-  const bestX = best.x.map((x, i) => clampTo(parameters[i], x));
-  const tuned = withValues(preset, paths, bestX);
+  const searchX = best.x.map((x, i) => clampTo(parameters[i], x));
+
+  // The objective's own figure and the per-species figures at the preset's settings, at the start and
+  // at the search's best, computed on a lane like every other evaluation (in a browser, never on the
+  // page's thread). The recommendation is the best of the search unless the preset scores better.
+  const [final] = await runInOrder(
+    lanes,
+    [{ ...context, points: [{ index: 0, values: checked.current }, { index: 1, values: start.values }, { index: 2, values: searchX }] }],
+    (lane, task) => lane.evaluatePoints(task),
+  );
+  evaluations += 3;
+  const [atPreset, atStart, atSearch] = final.points;
+  const [presetCost, startCost, searchCost] = final.costs;
+  const verdict = chooseRecommendation(presetCost, searchCost, request.allowWorse);
+  const bestX = verdict.keepPreset ? [...checked.current] : searchX;
+  const bestCost = verdict.keepPreset ? presetCost : searchCost;
+  const tuned = verdict.keepPreset ? ({ ok: true, value: preset } as const) : withValues(preset, paths, bestX);
   if (!tuned.ok) {
     // Only possible when no combination tried inside the bounds gave a valid preset (rules tying two tuned values together).
     throw new TuningInputError(labelsFor(parameters), `no combination of values tried inside the bounds gives a valid preset: ${formatIssues(tuned.issues).replace(/\n/g, '; ')}`);
   }
 
-  // Flatness: both edges of every parameter, in parallel.
-  const threshold = FLATNESS_FRACTION * costQuality(checked.objective, best.cost);
+  // Flatness around the recommended setting: both edges of every parameter, in parallel.
+  const threshold = FLATNESS_FRACTION * costQuality(checked.objective, bestCost);
+  // A kept preset may lie outside the bounds: its interval is then searched in the bounds extended past
+  // it by their own width on that side (values that give no valid preset count as outside the interval).
+  const flatLower = lower.map((x, k) => (bestX[k] < x ? bestX[k] - (upper[k] - x) : x));
+  const flatUpper = upper.map((x, k) => (bestX[k] > x ? bestX[k] + (x - lower[k]) : x));
   const edges: FlatnessTask[] = [];
-  for (let k = 0; k < n; k++) for (const direction of [-1, 1] as const) edges.push({ ...context, lower, upper, best: bestX, parameter: k, direction, threshold });
+  for (let k = 0; k < n; k++) for (const direction of [-1, 1] as const) edges.push({ ...context, lower: flatLower, upper: flatUpper, best: bestX, parameter: k, direction, threshold });
   const edgeResults = await runInOrder(lanes, edges, (lane, task) => lane.flatnessEdge(task), (d, t) => report('flatness interval', d, t));
   for (const e of edgeResults) evaluations += e.evaluations;
 
-  // The reported objective at the start and at the optimum (histogram FWHM, as the run report gives it),
-  // computed on a lane like every other evaluation (in a browser, never on the page's thread).
-  const [final] = await runInOrder(
-    lanes,
-    [{ ...context, points: [{ index: 0, values: start.values }, { index: 1, values: bestX }] }],
-    (lane, task) => lane.evaluatePoints(task),
-  );
-  evaluations += 2;
-  const [atStart, atBest] = final.points;
-  const smooth = (cost: number): number | null => (cost < INFEASIBLE_COST ? (checked.objective.maximise ? -cost : cost) : null);
+  const figure = (cost: number): number | null => figureOfCost(checked.objective, cost);
   report('done', 1, 1);
   return {
     start: start.values,
     best: bestX,
-    objective: atBest.objective,
+    objective: figure(bestCost),
     flatness: parameters.map((p, k) => ({ path: p.path, low: edgeResults[2 * k].edge, high: edgeResults[2 * k + 1].edge })),
     evaluations,
     tunedPreset: tuned.value,
-    startObjective: atStart.objective,
+    startObjective: figure(startCost),
     startSource: start.sources,
     measure,
-    smoothObjective: { start: smooth(final.costs[0]), best: smooth(final.costs[1]) },
-    feasible: final.costs[1] < INFEASIBLE_COST,
+    feasible: bestCost < INFEASIBLE_COST,
     minTransmission,
-    species: atBest.species,
+    species: verdict.keepPreset ? atPreset.species : atSearch.species,
+    presetValues: [...checked.current],
+    presetObjective: figure(presetCost),
+    presetSpecies: atPreset.species,
+    startSpecies: atStart.species,
+    recommendation: verdict.keepPreset ? 'preset' : 'tuned',
+    searchBest: searchX,
+    searchObjective: figure(searchCost),
+    worseThanPreset: verdict.worseThanPreset,
   };
 }

@@ -36,6 +36,7 @@ import { buildLayout } from './scene/layout';
 import { createDrawnIons, traceDrawnIons } from './scene/paths';
 import { IdbPresetStore } from './storage/idbPresetStore';
 import type { WorkingSnapshot } from './storage/presetStore';
+import { ReplacedSetupKeeper, replacingNeedsConsent } from './storage/replacedSetup';
 import { TuningView } from './tuning/tuningView';
 import { MeasuredView } from './measured/measuredView';
 import { ToleranceView } from './tolerance/toleranceView';
@@ -257,7 +258,17 @@ export async function startApp(): Promise<void> {
   };
 
   // ---- loading setups -------------------------------------------------------------------------
+  // Every load after start-up keeps the setup it replaces (one level of undo, stored beside the autosave).
+  const keeper = new ReplacedSetupKeeper(store);
+  const undoButton = byId<HTMLButtonElement>('btn-undo-load');
+  keeper.onAvailable = (available) => (undoButton.hidden = !available);
+  let started = false;
+  const snapshotOfWorking = (): WorkingSnapshot => ({ preset: working, recordId, dirty: isDirty(), baseline, savedAt: Date.now() });
   const loadSetup = (preset: Preset, origin: LoadOrigin): void => {
+    if (started) void keeper.remember(snapshotOfWorking(), preset);
+    applySetup(preset, origin);
+  };
+  const applySetup = (preset: Preset, origin: LoadOrigin): void => {
     working = preset;
     recordId = origin.recordId;
     if (origin.state === 'clean') baseline = JSON.stringify(preset);
@@ -412,21 +423,58 @@ export async function startApp(): Promise<void> {
     }
   }
 
+  const undoLoad = async (): Promise<void> => {
+    const kept = await keeper.swap(snapshotOfWorking());
+    if (!kept) {
+      toast('No replaced setup is kept.');
+      return;
+    }
+    baseline = kept.baseline;
+    applySetup(kept.preset, { recordId: kept.recordId, state: 'dirty' });
+    toast(`Restored “${kept.preset.name}”, the setup the last load replaced (“Undo load” again swaps back).`, undefined, 8000);
+  };
+  undoButton.addEventListener('click', () => void undoLoad());
+  const askToReplace = (): Promise<boolean> =>
+    confirmDialog('Open the shared setup?', 'Your working setup has changes that are not saved as a preset. Opening the link replaces it; “Undo load” brings it back.', 'Open shared setup');
+  const openShared = (preset: Preset): void => {
+    loadSetup(preset, { recordId: null, state: 'dirty' });
+    baseline = ''; // a shared setup is unsaved work until saved as a preset
+    refreshHeader();
+    toast(`Opened the shared setup “${preset.name}”.`, { label: 'Undo', run: () => void undoLoad() }, 8000);
+  };
+  // A link opened in a tab that already runs the app changes only the fragment.
+  window.addEventListener('hashchange', () => {
+    const token = shareTokenFromHash(location.hash);
+    if (token === null) return;
+    history.replaceState(null, '', location.pathname + location.search);
+    void decodeShareToken(token).then(async (shared) => {
+      if (!shared.ok) return showLoadProblems('The shared link was not loaded', shared.issues);
+      if (replacingNeedsConsent(snapshotOfWorking(), shared.value) && !(await askToReplace())) {
+        toast('The shared setup was not opened; your working setup is unchanged.');
+        return;
+      }
+      openShared(shared.value);
+    });
+  });
+
   // ---- first setup: a shared link, else the autosaved one, else the demo ------------------------
   const token = shareTokenFromHash(location.hash);
+  const snapshot = store ? await store.loadWorking().catch(() => undefined) : undefined;
+  await keeper.init();
   let first: { preset: Preset; origin: LoadOrigin; baselineText?: string } | null = null;
   if (token !== null) {
     const shared = await decodeShareToken(token);
     history.replaceState(null, '', location.pathname + location.search);
-    if (shared.ok) first = { preset: shared.value, origin: { recordId: null, state: 'dirty' }, baselineText: '' };
-    else showLoadProblems('The shared link was not loaded', shared.issues);
+    if (!shared.ok) showLoadProblems('The shared link was not loaded', shared.issues);
+    else if (!replacingNeedsConsent(snapshot, shared.value) || (await askToReplace())) {
+      if (snapshot) await keeper.remember(snapshot, shared.value);
+      first = { preset: shared.value, origin: { recordId: null, state: 'dirty' }, baselineText: '' };
+    } else toast('The shared setup was not opened; your working setup is unchanged.');
   }
-  if (!first && store) {
-    const snapshot = await store.loadWorking().catch(() => undefined);
-    if (snapshot) first = { preset: snapshot.preset, origin: { recordId: snapshot.recordId, state: 'dirty' }, baselineText: snapshot.baseline };
-  }
+  if (!first && snapshot) first = { preset: snapshot.preset, origin: { recordId: snapshot.recordId, state: 'dirty' }, baselineText: snapshot.baseline };
   if (first) {
     baseline = first.baselineText ?? JSON.stringify(first.preset);
     loadSetup(first.preset, first.origin);
   } else loadSetup(working, { recordId: null, state: 'clean' });
+  started = true;
 }

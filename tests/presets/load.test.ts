@@ -82,3 +82,16 @@ describe('format versions and migration', () => {
     expect(migratePreset({ formatVersion: 1 }, {}, 3).ok).toBe(false); // a gap in the chain is an error
   });
 });
+
+describe('a UTF-8 byte-order mark', () => {
+  it('is stripped before parsing: a preset saved with one loads as without it', () => {
+    const text = readFileSync(new URL('demo-linear-delayed.json', presetDir), 'utf8');
+    const plain = parsePresetText(text);
+    const marked = parsePresetText('\uFEFF' + text);
+    expect(marked).toEqual(plain);
+    expect(marked.ok).toBe(true);
+    // Only a leading mark is stripped; one inside the text stays part of it (here: not JSON).
+    const inside = parsePresetText(text.replace('{', '{\uFEFF'));
+    expect(inside.ok).toBe(false);
+  });
+});

@@ -77,6 +77,14 @@ describe('scan subcommand', () => {
     const twice = await h.run(['merge', 's1.json', 's1.json']);
     expect(twice.err).toMatch(/s1\.json: repeats point 0/);
   });
+
+  it('a shard that holds no points runs, warns on stderr, and still merges', async () => {
+    const h = harness();
+    const empty = await h.run([DEMO, ...SCAN, '--shard', '5/5', '--write', 'e5.json']);
+    expect(empty.code).toBe(0);
+    expect(empty.err).toBe("warning: --shard 5/5: this share holds none of the scan's 4 points (at most 4 shards hold points); its output lists no points\n");
+    expect(JSON.parse(h.written.get('e5.json')!).points).toEqual([]);
+  });
 });
 
 describe('tune subcommand', () => {
@@ -86,8 +94,11 @@ describe('tune subcommand', () => {
     const h = harness();
     const r = await h.run([DEMO, ...TUNE, '--write', 'tuned.json']);
     expect(r.code).toBe(0);
-    expect(r.out).toMatch(/source\.extraction\.delay_ns\s+[\d.]+\s+[\d.]+\s+[\d.]+ … [\d.]+/);
+    // parameter, preset, start, tuned, flatness interval
+    expect(r.out).toMatch(/source\.extraction\.delay_ns\s+228\s+[\d.]+\s+[\d.]+\s+[\d.]+ … [\d.]+/);
     expect(r.out).toContain('time-lag focus');
+    expect(r.out).toMatch(/objective: \d+ with the preset's settings, \d+ at the start, \d+ tuned/);
+    expect(r.out).toContain('figure optimised and reported: R = t/(2·width) at m/z 1296.6848, width = 2.355 × standard deviation');
     const tuned = parsePresetText(h.written.get('tuned.json')!);
     expect(tuned.ok).toBe(true);
     const json = JSON.parse((await h.run([DEMO, ...TUNE, '--json'])).out);
@@ -106,6 +117,22 @@ describe('tune subcommand', () => {
     const input = await h.run([DEMO, ...TUNE, '--write', DEMO]);
     expect(input.err).toContain('is the input preset; it is not overwritten');
     expect((await h.run([DEMO, ...TUNE, '--write', 'tuned.json', '--force'])).code).toBe(0);
+  });
+
+  it("keeps the preset's own settings when the bounds hold nothing better, and says so; --allow-worse gives the search's best with a warning", async () => {
+    const h = harness();
+    const narrow = ['--tune', 'source.extraction.delay_ns=100:150', '--target-mz', '1296.6848', '--ions', '600'];
+    const kept = await h.run([DEMO, ...narrow, '--write', 'kept.json']);
+    expect(kept.code).toBe(0);
+    expect(kept.out).toMatch(/recommendation: keep the preset's own settings: no setting found scores better \(preset (\d+), best found (\d+) at [\d.]+\)/);
+    expect(kept.out).toContain("saved: kept.json (the preset's own values)");
+    expect(JSON.parse(h.written.get('kept.json')!)).toEqual(JSON.parse(readFileSync(DEMO, 'utf8')));
+    const worse = await h.run([DEMO, ...narrow, '--allow-worse', '--json']);
+    const doc = JSON.parse(worse.out);
+    expect(doc).toMatchObject({ recommendation: 'tuned', worseThanPreset: true, presetValues: [228] });
+    expect(doc.objective).toBeLessThan(doc.presetObjective);
+    const table = await h.run([DEMO, ...narrow, '--allow-worse']);
+    expect(table.out).toMatch(/WARNING: as asked \(--allow-worse\), the tuned setting is shown although it scores worse than the preset's own settings/);
   });
 
   it('bad input names the flag', async () => {

@@ -5,6 +5,7 @@
 import uPlot from 'uplot';
 import { Fate } from '../../physics/fates';
 import { idealGridEquivalent } from '../../presets/compileFields';
+import { pulseReachNote } from '../../simulation/pulseReach';
 import type { Preset } from '../../presets/schema';
 import type { RunOutput } from '../../tuning/api';
 import type { AppContext } from '../appContext';
@@ -86,10 +87,13 @@ export class CompareView {
     try {
       const ions = Math.min(COMPARE_IONS, a.run.ions);
       const runA = await this.app.engine.run({ preset: a, ions, seed: a.run.seed });
-      const runB = await this.app.engine.run({ preset: b, ions, seed: a.run.seed });
+      const idealOfA = (this.select.value || 'other-mode') === 'ideal-grids';
+      const runB = await this.app.engine.run({ preset: b, ions, seed: a.run.seed, pulseReach: idealOfA });
       if (generation !== this.generation) return;
       this.render(a, runA, b, runB);
-      this.status.textContent = `${ions.toLocaleString('en')} ions each, same seed.`;
+      // Why solved fields and their ideal grids can disagree, when it applies (the same note as --compare-ideal).
+      const note = idealOfA && runB.pulseReach ? pulseReachNote(runB.pulseReach) : null;
+      this.status.textContent = `${ions.toLocaleString('en')} ions each, same seed.${note ? ` Why they differ: ${note}` : ''}`;
       document.body.dataset.compare = 'done';
     } catch (err) {
       if (generation !== this.generation) return;

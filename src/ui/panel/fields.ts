@@ -6,6 +6,8 @@
  */
 import { FIELD_LIMITS } from '../../presets/fieldsSchema';
 import { LIMITS } from '../../presets/schema';
+import { numberBoundsAt } from '../../presets/pathBounds';
+import { boundsWords } from '../../presets/rangeWords';
 import { resolveChemistry } from '../../presets/speciesChemistry';
 import { demo } from '../presets/demos';
 import { deleteAt, getAt, setAt } from './presetPath';
@@ -45,6 +47,8 @@ export interface NumberField extends FieldBase {
   readonly window?: readonly [number, number];
   readonly get: (doc: unknown) => number;
   readonly set: (doc: unknown, value: number) => void;
+  /** The allowed range for `doc` in the validator's own words (read from it, see src/presets/pathBounds.ts). */
+  readonly hint: (doc: unknown) => string;
 }
 
 export interface ChoiceField extends FieldBase {
@@ -102,7 +106,14 @@ function numberAt(
     visible,
     get: (doc) => num(doc, path, fallback ? fallback(doc) : 0),
     set: (doc, value) => setAt(doc, path, value),
+    hint: (doc) => allowedHint(path, label, limits, doc),
   };
+}
+
+/** "allowed: > 1 and ≤ 50000 (mm)": the bounds the validator enforces at `path` (the field's limits if it reports none). */
+export function allowedHint(path: string, label: string, limits: { readonly min: number; readonly max: number }, doc?: unknown): string {
+  const unit = /\(([^)]*)\)\s*$/.exec(label)?.[1];
+  return `allowed: ${boundsWords(numberBoundsAt(path, doc) ?? limits)}${unit ? ` (${unit})` : ''}`;
 }
 
 /** Switch a sub-object between modes, keeping the one switched away from. */

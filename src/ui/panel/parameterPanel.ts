@@ -79,7 +79,7 @@ export class ParameterPanel {
     if (field.kind === 'number') {
       const c = controller as NumberController;
       c.step(field.step);
-      c.domElement.title = `allowed ${field.limits.min} … ${field.limits.max}`;
+      c.domElement.title = field.hint(this.draftDoc);
       // Typing applies when the value is committed (Enter or leaving the field); dragging runs live.
       c.onChange((v: number) => {
         if (document.activeElement !== c.$input) this.edit(field, v, 'live');
@@ -142,6 +142,7 @@ export class ParameterPanel {
         }
       }
       controller.show(field.visible ? field.visible(this.draftDoc) : true);
+      if (field.kind === 'number') controller.domElement.title = (field as NumberField).hint(this.draftDoc); // bounds can follow a mode switch
       controller.updateDisplay();
     }
   }

@@ -11,6 +11,8 @@ import { cleanName, copyName, type PresetListing, type PresetRecord, type Preset
 export const DB_NAME = 'tof-flight-bench';
 const DB_VERSION = 1;
 const WORKING_KEY = 'working';
+/** The setup a load replaced, kept so that the load can be undone (also after a reload). */
+const REPLACED_KEY = 'replaced';
 
 interface StoredRecord {
   id: string;
@@ -124,7 +126,20 @@ export class IdbPresetStore implements PresetStore, SessionStore {
   }
 
   async loadWorking(): Promise<WorkingSnapshot | undefined> {
-    const stored = (await this.db.get('session', WORKING_KEY)) as Partial<WorkingSnapshot> | undefined;
+    return this.readSnapshot(WORKING_KEY);
+  }
+
+  async loadReplaced(): Promise<WorkingSnapshot | undefined> {
+    return this.readSnapshot(REPLACED_KEY);
+  }
+
+  async saveReplaced(snapshot: WorkingSnapshot): Promise<void> {
+    await this.db.put('session', { ...snapshot, preset: structuredClone(snapshot.preset) }, REPLACED_KEY);
+  }
+
+  /** A stored snapshot, validated again (never trusted into app state). */
+  private async readSnapshot(key: string): Promise<WorkingSnapshot | undefined> {
+    const stored = (await this.db.get('session', key)) as Partial<WorkingSnapshot> | undefined;
     if (!stored || typeof stored !== 'object') return undefined;
     const checked = validatePreset(stored.preset);
     if (!checked.ok) return undefined;

@@ -56,6 +56,9 @@ export interface WorkingSnapshot {
 export interface SessionStore {
   loadWorking(): Promise<WorkingSnapshot | undefined>;
   saveWorking(snapshot: WorkingSnapshot): Promise<void>;
+  /** The working setup as it was before the last load replaced it (one level of undo). */
+  loadReplaced(): Promise<WorkingSnapshot | undefined>;
+  saveReplaced(snapshot: WorkingSnapshot): Promise<void>;
 }
 
 /** Names are trimmed, non-empty and at most 120 characters (the preset schema's limit). */

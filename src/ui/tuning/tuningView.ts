@@ -7,11 +7,12 @@ import uPlot from 'uplot';
 import { validatePreset } from '../../presets/load';
 import { formatIssues } from '../../presets/issues';
 import type { Preset } from '../../presets/schema';
-import type { ObjectiveName, ScanResult, TuneResult } from '../../tuning/api';
+import type { Objective, ObjectiveName, ScanResult, TuneResult } from '../../tuning/api';
+import { tuneSummary, tuneSummaryNodes } from './tuneSummary';
 import type { AppContext } from '../appContext';
 import { axis, chartSize, fitChart, followSize } from '../charts/theme';
 import { byId, el, toast } from '../dom';
-import { fixed, formatR } from '../format';
+import { formatR } from '../format';
 import { FIELDS, type NumberField } from '../panel/fields';
 import { cloneJson, getAt, setAt } from '../panel/presetPath';
 import { isCancelled } from '../engine/engineClient';
@@ -299,8 +300,8 @@ export class TuningView {
       );
       this.tuneResult = result;
       this.tuneProgress.value = 1;
-      this.renderTune(result, parameters);
-      this.tuneApply.disabled = false;
+      this.renderTune(result, parameters, objective);
+      this.tuneApply.disabled = result.recommendation === 'preset'; // nothing to apply when the preset's own settings are kept
     } catch (err) {
       if (!isCancelled(err)) this.tuneResultBox.textContent = `Auto-tune failed: ${(err as Error).message}`;
     } finally {
@@ -308,33 +309,8 @@ export class TuningView {
     }
   }
 
-  private renderTune(result: TuneResult, parameters: readonly { path: string; label: string }[]): void {
-    const unitOf = (path: string): string => /_([a-zA-Z]+)$/.exec(path)?.[1] ?? '';
-    const rows = parameters.map((p, i) => {
-      const flat = result.flatness.find((f) => f.path === p.path);
-      return el(
-        'tr',
-        {},
-        el('th', { scope: 'row', text: p.label }),
-        el('td', { text: fixed(result.start[i], 2) }),
-        el('td', { text: fixed(result.best[i], 2) }),
-        el('td', { text: flat ? `${fixed(flat.low, 1)} – ${fixed(flat.high, 1)} ${unitOf(p.path)}` : '—' }),
-      );
-    });
-    const objectiveText =
-      result.startObjective !== undefined && result.startObjective !== null
-        ? `Goal value ${fixed(result.startObjective, 1)} → ${fixed(result.objective, 1)}`
-        : `Goal value ${fixed(result.objective, 1)}`;
-    this.tuneResultBox.replaceChildren(
-      el('p', { text: `${objectiveText} after ${result.evaluations} evaluations.` }),
-      el(
-        'table',
-        { className: 'data-table' },
-        el('thead', {}, el('tr', {}, el('th', { text: 'parameter' }), el('th', { text: 'start' }), el('th', { text: 'tuned' }), el('th', { text: 'within 10 % of best' }))),
-        el('tbody', {}, ...rows),
-      ),
-      ...(result.startSource?.length ? [el('p', { className: 'hint', text: `Start: ${result.startSource.join('; ')}` })] : []),
-    );
+  private renderTune(result: TuneResult, parameters: readonly { path: string; label: string }[], objective: Objective): void {
+    this.tuneResultBox.replaceChildren(...tuneSummaryNodes(tuneSummary(result, parameters, objective)));
   }
 
   private applyTuned(): void {

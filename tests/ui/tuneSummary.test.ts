@@ -1,0 +1,44 @@
+/** The app's auto-tune summary: preset, start and result side by side, one figure, and a kept preset said in words. */
+import { describe, expect, it } from 'vitest';
+import type { ScanSpeciesPoint, TuneResult } from '../../src/tuning/api';
+import { tuneSummary } from '../../src/ui/tuning/tuneSummary';
+
+const species = (t: number): ScanSpeciesPoint => ({ mz: 1296.6848, label: 'angiotensin I', flightTime_ns: 22967, fwhm_ns: 0.1, resolvingPower: 1e5, transmission: t });
+
+const base = {
+  start: [150],
+  best: [228],
+  objective: 59087,
+  flatness: [{ path: 'source.extraction.delay_ns', low: 224.86, high: 229.01 }],
+  evaluations: 68,
+  tunedPreset: {} as TuneResult['tunedPreset'],
+  startObjective: 2805,
+  measure: 'sd',
+  presetValues: [228],
+  presetObjective: 59087,
+  presetSpecies: [species(1)],
+  startSpecies: [species(0.97)],
+  species: [species(1)],
+  searchBest: [150],
+  searchObjective: 2805,
+} satisfies TuneResult;
+
+describe('tune summary', () => {
+  const parameters = [{ path: 'source.extraction.delay_ns', label: 'Extraction delay (ns)' }];
+  const objective = { name: 'max-r-at-mz' as const, targetMz: 1296.6848 };
+
+  it('a kept preset is said in words, with the preset, start and recommended values and transmissions', () => {
+    const s = tuneSummary({ ...base, recommendation: 'preset' }, parameters, objective);
+    expect(s.verdict).toMatch(/^No setting found scores better than the preset's own settings \(preset 59\u2009087, best found 2\u2009805\)/);
+    expect(s.objectiveLine).toMatch(/with the preset's settings, .* at the start, .* recommended \(the preset's\)/);
+    expect(s.recommendedHeading).toBe('recommended (preset)');
+    expect(s.parameters[0]).toMatchObject({ preset: '228.00', start: '150.00', recommended: '228.00' });
+    expect(s.species[0]).toEqual({ label: 'angiotensin I', preset: '100.0 %', start: '97.0 %', recommended: '100.0 %' });
+    expect(s.figure).toContain('width = 2.355 × standard deviation of the arrival times');
+  });
+
+  it('a tuned result that beats the preset has no verdict line; one asked for although worse says so', () => {
+    expect(tuneSummary({ ...base, recommendation: 'tuned', presetObjective: 1000 }, parameters, objective).verdict).toBeNull();
+    expect(tuneSummary({ ...base, recommendation: 'tuned', worseThanPreset: true, objective: 2805, best: [150] }, parameters, objective).verdict).toMatch(/scores worse than the preset's own settings/);
+  });
+});
