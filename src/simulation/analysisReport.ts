@@ -32,6 +32,10 @@ export interface CalibrationSection {
   readonly calibrantMz: number[];
   readonly residuals_ppm: number[];
   readonly rms_ppm: number;
+  /** Calibrants minus fitted coefficients; 0 means the law passes through every calibrant, so the residuals are zero by construction. */
+  readonly degreesOfFreedom: number;
+  /** A word for the reader when the residuals say nothing (no degree of freedom left), else null. */
+  readonly warning: string | null;
   /** Unknowns (every species that is not a calibrant): true m/z, calibrated m/z and error. */
   readonly unknowns: { readonly mz: number; readonly measuredMz: number | null; readonly error_ppm: number | null }[];
   /** Where the peak times came from. */
@@ -189,9 +193,17 @@ function calibrate(
     calibrantMz: calibrants.map((x) => x.mz),
     residuals_ppm: fit.report.residuals_ppm,
     rms_ppm: fit.report.rms_ppm,
+    degreesOfFreedom: fit.report.degreesOfFreedom,
+    warning: calibrationWarning(fit.report.degreesOfFreedom, calibrants.length),
     unknowns: unknowns.map((u) => ({ mz: u.mz, measuredMz: u.measuredMz, error_ppm: u.error_ppm })),
     timesFrom,
   };
+}
+
+/** No degree of freedom left: the residuals are zero by construction and test nothing. */
+export function calibrationWarning(degreesOfFreedom: number, calibrants: number): string | null {
+  if (degreesOfFreedom > 0) return null;
+  return `no degree of freedom left: ${calibrants} calibrants for ${calibrants - degreesOfFreedom} coefficients, so the law passes through every calibrant and their residuals (0 ppm) test nothing; add a calibrant to see the fit's error`;
 }
 
 /** Reference start position, its spread, and the axial start energy and spread of the population. */

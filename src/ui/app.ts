@@ -198,7 +198,7 @@ export async function startApp(): Promise<void> {
     const report = output.report;
     const colours = speciesColours(report.species.map((s) => s.mz));
     const view = buildRunView(output, colours);
-    renderPeakTable(resultsTable, view.rows, view.calibrationNote);
+    renderPeakTable(resultsTable, view.rows, view.calibrationNote, view.calibrationFreedom);
     renderFates(byId('fate-list'), report.fates, report.ions);
     byId('run-summary').textContent = runSummary(report, output.elapsed_ms) + (job.kind === 'live' ? ' (quick preview)' : '');
     spectrum.setRun(view.spectrum);

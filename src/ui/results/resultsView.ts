@@ -5,7 +5,13 @@ import { el } from '../dom';
 import { fixed, formatCount, formatR, percent, signed } from '../format';
 import type { PeakRow } from './runView';
 
-export function renderPeakTable(table: HTMLTableElement, rows: readonly PeakRow[], calibrationNote: string): void {
+/** A calibrant's residual says nothing when no degree of freedom is left: show that instead of "+0.0". */
+export function massErrorText(r: PeakRow, calibrationFreedom: number): string {
+  if (r.calibrant && calibrationFreedom <= 0) return 'cal. (no d.o.f.)';
+  return signed(r.massError_ppm, 1) + (r.calibrant && r.massError_ppm !== null ? ' (cal.)' : '');
+}
+
+export function renderPeakTable(table: HTMLTableElement, rows: readonly PeakRow[], calibrationNote: string, calibrationFreedom = 1): void {
   const body = table.tBodies[0];
   body.replaceChildren(
     ...rows.map((r) =>
@@ -19,7 +25,7 @@ export function renderPeakTable(table: HTMLTableElement, rows: readonly PeakRow[
         el('td', { className: 'r-value', text: formatR(r.resolvingPower) }),
         el('td', { text: formatR(r.spectrumResolvingPower), title: 'FWHM resolving power of the peak in the simulated spectrum (detector response, jitter, sampling)' }),
         el('td', { text: percent(r.transmission) }),
-        el('td', { text: signed(r.massError_ppm, 1) + (r.calibrant && r.massError_ppm !== null ? ' (cal.)' : ''), title: calibrationNote }),
+        el('td', { text: massErrorText(r, calibrationFreedom), title: calibrationNote }),
       ),
     ),
   );

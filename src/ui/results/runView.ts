@@ -75,8 +75,11 @@ function runCalibration(report: RunOutput['report']): {
       coefficients: { t0_s: c.t0_ns * 1e-9, a_s_per_sqrtTh: c.a_ns_per_sqrtTh * 1e-9, b_s_per_Th: c.b_ns_per_Th * 1e-9 },
       errors,
       calibrant,
-      freedom: section.calibrantMz.length - (section.law.includes('b·') ? 3 : 2),
-      note: `calibration ${section.law} on m/z ${section.calibrantMz.map((m) => m.toFixed(1)).join(', ')} (${section.timesFrom}); calibrant rows show the fit residual`,
+      freedom: section.degreesOfFreedom,
+      note:
+        `calibration ${section.law} on m/z ${section.calibrantMz.map((m) => m.toFixed(1)).join(', ')} (${section.timesFrom}), ` +
+        `${section.degreesOfFreedom} degree${section.degreesOfFreedom === 1 ? '' : 's'} of freedom; ` +
+        (section.warning ?? 'calibrant rows show the fit residual'),
     };
   }
   const own = calibrate(report.species);

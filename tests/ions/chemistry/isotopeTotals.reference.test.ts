@@ -27,8 +27,10 @@ interface ShiftSum {
 function convolve(atoms: Record<string, number>, z: number): { shift: number; fraction: number; mz: number }[] {
   let dist: ShiftSum[] = [{ p: 1, pm: 0 }];
   for (const [symbol, count] of Object.entries(atoms)) {
-    const isotopes = elementsAndIsotopesObject[symbol].isotopes.filter((i: { abundance?: number }) => (i.abundance ?? 0) > 0);
-    const lightest = Math.min(...isotopes.map((i: { nominal: number }) => i.nominal));
+    const element = elementsAndIsotopesObject[symbol];
+    if (!element) throw new Error(`reference lacks ${symbol}`);
+    const isotopes = element.isotopes.flatMap((i) => (i.abundance ? [{ nominal: i.nominal, mass: i.mass, abundance: i.abundance }] : []));
+    const lightest = Math.min(...isotopes.map((i) => i.nominal));
     const one: ShiftSum[] = [];
     for (const i of isotopes) one[i.nominal - lightest] = { p: i.abundance, pm: i.abundance * i.mass };
     for (let k = 0; k < one.length; k++) one[k] ??= { p: 0, pm: 0 };
@@ -47,7 +49,7 @@ function convolve(atoms: Record<string, number>, z: number): { shift: number; fr
   return dist.map((d, shift) => ({ shift, fraction: d.p, mz: (d.pm / d.p - z * ELECTRON_U) / z }));
 }
 
-const CASES = [
+const CASES: { name: string; formula: string; atoms: Record<string, number> }[] = [
   // A small ion (a C8 formula), where the old pruning lost 17 % of M+2 and 2 % of M+1.
   { name: 'C8H11N4O2+ (small ion)', formula: 'C8H10N4O2', atoms: { C: 8, H: 11, N: 4, O: 2 } },
   // An invented sulfur-containing peptide-like ion (34S makes M+2 fine structure).
