@@ -132,6 +132,7 @@ async function runScan(args: TuningArgs, loaded: LoadedPreset, io: TuningIo, opt
     ions: args.ions,
     seed: args.seed,
     shard: args.shard,
+    ...(args.idealR ? { criterion: 'ideal' as const } : {}),
   };
   const labels: ScanLabels = { axis: (i) => `--scan ${args.axisTexts[i] ?? ''}`.trim(), objective: CLI_OBJECTIVE_LABELS, shard: '--shard', ions: '--ions', seed: '--seed' };
   const checked = checkScanRequest(request, labels);
@@ -167,7 +168,7 @@ function tuneParameters(args: TuningArgs, preset: Preset): TuneParameter[] {
 async function runTune(args: TuningArgs, loaded: LoadedPreset, io: TuningIo, options: TuningCliOptions): Promise<number> {
   const parameters = tuneParameters(args, loaded.preset);
   const objective = objectiveOf(args)!;
-  const request: TuneRequest = { preset: loaded.preset, parameters, objective, ions: args.ions, seed: args.seed, minTransmission: args.minTransmission };
+  const request: TuneRequest = { preset: loaded.preset, parameters, objective, ions: args.ions, seed: args.seed, minTransmission: args.minTransmission, ...(args.idealR ? { criterion: 'ideal' as const } : {}) };
   const labels: TuneLabels = {
     parameter: (i) => `--tune ${parameters[i]?.path ?? ''}`.trim(),
     objective: CLI_OBJECTIVE_LABELS,

@@ -116,7 +116,7 @@ export function buildAnalysisSections(
   ens: Ensemble,
   trace: TraceResult,
   meanFlightTime_s: readonly (number | null)[],
-  options: { readonly withSpectrum?: boolean } = {},
+  options: { readonly withSpectrum?: boolean; readonly peaksOnly?: boolean } = {},
 ): AnalysisSections {
   const settings = acquisitionSettings(preset, trace);
   const speciesPeaks: (SpectrumPeakReport | null)[] = ens.species.map(() => null);
@@ -138,6 +138,8 @@ export function buildAnalysisSections(
       };
     }
   }
+
+  if (options.peaksOnly) return { speciesPeaks, calibration: null, focus: null, spectrum: null };
 
   const peakTime_s = ens.species.map((_, s) => {
     const p = speciesPeaks[s];

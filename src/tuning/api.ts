@@ -5,6 +5,9 @@
  */
 import type { Preset } from '../presets/schema';
 import type { RunReport } from '../simulation/report';
+import type { ResolvingPowerCriterion } from '../simulation/headline';
+
+export type { ResolvingPowerCriterion } from '../simulation/headline';
 
 export interface RunRequest {
   readonly preset: Preset;
@@ -56,6 +59,11 @@ export interface ScanRequest {
   readonly seed?: number;
   /** Deterministic share of the points: shard i of n (0-based i). */
   readonly shard?: { readonly index: number; readonly count: number };
+  /**
+   * Which R the objective reads: 'spectrum' (the simulated spectrum peak, what the instrument would
+   * measure; the default when the preset has acquisition settings) or 'ideal' (ion arrival times only).
+   */
+  readonly criterion?: ResolvingPowerCriterion;
 }
 
 export interface ScanSpeciesPoint {
@@ -69,6 +77,9 @@ export interface ScanSpeciesPoint {
   readonly sdFlightTime_ns?: number | null;
   readonly fwhmShortest_ns?: number | null;
   readonly resolvingPowerShortest?: number | null;
+  /** FWHM and R of the species' peak in the simulated spectrum (with acquisition settings). */
+  readonly spectrumFwhm_ns?: number | null;
+  readonly spectrumResolvingPower?: number | null;
 }
 
 export interface ScanPoint {
@@ -88,6 +99,8 @@ export interface ScanResult {
   readonly seed?: number;
   readonly objective?: Objective | null;
   readonly shard?: { readonly index: number; readonly count: number } | null;
+  /** Which R the objective read (see ScanRequest.criterion). */
+  readonly criterion?: ResolvingPowerCriterion;
 }
 
 export interface TuneParameter {
@@ -123,6 +136,8 @@ export interface TuneRequest {
   readonly maxEvaluations?: number;
   /** Start from the published focusing conditions where they apply (default true); false starts from the preset's values. */
   readonly useAnalyticStart?: boolean;
+  /** Which R the objective reads (see ScanRequest.criterion); 'spectrum' by default with acquisition settings. */
+  readonly criterion?: ResolvingPowerCriterion;
 }
 
 export interface TuneResult {
@@ -146,6 +161,8 @@ export interface TuneResult {
   readonly minTransmission?: number;
   /** Per-species figures at the optimum. */
   readonly species?: readonly ScanSpeciesPoint[];
+  /** Which R the objective read. */
+  readonly criterion?: ResolvingPowerCriterion;
 }
 
 export interface Progress {

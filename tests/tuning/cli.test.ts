@@ -49,11 +49,19 @@ describe('scan subcommand', () => {
     expect(doc.points.map((p: { values: number[] }) => p.values[0])).toEqual([180, 200, 220, 240]);
     for (const p of doc.points) {
       expect(p.species).toHaveLength(4);
-      expect(p.objective).toBe(p.species[1].resolvingPower); // the target is the second species
+      // The target is the second species; the demo has acquisition settings, so by default the
+      // objective is the R of its simulated spectrum peak.
+      expect(p.objective).toBe(p.species[1].spectrumResolvingPower);
       for (const key of ['flightTime_ns', 'fwhm_ns', 'resolvingPower', 'transmission']) expect(p.species[0]).toHaveProperty(key);
     }
+    expect(doc.criterion).toBe('spectrum');
+    const ideal = JSON.parse((await h.run([DEMO, ...SCAN, '--json', '--ideal-r'])).out);
+    expect(ideal.criterion).toBe('ideal');
+    for (const p of ideal.points) expect(p.objective).toBe(p.species[1].resolvingPower);
     const csv = (await h.run([DEMO, ...SCAN, '--csv'])).out.trim().split('\n');
-    expect(csv[0]).toBe('point,source.extraction.delay_ns,label,mz,flightTime_ns,fwhm_ns,resolvingPower,transmission,sdFlightTime_ns,fwhmShortest_ns,resolvingPowerShortest,objective');
+    expect(csv[0]).toBe(
+      'point,source.extraction.delay_ns,label,mz,flightTime_ns,fwhm_ns,resolvingPower,transmission,sdFlightTime_ns,fwhmShortest_ns,resolvingPowerShortest,spectrumFwhm_ns,spectrumResolvingPower,objective',
+    );
     expect(csv).toHaveLength(1 + 4 * 4);
   });
 
