@@ -102,7 +102,7 @@ export function formatTuneTable(presetName: string, ions: number, seed: number, 
       ? [`WARNING: no setting tried kept the transmission ≥ ${((result.minTransmission ?? 0) * 100).toFixed(1)} %; the values below only come closest to it.`]
       : []),
     `${what}: ${fmtObjective(objective, result.startObjective ?? null)} at the start → ${fmtObjective(objective, result.objective)} tuned`,
-    `optimised on the ${result.measure ?? 'sd'} width: ${fmtObjective(objective, smooth?.start ?? null)} → ${fmtObjective(objective, smooth?.best ?? null)}; ` +
+    `optimised on ${result.criterion === 'spectrum' ? 'the spectrum peak R' : `the ${result.measure ?? 'sd'} width`}: ${fmtObjective(objective, smooth?.start ?? null)} → ${fmtObjective(objective, smooth?.best ?? null)}; ` +
       `${result.evaluations} evaluations; transmission kept ≥ ${((result.minTransmission ?? 0) * 100).toFixed(1)} %`,
     '',
     ...table(['species', 'm/z', 'flight time/ns', 'FWHM/ns', 'R (FWHM)', 'R (76% width)', 'transmission'], speciesRows, 1),

@@ -106,7 +106,8 @@ export function tracedIsotopePeaks(species: Species): TracedIsotopePeak[] {
     // The compositions the envelope pruned also move the shift's centroid (by ~1e-8 relative for a
     // small ion's M+2): offset the shift's peaks together so their centroid is the group's exact one.
     const fineCentroid = kept.reduce((a, k) => a + k.mz, 0) / fineTotal;
-    const offset = group ? group.mz - fineCentroid : 0;
+    // (A lone composition, the monoisotopic one included, is exact already and keeps its m/z to the last bit.)
+    const offset = group && own.length > 1 ? group.mz - fineCentroid : 0;
     for (const k of kept) out.push({ mz: k.mz / k.fraction + offset, fraction: k.fraction * scale, shift });
   }
   return out.sort((a, b) => a.mz - b.mz);

@@ -230,7 +230,7 @@ describe('browser app', () => {
     await setControl('back plate potential (V)', '5650');
     const after = await resultRows(page);
     expect(after).not.toEqual(before);
-    // A species given by formula: its m/z comes from the chemistry (bradykinin [M+H]+, 1060.569 by our
+    // A species given by formula: its m/z comes from the chemistry (C50H73N15O11 [M+H]+, 1060.569 by our
     // AME 2020 masses) and the results follow.
     await setControl('formula (neutral; sets m/z)', 'C50H73N15O11');
     expect((await resultRows(page)).join('\n')).toMatch(/ 1060\.57 /);

@@ -34,7 +34,7 @@ function harness(files: Record<string, string> = {}) {
   };
 }
 
-const SCAN = ['--scan', 'source.extraction.delay_ns=180:240:4', '--target-mz', '1296.6848', '--ions', '400'];
+const SCAN = ['--scan', 'source.extraction.delay_ns=180:240:4', '--target-mz', '1336.7008', '--ions', '400'];
 
 describe('scan subcommand', () => {
   it('prints a table, JSON or CSV with per-species figures and the objective', async () => {
@@ -88,7 +88,7 @@ describe('scan subcommand', () => {
 });
 
 describe('tune subcommand', () => {
-  const TUNE = ['--tune', 'source.extraction.delay_ns=100:400', '--objective', 'max-r-at-mz', '--target-mz', '1296.6848', '--ions', '600'];
+  const TUNE = ['--tune', 'source.extraction.delay_ns=100:400', '--objective', 'max-r-at-mz', '--target-mz', '1336.7008', '--ions', '600'];
 
   it('prints the tuned values and writes a new preset, never over an existing file without --force', async () => {
     const h = harness();
@@ -124,10 +124,10 @@ describe('tune subcommand', () => {
       [[DEMO, '--scan', 'source.extraction.delay_ns=0:10:0'], /steps must be a whole number of points ≥ 1 \(got 0\)/],
       [[DEMO, '--scan', 'source.extraction.delay_ns=0:10'], /^--scan: expected <from>:<to>:<steps>/],
       [[DEMO, '--scan', 'source.extraction.delay_ns=0:10:3', '--objective', 'min-fwhm'], /^--target-mz: is required by --objective min-fwhm/],
-      [[DEMO, '--tune', 'mirror.backPlate_V=1:2', '--target-mz', '1296.68'], /^--tune mirror\.backPlate_V: mirror\.backPlate_V does not exist/],
+      [[DEMO, '--tune', 'mirror.backPlate_V=1:2', '--target-mz', '1336.70'], /^--tune mirror\.backPlate_V: mirror\.backPlate_V does not exist/],
       [[DEMO, '--tune', 'source.extraction.delay_ns=0:100', '--objective', 'max-min-r-over-range'], /^--range: is required by --objective max-min-r-over-range/],
       [[DEMO, '--tune', 'source.extraction.delay_ns=0:100'], /^--objective: is required with --tune/],
-      [[DEMO, '--tune', 'drift.potential_V', '--target-mz', '1296.68'], /no default range: give bounds as drift\.potential_V=<min>:<max>/],
+      [[DEMO, '--tune', 'drift.potential_V', '--target-mz', '1336.70'], /no default range: give bounds as drift\.potential_V=<min>:<max>/],
       [[DEMO, '--scan', 'source.extraction.delay_ns=0:10:3', '--shard', '0/3'], /^--shard: expected i\/n with 1 ≤ i ≤ n/],
       [['merge'], /^merge: give the scan files to merge/],
       [['merge', DEMO], /is not a scan file/],

@@ -69,12 +69,12 @@ describe('peak table CSV', () => {
   });
 
   it('round-trips labels with commas, quotes and line breaks, and full-precision numbers', () => {
-    const rows = [row('angiotensin II [M+H]+, "heavy"\nbatch 2', 1046.5418), row('ACTH 18-39', 2465.1989, { resolvingPower: null }, { calibrant: true, massError_ppm: null })];
+    const rows = [row('kelvatide-10 [M+H]+, "heavy"\nbatch 2', 1058.5629), row('valquorin-22', 2508.2994, { resolvingPower: null }, { calibrant: true, massError_ppm: null })];
     const parsed = parseCsv(peakTableCsv(rows));
     expect(parsed[0]).toEqual([...PEAK_CSV_COLUMNS]);
     expect(parsed).toHaveLength(3);
     const col = (name: string): number => parsed[0].indexOf(name);
-    expect(parsed[1][col('label')]).toBe('angiotensin II [M+H]+, "heavy"\nbatch 2');
+    expect(parsed[1][col('label')]).toBe('kelvatide-10 [M+H]+, "heavy"\nbatch 2');
     expect(Number(parsed[1][col('flightTime_ns')])).toBe(20565.123456789);
     expect(parsed[1][col('massError_ppm')]).toBe('1.5');
     expect(parsed[1][col('lost_struckRepeller')]).toBe('10');

@@ -608,6 +608,7 @@ export function speciesFields(i: number): FieldSpec[] {
         } else {
           deleteAt(doc, `${base}.formula`);
           deleteAt(doc, `${base}.adduct`);
+          deleteAt(doc, `${base}.isotopes`);
         }
       },
     },
