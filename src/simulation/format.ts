@@ -96,10 +96,20 @@ function isotopeLines(r: RunReport): string[] {
   const withShifts = r.species.filter((s) => s.isotopeShiftTotals.length > 0);
   if (withShifts.length === 0) return [];
   return [
-    'Isotope shifts traced (share of the species\' molecules; m/z = centroid of the shift):',
+    'Isotope shifts traced (share of the species\' molecules; m/z = centroid of the shift; mass error of its largest peak ± 1 sd from the ion count):',
     ...withShifts.map(
-      (s) => `  ${s.label}: ` + s.isotopeShiftTotals.map((t) => `M+${t.shift} ${(t.abundance * 100).toFixed(2)} % (${t.mz.toFixed(4)})`).join(', '),
+      (s) =>
+        `  ${s.label}: ` +
+        s.isotopeShiftTotals
+          .map((t) => {
+            const largest = s.isotopePeaks.filter((p) => p.shift === t.shift).reduce((a, b) => (b.abundance > a.abundance ? b : a));
+            const err = largest.massError_ppm === null ? '' : `, ${signedFixed(largest.massError_ppm, 1)} ± ${(largest.statisticalError_ppm ?? 0).toFixed(1)} ppm`;
+            return `M+${t.shift} ${(t.abundance * 100).toFixed(2)} % (${t.mz.toFixed(4)}${err})`;
+          })
+          .join(', '),
     ),
+    'Each isotope peak is measured on its own ions, so neighbouring peaks cannot pull its centroid; its error is its species\' calibration error',
+    '(the law between calibrants) plus the scatter of a centroid of few traced ions (the ± above; trace more ions to shrink it).',
   ];
 }
 

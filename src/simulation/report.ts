@@ -55,6 +55,13 @@ export interface IsotopePeakReport {
   readonly fwhm_ns: number | null;
   readonly resolvingPower: number | null;
   readonly transmission: number;
+  /**
+   * Calibrated mass error of this peak, measured on its own ions' spectrum (so a neighbouring peak
+   * cannot pull it); null for a calibrant or without a calibration.
+   */
+  readonly massError_ppm: number | null;
+  /** One sd of that error from the ion count alone: 2·10^6·sd(t)/(t·sqrt(detected)) (m ∝ t²). */
+  readonly statisticalError_ppm: number | null;
 }
 
 export interface IsotopeShiftTotal {
@@ -93,6 +100,7 @@ export function attachAnalysis(report: RunReport, analysis: AnalysisSections): R
       ...s,
       peak: analysis.speciesPeaks[s.mainBlock] ?? null,
       massError_ppm: cal?.unknowns.find((u) => u.mz === s.mz)?.error_ppm ?? null,
+      isotopePeaks: s.isotopePeaks.map((p) => ({ ...p, massError_ppm: cal?.unknowns.find((u) => u.mz === p.mz)?.error_ppm ?? null })),
     })),
     calibration: analysis.calibration,
     focus: analysis.focus,
@@ -181,6 +189,9 @@ export function buildReport(ens: Ensemble, trace: TraceResult): RunReport {
       fwhm_ns: b.fwhm_ns,
       resolvingPower: b.resolvingPower,
       transmission: b.transmission,
+      massError_ppm: null,
+      statisticalError_ppm:
+        b.sdFlightTime_ns !== null && b.flightTime_ns !== null && b.detected > 1 ? (2e6 * b.sdFlightTime_ns) / (b.flightTime_ns * Math.sqrt(b.detected)) : null,
     }));
     species.push({
       ...blocks[main],
