@@ -197,7 +197,7 @@ export async function startApp(): Promise<void> {
     const renderStart = performance.now();
     const report = output.report;
     const colours = speciesColours(report.species.map((s) => s.mz));
-    const view = buildRunView(output, colours);
+    const view = buildRunView(output, colours, job.preset.acquisition?.sampleInterval_ns ?? null);
     renderPeakTable(resultsTable, view.rows, view.calibrationNote, view.calibrationFreedom);
     renderFates(byId('fate-list'), report.fates, report.ions);
     byId('run-summary').textContent = runSummary(report, output.elapsed_ms) + (job.kind === 'live' ? ' (quick preview)' : '');

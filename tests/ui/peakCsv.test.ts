@@ -3,6 +3,7 @@ import { emptyFateCounts } from '../../src/physics/fates';
 import type { SpeciesReport } from '../../src/simulation/report';
 import { csvField, PEAK_CSV_COLUMNS, peakTableCsv } from '../../src/ui/results/peakCsv';
 import type { PeakRow } from '../../src/ui/results/runView';
+import { headlineFigures } from '../../src/simulation/headline';
 
 /** A small RFC 4180 reader (quoted fields, doubled quotes, CRLF), independent of the writer. */
 function parseCsv(text: string): string[][] {
@@ -54,7 +55,7 @@ function row(label: string, mz: number, over: Partial<SpeciesReport> = {}, extra
     massError_ppm: null,
     ...over,
   } as SpeciesReport;
-  return { species, colour: '#fff', flightTime_us: 20.565, fwhm_ns: 3.18, resolvingPower: 3238.4, spectrumResolvingPower: null, transmission: 0.9, massError_ppm: 1.5, calibrant: false, ...extra };
+  return { species, colour: '#fff', flightTime_us: 20.565, fwhm_ns: 3.18, resolvingPower: 3238.4, spectrumResolvingPower: null, transmission: 0.9, massError_ppm: 1.5, calibrant: false, headline: headlineFigures(species, null), ...extra };
 }
 
 describe('peak table CSV', () => {

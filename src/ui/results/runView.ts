@@ -8,6 +8,7 @@ import { fitCalibration, mzFromTime, type CalibrationCoefficients } from '../../
 import { Fate } from '../../physics/fates';
 import type { RunOutput } from '../../tuning/api';
 import type { SpeciesReport } from '../../simulation/report';
+import { headlineFigures, type HeadlineFigures } from '../../simulation/headline';
 import type { SpectrumPeak, SpectrumRun } from '../charts/spectrumChart';
 
 export interface PeakRow {
@@ -23,6 +24,8 @@ export interface PeakRow {
   readonly massError_ppm: number | null;
   /** The species is a calibrant of the run's calibration (its error is a fit residual). */
   readonly calibrant: boolean;
+  /** Headline (spectrum peak) and ideal-detector figures, as every table shows them. */
+  readonly headline: HeadlineFigures;
 }
 
 export interface RunView {
@@ -92,7 +95,7 @@ function runCalibration(report: RunOutput['report']): {
   };
 }
 
-export function buildRunView(output: RunOutput, colours: readonly string[]): RunView {
+export function buildRunView(output: RunOutput, colours: readonly string[], sampleInterval_ns: number | null = null): RunView {
   const { report } = output;
   const cal = runCalibration(report);
   const n = output.flightTime_s.length;
@@ -114,6 +117,7 @@ export function buildRunView(output: RunOutput, colours: readonly string[]): Run
     transmission: s.transmission,
     massError_ppm: cal.errors[i] ?? null,
     calibrant: cal.calibrant[i] ?? false,
+    headline: headlineFigures(s, sampleInterval_ns),
   }));
   const peaks: SpectrumPeak[] = report.species.map((s) => {
     const t = s.flightTime_ns;
