@@ -193,10 +193,8 @@ async function runTune(args: TuningArgs, loaded: LoadedPreset, io: TuningIo, opt
     engine.close();
   }
   if (args.write) {
-    // Written values are rounded to a step of at most 1/1000 of their flatness interval: readable, and
-    // far inside the region where the objective stays within 10 % of its best.
-    const rounded = result.best.map((x, i) => roundWithin(x, result.flatness[i].low, result.flatness[i].high, parameters[i]));
-    writeOut(args, io, tunedPresetText(loaded, parameters, rounded, result.tunedPreset));
+    // A saved method keeps every digit it was evaluated with (no rounding of the tuned values).
+    writeOut(args, io, tunedPresetText(loaded, parameters, result.best, result.tunedPreset));
   }
   const ions = args.ions ?? loaded.preset.run.ions;
   const seed = args.seed ?? loaded.preset.run.seed;
@@ -206,7 +204,7 @@ async function runTune(args: TuningArgs, loaded: LoadedPreset, io: TuningIo, opt
     const lines = ['path,start,tuned,flatLow,flatHigh', ...result.flatness.map((f, i) => [f.path, result.start[i], result.best[i], f.low, f.high].join(','))];
     io.out(lines.join('\n') + '\n');
   } else {
-    io.out(formatTuneTable(loaded.preset.name, ions, seed, objective, result) + (args.write ? `saved: ${args.write} (tuned values rounded to 1/1000 of their interval)\n` : ''));
+    io.out(formatTuneTable(loaded.preset.name, ions, seed, objective, result) + (args.write ? `saved: ${args.write} (tuned values at full precision)\n` : ''));
   }
   return 0;
 }

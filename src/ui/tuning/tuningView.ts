@@ -4,6 +4,7 @@
  * terminates the worker at once, and "apply" buttons that load the result as the working setup.
  */
 import uPlot from 'uplot';
+import { CRITERION_LABELS } from '../../simulation/headline';
 import { validatePreset } from '../../presets/load';
 import { formatIssues } from '../../presets/issues';
 import type { Preset } from '../../presets/schema';
@@ -93,6 +94,7 @@ export class TuningView {
     this.scanApply.addEventListener('click', () => this.applyBestScanPoint());
     this.tuneApply.addEventListener('click', () => this.applyTuned());
     for (const radio of document.querySelectorAll<HTMLInputElement>('input[name="scan-y"]')) radio.addEventListener('change', () => this.drawScan());
+    byId<HTMLInputElement>('scan-log').addEventListener('change', () => this.drawScan());
     this.tuneObjective.addEventListener('change', () => (this.tuneSpecies.disabled = this.tuneObjective.value === 'max-min-r-over-range'));
   }
 
@@ -177,7 +179,13 @@ export class TuningView {
     const started = performance.now();
     try {
       const result = await this.app.tuningEngine.scan(
-        { preset: base, axes: [{ path, from, to, steps }], objective: { name: 'max-r-at-mz', targetMz }, ions },
+        {
+          preset: base,
+          axes: [{ path, from, to, steps }],
+          objective: { name: 'max-r-at-mz', targetMz },
+          ions,
+          ...(byId<HTMLInputElement>('scan-ideal').checked || !base.acquisition ? { criterion: 'ideal' as const } : {}),
+        },
         (p) => {
           this.scanProgress.value = p.total > 0 ? p.done / p.total : 0;
           this.scanStatus.textContent = `Scanning ${label}: ${p.done} of ${p.total} points${p.message ? ` (${p.message})` : ''}`;
@@ -208,6 +216,9 @@ export class TuningView {
     const scan = this.scanResult;
     if (!scan) return;
     const showR = (document.querySelector<HTMLInputElement>('input[name="scan-y"]:checked')?.value ?? 'r') === 'r';
+    const log = byId<HTMLInputElement>('scan-log').checked;
+    const criterion = scan.result.criterion ?? 'ideal';
+    const figure = showR ? CRITERION_LABELS[criterion] : 'mean flight time (µs)';
     const points = [...scan.result.points].sort((a, b) => a.values[0] - b.values[0]);
     const species = points[0]?.species ?? [];
     const colours = this.app.speciesColours();
@@ -217,20 +228,31 @@ export class TuningView {
     species.forEach((s, i) => {
       ys.push(points.map((p) => {
         const sp = p.species[i];
-        const v = showR ? sp?.resolvingPower : sp?.flightTime_ns;
-        return v === null || v === undefined ? null : showR ? v : v / 1000;
+        const v = showR ? (criterion === 'spectrum' ? sp?.spectrumResolvingPower : sp?.resolvingPower) : sp?.flightTime_ns;
+        // A log axis has no place for zero or negative values: those points become gaps.
+        return v === null || v === undefined || (log && !(v > 0)) ? null : showR ? v : v / 1000;
       }));
-      series.push({ label: s.label ?? `m/z ${s.mz}`, stroke: colours[i] ?? '#8fd0ff', width: 1.5, points: { show: true, size: 4 } });
+      series.push({
+        label: s.label ?? `m/z ${s.mz}`,
+        stroke: colours[i] ?? '#8fd0ff',
+        width: 1.5,
+        points: { show: true, size: 4 },
+        value: (_u, v) => (v === null || v === undefined ? '—' : showR ? formatR(v) : v.toFixed(4)),
+      });
     });
     const data = [x, ...ys] as uPlot.AlignedData;
     this.chart?.destroy();
     this.chart = new uPlot(
       {
         ...chartSize(this.chartHost),
-        scales: { x: { time: false } },
-        axes: [axis(scan.label), axis(showR ? 'R (FWHM)' : 'flight time (µs)', { size: 56 })],
+        scales: { x: { time: false }, y: log ? { distr: 3, log: 10 } : { auto: true } },
+        axes: [
+          axis(scan.label),
+          axis(figure, { size: 62, values: (_u, ticks) => ticks.map((v) => (showR ? formatR(v) : v.toPrecision(6))) }),
+        ],
         series,
-        legend: { live: false },
+        // Live legend: the hover read-out of every curve at the cursor's scan value.
+        legend: { live: true },
       },
       data,
       this.chartHost,
@@ -250,7 +272,7 @@ export class TuningView {
       return;
     }
     this.app.loadSetup(checked.value, { recordId: this.app.recordId(), state: 'dirty' });
-    toast(`Applied ${scan.label} = ${best.value} (R ${formatR(best.objective)} for m/z ${scan.targetMz}).`);
+    toast(`Applied ${scan.label} = ${best.value} (${CRITERION_LABELS[scan.result.criterion ?? 'ideal']} ${formatR(best.objective)} for m/z ${scan.targetMz}).`);
   }
 
   private async startTune(): Promise<void> {
