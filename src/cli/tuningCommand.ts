@@ -4,6 +4,7 @@
  * per core, the same scheduler and tasks as the app's Web Workers, so both give identical numbers.
  */
 import { existsSync, writeFileSync } from 'node:fs';
+import { withMethodRecord } from '../presets/methodRecord';
 import { resolve } from 'node:path';
 import { formatIssues, type PresetIssue } from '../presets/issues';
 import { parsePresetText, validatePreset } from '../presets/load';
@@ -16,7 +17,7 @@ import { checkScanDocument, mergeScanDocuments, scanDocument, type ScanDocument 
 import { checkTuneRequest, type TuneLabels } from '../tuning/tune';
 import { createThreadPoolClient, defaultThreadCount } from './threadPool';
 import { parseTuningArgs, TUNING_USAGE, type TuningArgs } from './tuningArgs';
-import { formatScanCsv, formatScanTable, formatTuneTable } from './tuningFormat';
+import { describeObjective, formatScanCsv, formatScanTable, formatTuneTable } from './tuningFormat';
 
 export interface TuningIo {
   out(text: string): void;
@@ -194,7 +195,17 @@ async function runTune(args: TuningArgs, loaded: LoadedPreset, io: TuningIo, opt
   }
   if (args.write) {
     // A saved method keeps every digit it was evaluated with (no rounding of the tuned values).
-    writeOut(args, io, tunedPresetText(loaded, parameters, result.best, result.tunedPreset));
+    const entry = withMethodRecord(loaded.preset, {
+      kind: 'tune',
+      ions: args.ions ?? loaded.preset.run.ions,
+      seed: args.seed ?? loaded.preset.run.seed,
+      objective: describeObjective(objective),
+      criterion: result.criterion ?? 'ideal',
+      parameters: parameters.map((p, i) => ({ ...p, before: result.start[i], applied: result.best[i] })),
+      result: result.objective,
+      note: `auto-tune (CLI), ${result.evaluations} evaluations; start: ${(result.startSource ?? []).join('; ') || 'current settings'}`,
+    }).method!;
+    writeOut(args, io, tunedPresetText(loaded, parameters, result.best, { ...result.tunedPreset, method: entry }, entry));
   }
   const ions = args.ions ?? loaded.preset.run.ions;
   const seed = args.seed ?? loaded.preset.run.seed;
@@ -222,7 +233,7 @@ export function roundWithin(x: number, low: number, high: number, bounds: { min:
  * The tuned preset as a file: the input document with only the tuned numbers changed (its layout and
  * omitted defaults kept), or the validated tuned preset if that document cannot take the values.
  */
-function tunedPresetText(loaded: LoadedPreset, parameters: readonly TuneParameter[], best: readonly number[], tunedPreset: Preset): string {
+function tunedPresetText(loaded: LoadedPreset, parameters: readonly TuneParameter[], best: readonly number[], tunedPreset: Preset, method: Preset['method']): string {
   const raw = JSON.parse(loaded.text) as unknown;
   const paths = parameters.map((p) => p.path);
   if (paths.every((p) => numberAt(raw, p).ok)) {
@@ -235,6 +246,7 @@ function tunedPresetText(loaded: LoadedPreset, parameters: readonly TuneParamete
         for (let k = 0; k < keys.length - 1; k++) node = node[keys[k]] as Record<string | number, unknown>;
         node[keys[keys.length - 1]] = best[i];
       });
+      copy.method = method; // the method record: how these values were found
       return JSON.stringify(copy, null, 2) + '\n';
     }
   }

@@ -5,6 +5,7 @@
  * are refused instead of being merged into application state.
  */
 import { z } from 'zod';
+import { methodRecordSchema } from './methodRecordSchema';
 import { solvedMirrorSchema, solvedSourceSchema } from './fieldsSchema';
 
 // Zod compiles validators with `new Function` unless told not to; the app runs under a CSP without eval.
@@ -319,6 +320,8 @@ export const presetSchema = z.strictObject({
   acquisition: acquisitionSchema.optional(),
   analysis: analysisSchema.optional(),
   run: runSchema,
+  /** How the settings were found: one entry per applied scan or tune. */
+  method: methodRecordSchema.optional(),
 });
 
 /** A validated preset, with defaults filled in. */

@@ -105,6 +105,11 @@ describe('tune subcommand', () => {
     const before = JSON.parse(readFileSync(DEMO, 'utf8'));
     const after = JSON.parse(h.written.get('tuned.json')!);
     after.source.extraction.delay_ns = before.source.extraction.delay_ns;
+    // ... except the method record saying how the value was found.
+    expect(after.method.records).toHaveLength(1);
+    expect(after.method.records[0]).toMatchObject({ kind: 'tune', criterion: 'spectrum', seed: 1, ions: 600, result: json.objective });
+    expect(after.method.records[0].parameters[0]).toMatchObject({ path: 'source.extraction.delay_ns', min: 100, max: 400, applied: json.best[0] });
+    delete after.method;
     expect(after).toEqual(before);
 
     const again = await h.run([DEMO, ...TUNE, '--write', 'tuned.json']);

@@ -8,7 +8,9 @@ import { CRITERION_LABELS } from '../../simulation/headline';
 import { validatePreset } from '../../presets/load';
 import { formatIssues } from '../../presets/issues';
 import type { Preset } from '../../presets/schema';
-import type { ObjectiveName, ScanResult, TuneResult } from '../../tuning/api';
+import type { Objective, ObjectiveName, ScanResult, TuneResult } from '../../tuning/api';
+import { withMethodRecord } from '../../presets/methodRecord';
+import { describeObjective } from '../../cli/tuningFormat';
 import type { AppContext } from '../appContext';
 import { axis, chartSize, fitChart, followSize } from '../charts/theme';
 import { byId, el, toast } from '../dom';
@@ -76,6 +78,8 @@ export class TuningView {
   private chart: uPlot | null = null;
   private scanResult: { result: ScanResult; path: string; label: string; base: Preset; targetMz: number } | null = null;
   private tuneResult: TuneResult | null = null;
+  /** What the last tune was asked, for the method record written when it is applied. */
+  private tuneRequest: { parameters: { path: string; min: number; max: number }[]; objective: Objective; ions: number; seed: number } | null = null;
   private busy: 'scan' | 'tune' | null = null;
 
   constructor(private readonly app: AppContext) {
@@ -271,7 +275,18 @@ export class TuningView {
       toast(`Could not apply: ${formatIssues(checked.issues)}`);
       return;
     }
-    this.app.loadSetup(checked.value, { recordId: this.app.recordId(), state: 'dirty' });
+    const point = scan.result.points.find((p) => p.values[0] === best.value);
+    const recorded = withMethodRecord(checked.value, {
+      kind: 'scan',
+      ions: scan.result.ions ?? scan.base.run.ions,
+      seed: scan.result.seed ?? scan.base.run.seed,
+      objective: describeObjective(scan.result.objective),
+      criterion: scan.result.criterion ?? 'ideal',
+      parameters: [{ path: scan.path, min: scan.result.axes[0].from ?? best.value, max: scan.result.axes[0].to ?? best.value, before: getAt(scan.base, scan.path) as number, applied: best.value }],
+      result: point?.objective ?? null,
+      note: `best of ${scan.result.points.length} scan points`,
+    });
+    this.app.loadSetup(recorded, { recordId: this.app.recordId(), state: 'dirty' });
     toast(`Applied ${scan.label} = ${best.value} (${CRITERION_LABELS[scan.result.criterion ?? 'ideal']} ${formatR(best.objective)} for m/z ${scan.targetMz}).`);
   }
 
@@ -320,6 +335,7 @@ export class TuningView {
         },
       );
       this.tuneResult = result;
+      this.tuneRequest = { parameters: parameters.map(({ path, min, max }) => ({ path, min, max })), objective, ions: ions >= 100 ? ions : preset.run.ions, seed: preset.run.seed };
       this.tuneProgress.value = 1;
       this.renderTune(result, parameters);
       this.tuneApply.disabled = false;
@@ -367,7 +383,20 @@ export class TuningView {
       toast(`Could not apply: ${formatIssues(checked.issues)}`);
       return;
     }
-    this.app.loadSetup(checked.value, { recordId: this.app.recordId(), state: 'dirty' });
+    const asked = this.tuneRequest;
+    const recorded = asked
+      ? withMethodRecord(checked.value, {
+          kind: 'tune',
+          ions: asked.ions,
+          seed: asked.seed,
+          objective: describeObjective(asked.objective),
+          criterion: result.criterion ?? 'ideal',
+          parameters: asked.parameters.map((p, i) => ({ ...p, before: getAt(this.app.working(), p.path) as number, applied: result.best[i] })),
+          result: result.objective,
+          note: `auto-tune, ${result.evaluations} evaluations; start: ${(result.startSource ?? []).join('; ') || 'current settings'}`,
+        })
+      : checked.value;
+    this.app.loadSetup(recorded, { recordId: this.app.recordId(), state: 'dirty' });
     toast('Applied the tuned values.');
   }
 }
