@@ -1,7 +1,7 @@
 /**
  * Solved-field tracing benchmark: ions through the gridless ring-stack mirror of
  * presets/demo-gridless-mirror.json (30 rings on a divider, 0.5 mm mesh), single thread.
- * Each ion starts on the mirror's entry plane with the speed of a 4.7–5.0 keV m/z 1046.5 ion, a
+ * Each ion starts on the mirror's entry plane with the speed of a 4.7–5.0 keV m/z 1058.6 ion, a
  * transverse offset up to 3 mm and a transverse velocity up to ±150 m/s (a deterministic spread),
  * and is traced in 3-D until it leaves the mirror again (or strikes).
  *
@@ -46,7 +46,7 @@ export function benchFieldTrace(ions = 4000): Record<string, number> {
   const model = compilePreset(valid.value).model;
   const mirror = model.mirror?.solved;
   if (!mirror) throw new Error('the demo preset has no solved mirror');
-  const mz = 1046.5418;
+  const mz = 1058.5629; // kelvatide-10 (invented), the gridless demo's lighter species
   const plan = prepareExactPlan(createExactPlan(), model, mz);
   const k = chargeToMass_C_per_kg(mz);
   const st = createIonState();

@@ -2,7 +2,8 @@
  * Headless runs of a preset: `npm run sim -- <preset.json> [--json|--csv] [--ions N] [--seed S]`.
  * Bad input ends with one line per problem on stderr and a non-zero exit code, never a stack trace.
  */
-import { readFileSync } from 'node:fs';
+import { readFileSync, writeFileSync } from 'node:fs';
+import { htmlReport } from './simulation/htmlReport';
 import { formatIssues, type PresetIssue } from './presets/issues';
 import { parsePresetText } from './presets/load';
 import { LIMITS } from './presets/schema';
@@ -27,6 +28,8 @@ export const USAGE = `Usage: npm run sim -- <preset.json> [--json | --csv] [--io
   --spectrum      with --json: add the simulated spectrum (time_ns, intensity, mz arrays; needs "acquisition")
   --compare-ideal also run the same instrument with ideal grids in place of solved fields and print both
                   (flight time, FWHM, R, transmission; in --json as "idealComparison")
+  --report F.html also write one self-contained HTML page for a lab notebook (settings, results, spectrum
+                  and focus plots, method record, version, seed, high-voltage caution); never replaces a file
   --help          show this text
 
 ${TUNING_USAGE}
@@ -39,6 +42,7 @@ export interface CliArgs {
   format: 'table' | 'json' | 'csv';
   spectrum?: boolean;
   compareIdeal?: boolean;
+  report?: string;
   ions?: number;
   seed?: number;
 }
@@ -53,6 +57,7 @@ export function parseArgs(argv: readonly string[]): ArgsResult {
   let seed: number | undefined;
   let spectrum = false;
   let compareIdeal = false;
+  let report: string | undefined;
   for (let i = 0; i < argv.length; i++) {
     const arg = argv[i];
     if (arg === '--help' || arg === '-h') return { ok: false, issues: [], help: true };
@@ -60,6 +65,9 @@ export function parseArgs(argv: readonly string[]): ArgsResult {
       spectrum = true;
     } else if (arg === '--compare-ideal') {
       compareIdeal = true;
+    } else if (arg === '--report') {
+      report = argv[++i];
+      if (report === undefined || report.startsWith('--')) issues.push({ path: '--report', message: 'needs an output file name, e.g. --report run.html' });
     } else if (arg === '--json' || arg === '--csv') {
       const clash = outputFormatClash(format, arg);
       if (clash) issues.push({ path: arg, message: clash });
@@ -84,7 +92,7 @@ export function parseArgs(argv: readonly string[]): ArgsResult {
   if (issues.length || presetPath === undefined) return { ok: false, issues };
   if (spectrum && format !== 'json') issues.push({ path: '--spectrum', message: 'needs --json' });
   if (issues.length) return { ok: false, issues };
-  return { ok: true, args: { presetPath, format, ions, seed, spectrum, compareIdeal } };
+  return { ok: true, args: { presetPath, format, ions, seed, spectrum, compareIdeal, ...(report ? { report } : {}) } };
 }
 
 export interface CliIo {
@@ -135,7 +143,25 @@ export function main(argv: readonly string[], io: CliIo = processIo, options: Tu
     io.err(loaded.issues.map((i) => `${args.presetPath}: ${i.path}: ${i.message}`).join('\n') + '\n');
     return 2;
   }
-  const result = simulate(loaded.value, { ions: args.ions, seed: args.seed, withSpectrum: args.spectrum });
+  const result = simulate(loaded.value, { ions: args.ions, seed: args.seed, withSpectrum: args.spectrum || args.report !== undefined });
+  if (args.report !== undefined) {
+    const page = htmlReport({
+      preset: loaded.value,
+      report: result.report,
+      ions: result.report.ions,
+      seed: result.compiled.population.seed,
+      spectrum: result.analysis.spectrum && { time_ns: result.analysis.spectrum.time_ns, intensity: result.analysis.spectrum.intensity, label: 'simulated spectrum (digitizer samples)' },
+      date: new Date().toISOString(),
+      producedBy: 'CLI',
+    });
+    try {
+      if (io.writeFile) io.writeFile(args.report, page, false);
+      else writeFileSync(args.report, page, { flag: 'wx' });
+    } catch (err) {
+      io.err(`${args.report}: cannot write the report (${(err as NodeJS.ErrnoException).code ?? (err as Error).message}); an existing file is never replaced\n`);
+      return 2;
+    }
+  }
   const preset = loaded.value;
   const comparison = args.compareIdeal ? compareWithIdeal(preset, result.report, { ions: args.ions, seed: args.seed }) : null;
   if (args.format === 'json') {

@@ -37,7 +37,9 @@ describe('CLI', () => {
     const b = run(['presets/demo-reflectron-dual.json', '--json', '--ions', '1000']);
     expect(a.out).toBe(b.out);
     const table = run(['presets/demo-reflectron-single.json', '--ions', '500']);
-    expect(table.out).toContain('R (FWHM)');
+    expect(table.out).toContain('R (spectrum)');
+    expect(table.out).toContain('ideal-detector R');
+    expect(table.out).toContain('mass error/ppm');
     expect(table.out).toContain('Caution');
     const csv = run(['presets/demo-reflectron-single.json', '--csv', '--ions', '500']);
     expect(csv.out.split('\n')[0]).toContain('resolvingPower');

@@ -28,7 +28,9 @@ export const TUNING_USAGE = `Scans, auto-tune and merging shards:
   --write <file>    save the tuned preset (tune) or the scan / merged scan as JSON; never replaces
                     an existing file, the input included, unless --force is given
   --shard i/n       run share i of n (1-based) of a scan's points; join the outputs with merge
-  --ions N, --seed S  ions per point and the seed of every point`;
+  --ions N, --seed S  ions per point and the seed of every point
+  --ideal-r         rank by the ideal-detector R (ion arrival times only) instead of the R of the
+                    simulated spectrum peak (the default when the preset has "acquisition" settings)`;
 
 export type Format = 'table' | 'json' | 'csv';
 
@@ -57,6 +59,8 @@ export interface TuningArgs {
   readonly shard?: { readonly index: number; readonly count: number };
   readonly ions?: number;
   readonly seed?: number;
+  /** --ideal-r: rank by the ideal-detector R. */
+  readonly idealR?: boolean;
 }
 
 export type TuningArgsResult = { ok: true; args: TuningArgs } | { ok: false; issues: PresetIssue[]; help?: boolean };
@@ -130,6 +134,7 @@ export function parseTuningArgs(argv: readonly string[]): TuningArgsResult {
   let shard: { index: number; count: number } | undefined;
   let ions: number | undefined;
   let seed: number | undefined;
+  let idealR = false;
   const bad = (path: string, message: string): void => void issues.push({ path, message });
 
   for (let i = 0; i < rest.length; i++) {
@@ -162,6 +167,9 @@ export function parseTuningArgs(argv: readonly string[]): TuningArgsResult {
         break;
       case '--allow-worse':
         allowWorse = true;
+        break;
+      case '--ideal-r':
+        idealR = true;
         break;
       case '--scan': {
         const axis = parseScanAxis(value!);
@@ -261,6 +269,6 @@ export function parseTuningArgs(argv: readonly string[]): TuningArgsResult {
   if (issues.length) return { ok: false, issues };
   return {
     ok: true,
-    args: { mode, presetPath: merge ? undefined : files[0], files, format, axes, axisTexts, tune, objective, targetMz, range, minTransmission, write, force, allowWorse, shard, ions, seed },
+    args: { mode, presetPath: merge ? undefined : files[0], files, format, axes, axisTexts, tune, objective, targetMz, range, minTransmission, write, force, allowWorse, shard, ions, seed, idealR },
   };
 }

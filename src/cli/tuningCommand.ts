@@ -4,6 +4,7 @@
  * per core, the same scheduler and tasks as the app's Web Workers, so both give identical numbers.
  */
 import { existsSync, writeFileSync } from 'node:fs';
+import { withMethodRecord } from '../presets/methodRecord';
 import { resolve } from 'node:path';
 import { formatIssues, type PresetIssue } from '../presets/issues';
 import { parsePresetText, validatePreset } from '../presets/load';
@@ -19,7 +20,7 @@ import { checkTuneRequest, type TuneLabels } from '../tuning/tune';
 import { createThreadPoolClient, defaultThreadCount } from './threadPool';
 import { parseTuningArgs, TUNING_USAGE, type TuningArgs } from './tuningArgs';
 import { emptyShardWarning } from './shardWarning';
-import { formatScanCsv, formatScanTable, formatTuneTable } from './tuningFormat';
+import { describeObjective, formatScanCsv, formatScanTable, formatTuneTable } from './tuningFormat';
 
 export interface TuningIo {
   out(text: string): void;
@@ -135,6 +136,7 @@ async function runScan(args: TuningArgs, loaded: LoadedPreset, io: TuningIo, opt
     ions: args.ions,
     seed: args.seed,
     shard: args.shard,
+    ...(args.idealR ? { criterion: 'ideal' as const } : {}),
   };
   const labels: ScanLabels = { axis: (i) => `--scan ${args.axisTexts[i] ?? ''}`.trim(), objective: CLI_OBJECTIVE_LABELS, shard: '--shard', ions: '--ions', seed: '--seed' };
   const checked = checkScanRequest(request, labels);
@@ -172,7 +174,7 @@ function tuneParameters(args: TuningArgs, preset: Preset): TuneParameter[] {
 async function runTune(args: TuningArgs, loaded: LoadedPreset, io: TuningIo, options: TuningCliOptions): Promise<number> {
   const parameters = tuneParameters(args, loaded.preset);
   const objective = objectiveOf(args)!;
-  const request: TuneRequest = { preset: loaded.preset, parameters, objective, ions: args.ions, seed: args.seed, minTransmission: args.minTransmission, allowWorse: args.allowWorse };
+  const request: TuneRequest = { preset: loaded.preset, parameters, objective, ions: args.ions, seed: args.seed, minTransmission: args.minTransmission, allowWorse: args.allowWorse, ...(args.idealR ? { criterion: 'ideal' as const } : {}) };
   const labels: TuneLabels = {
     parameter: (i) => `--tune ${parameters[i]?.path ?? ''}`.trim(),
     objective: CLI_OBJECTIVE_LABELS,
@@ -197,11 +199,18 @@ async function runTune(args: TuningArgs, loaded: LoadedPreset, io: TuningIo, opt
     engine.close();
   }
   if (args.write) {
-    // Written values are rounded to a step of at most 1/1000 of their flatness interval: readable, and
-    // far inside the region where the objective stays within 10 % of its best.
-    // A kept preset is written with its own values, unrounded.
-    const rounded = result.recommendation === 'preset' ? result.best : result.best.map((x, i) => roundWithin(x, result.flatness[i].low, result.flatness[i].high, parameters[i]));
-    writeOut(args, io, tunedPresetText(loaded, parameters, rounded, result.tunedPreset));
+    // A saved method keeps every digit it was evaluated with (no rounding of the tuned values).
+    const entry = withMethodRecord(loaded.preset, {
+      kind: 'tune',
+      ions: args.ions ?? loaded.preset.run.ions,
+      seed: args.seed ?? loaded.preset.run.seed,
+      objective: describeObjective(objective),
+      criterion: result.criterion ?? 'ideal',
+      parameters: parameters.map((p, i) => ({ ...p, before: result.start[i], applied: result.best[i] })),
+      result: result.objective,
+      note: `auto-tune (CLI), ${result.evaluations} evaluations; start: ${(result.startSource ?? []).join('; ') || 'current settings'}`,
+    }).method!;
+    writeOut(args, io, tunedPresetText(loaded, parameters, result.best, { ...result.tunedPreset, method: entry }, entry));
   }
   const ions = args.ions ?? loaded.preset.run.ions;
   const seed = args.seed ?? loaded.preset.run.seed;
@@ -211,7 +220,7 @@ async function runTune(args: TuningArgs, loaded: LoadedPreset, io: TuningIo, opt
     const lines = ['path,start,tuned,flatLow,flatHigh,preset,recommendation', ...result.flatness.map((f, i) => [f.path, result.start[i], result.best[i], f.low, f.high, result.presetValues?.[i] ?? '', result.recommendation ?? ''].join(','))];
     io.out(lines.join('\n') + '\n');
   } else {
-    const saved = result.recommendation === 'preset' ? "the preset's own values" : 'tuned values rounded to 1/1000 of their interval';
+    const saved = result.recommendation === 'preset' ? "the preset's own values, at full precision" : 'tuned values at full precision';
     io.out(formatTuneTable(loaded.preset.name, ions, seed, objective, result) + (args.write ? `saved: ${args.write} (${saved})\n` : ''));
   }
   return 0;
@@ -230,7 +239,7 @@ export function roundWithin(x: number, low: number, high: number, bounds: { min:
  * The tuned preset as a file: the input document with only the tuned numbers changed (its layout and
  * omitted defaults kept), or the validated tuned preset if that document cannot take the values.
  */
-function tunedPresetText(loaded: LoadedPreset, parameters: readonly TuneParameter[], best: readonly number[], tunedPreset: Preset): string {
+function tunedPresetText(loaded: LoadedPreset, parameters: readonly TuneParameter[], best: readonly number[], tunedPreset: Preset, method: Preset['method']): string {
   const raw = JSON.parse(stripByteOrderMark(loaded.text)) as unknown;
   const paths = parameters.map((p) => p.path);
   if (paths.every((p) => numberAt(raw, p).ok)) {
@@ -243,6 +252,7 @@ function tunedPresetText(loaded: LoadedPreset, parameters: readonly TuneParamete
         for (let k = 0; k < keys.length - 1; k++) node = node[keys[k]] as Record<string | number, unknown>;
         node[keys[keys.length - 1]] = best[i];
       });
+      copy.method = method; // the method record: how these values were found
       return JSON.stringify(copy, null, 2) + '\n';
     }
   }

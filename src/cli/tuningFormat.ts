@@ -3,6 +3,7 @@ import { HV_CAUTION } from '../simulation/format';
 import type { Objective, ScanSpeciesPoint, TuneResult } from '../tuning/api';
 import type { ScanDocument } from '../tuning/scanDocument';
 import { describeFigure } from '../tuning/tuneVerdict';
+import { CRITERION_LABELS } from '../simulation/headline';
 
 const fmt = (x: number | null | undefined, digits: number): string => (x === null || x === undefined ? '—' : x.toFixed(digits));
 const fmtR = (x: number | null | undefined): string => (x === null || x === undefined ? '—' : x >= 1e6 ? x.toExponential(2) : Math.round(x).toString());
@@ -27,7 +28,7 @@ function table(header: string[], rows: string[][], leftColumns = 0): string[] {
 
 export function formatScanTable(doc: ScanDocument): string {
   const paths = doc.axes.map((a) => a.path);
-  const header = ['point', ...paths, 'm/z', 'flight time/ns', 'FWHM/ns', 'R (FWHM)', 'R (76% width)', 'transmission', ...(doc.objective ? ['objective'] : [])];
+  const header = ['point', ...paths, 'm/z', 'flight time/ns', 'FWHM/ns (ions)', 'R (spectrum)', 'ideal R (FWHM)', 'ideal R (76%)', 'transmission', ...(doc.objective ? ['objective'] : [])];
   const rows: string[][] = [];
   let best: { index: number; values: readonly number[]; value: number } | null = null;
   for (const p of doc.points) {
@@ -38,6 +39,7 @@ export function formatScanTable(doc: ScanDocument): string {
         s.mz.toFixed(4),
         fmt(s.flightTime_ns, 2),
         fmt(s.fwhm_ns, 3),
+        fmtR(s.spectrumResolvingPower),
         fmtR(s.resolvingPower),
         fmtR(s.resolvingPowerShortest),
         (s.transmission * 100).toFixed(1) + ' %',
@@ -52,7 +54,7 @@ export function formatScanTable(doc: ScanDocument): string {
   const shard = doc.shard ? `, shard ${doc.shard.index + 1}/${doc.shard.count} (${doc.points.length} points)` : '';
   const out = [
     `${doc.preset} — scan of ${paths.join(' × ')}: ${doc.totalPoints} points${shard}, ${doc.ions} ions per point, seed ${doc.seed} at every point`,
-    `objective: ${describeObjective(doc.objective)}`,
+    `objective: ${describeObjective(doc.objective)}${doc.objective ? `; R read: ${CRITERION_LABELS[doc.criterion ?? 'ideal']}` : ''}`,
     '',
     ...table(header, rows),
     '',
@@ -62,7 +64,7 @@ export function formatScanTable(doc: ScanDocument): string {
   return out.join('\n');
 }
 
-const CSV_SPECIES_KEYS: (keyof ScanSpeciesPoint)[] = ['mz', 'flightTime_ns', 'fwhm_ns', 'resolvingPower', 'transmission', 'sdFlightTime_ns', 'fwhmShortest_ns', 'resolvingPowerShortest'];
+const CSV_SPECIES_KEYS: (keyof ScanSpeciesPoint)[] = ['mz', 'flightTime_ns', 'fwhm_ns', 'resolvingPower', 'transmission', 'sdFlightTime_ns', 'fwhmShortest_ns', 'resolvingPowerShortest', 'spectrumFwhm_ns', 'spectrumResolvingPower'];
 
 /** One row per point and species (long format), the objective repeated on each of the point's rows. */
 export function formatScanCsv(doc: ScanDocument): string {
@@ -103,8 +105,9 @@ export function formatTuneTable(presetName: string, ions: number, seed: number, 
       ? [`WARNING: as asked (--allow-worse), the tuned setting is shown although it scores worse than the preset's own settings (${fmtObjective(objective, result.objective)} vs ${fmtObjective(objective, result.presetObjective ?? null)}).`]
       : [];
   const out = [
-    `${presetName} — tuned for ${objective.name}; ${ions} ions per evaluation, seed ${seed}`,
+    `${presetName} — tuned for ${describeObjective(objective)}; ${ions} ions per evaluation, seed ${seed}`,
     `figure optimised and reported: ${describeFigure(objective, measure)}`,
+    `R read: ${CRITERION_LABELS[result.criterion ?? 'ideal']}`,
     `start: ${result.startSource && result.startSource.length ? result.startSource.join('; ') : 'current settings (no published condition applies to these parameters)'}`,
     '',
     ...table(['parameter', 'preset', 'start', keptPreset ? 'recommended (preset)' : 'tuned', 'objective within 10 % of best over'], rows, 1),

@@ -139,6 +139,7 @@ export function compilePreset(preset: Preset): CompiledPreset {
     if (s.formula) {
       // Validated on load, so the chemistry resolves here.
       const chem = resolveChemistry({ formula: s.formula, adduct: s.adduct ?? 'protonated', charge: s.charge, polarity: preset.polarity });
+      if (chem.ok && s.isotopes === 'monoisotopic') return [{ label, mz: chem.value.monoisotopicMz, charge: s.charge, abundance: s.abundance, parent }];
       if (chem.ok) return isotopeBlocks(chem.value, label, s.abundance, s.charge, parent);
     }
     return [{ label, mz: s.mz, charge: s.charge, abundance: s.abundance, parent }];

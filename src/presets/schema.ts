@@ -6,6 +6,7 @@
  */
 import { z } from 'zod';
 import { rangeMessage } from './rangeWords';
+import { methodRecordSchema } from './methodRecordSchema';
 import { solvedMirrorSchema, solvedSourceSchema } from './fieldsSchema';
 import { tolerancesSchema } from './toleranceSchema';
 
@@ -197,6 +198,8 @@ const speciesSchema = z
     mz: ranged(LIMITS.mz, 'Th (m/z)').optional(),
     formula: z.string().min(1).max(500).optional(),
     adduct: z.string().min(1).max(40).optional(),
+    /** With a formula: trace the whole isotope envelope (default) or the monoisotopic peak alone. */
+    isotopes: z.enum(['envelope', 'monoisotopic']).optional(),
     charge: rangedInt(LIMITS.charge, '(charge state, sign from polarity)'),
     abundance: ranged(LIMITS.abundance, '(relative)').default(1),
   })
@@ -204,6 +207,7 @@ const speciesSchema = z
     if (s.formula === undefined) {
       if (s.adduct !== undefined) ctx.addIssue({ code: 'custom', path: ['formula'], message: 'is required with an adduct' });
       if (s.mz === undefined) ctx.addIssue({ code: 'custom', path: ['mz'], message: 'give either mz or a formula with an adduct' });
+      if (s.isotopes !== undefined) ctx.addIssue({ code: 'custom', path: ['isotopes'], message: 'applies to a species given by formula' });
     }
     // One key order whatever the input's, so that a preset saved and read back gives the same text;
     // a formula species' mz is filled in from its chemistry when the preset is loaded.
@@ -211,6 +215,7 @@ const speciesSchema = z
       ...(s.label === undefined ? {} : { label: s.label }),
       mz: s.mz ?? 0,
       ...(s.formula === undefined ? {} : { formula: s.formula, adduct: s.adduct ?? 'protonated' }),
+      ...(s.isotopes === undefined ? {} : { isotopes: s.isotopes }),
       charge: s.charge,
       abundance: s.abundance,
     };
@@ -321,6 +326,8 @@ export const presetSchema = z.strictObject({
   /** Instrument stability for the tolerance analysis (src/presets/toleranceSchema.ts). */
   tolerances: tolerancesSchema.optional(),
   run: runSchema,
+  /** How the settings were found: one entry per applied scan or tune. */
+  method: methodRecordSchema.optional(),
 });
 
 /** A validated preset, with defaults filled in. */

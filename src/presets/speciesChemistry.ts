@@ -40,30 +40,77 @@ export function resolveChemistry(fields: ChemistryFields): ChemistryOutcome {
   return outcome;
 }
 
-/** Ensemble blocks for a species given by formula: its isotopologue peaks, merged and thresholded. */
+/**
+ * Ensemble blocks for a species given by formula: its isotopologue peaks, close fine-structure peaks
+ * merged, and peaks below ISOTOPE_MIN_RELATIVE of the largest folded into the nearest traced peak of
+ * the same nominal shift (abundance-weighted m/z), so that every traced shift carries its exact total
+ * (the aggregated nominal group, which the fine-structure pruning does not bias) and its exact
+ * centroid. A shift with no traced peak is traced as one peak at its centroid if its total reaches
+ * the threshold, else it is left out (its share is then missing from the species' ions).
+ */
 export function isotopeBlocks(species: Species, label: string, abundance: number, charge: number, parent: number): SpeciesInfo[] {
-  const peaks = species.envelope;
+  return tracedIsotopePeaks(species).map((p) => ({
+    label: `${label} M+${p.shift}`,
+    mz: p.mz,
+    charge,
+    abundance: abundance * p.fraction,
+    parent,
+    isotopeShift: p.shift,
+    isotopeFraction: p.fraction,
+  }));
+}
+
+export interface TracedIsotopePeak {
+  readonly mz: number;
+  /** Fraction of the species' molecules this traced peak stands for (0..1). */
+  readonly fraction: number;
+  readonly shift: number;
+}
+
+/** The traced peaks of isotopeBlocks (sorted by m/z), with the totals and centroids described there. */
+export function tracedIsotopePeaks(species: Species): TracedIsotopePeak[] {
   const merged: { mz: number; fraction: number; shift: number }[] = [];
-  for (const p of peaks) {
+  for (const p of species.envelope) {
     const last = merged[merged.length - 1];
-    if (last && p.mz - last.mz <= ISOTOPE_MERGE_RELATIVE * p.mz) {
+    if (last && last.shift === p.shift && p.mz - last.mz <= ISOTOPE_MERGE_RELATIVE * p.mz) {
       const f = last.fraction + p.fraction;
       last.mz = (last.mz * last.fraction + p.mz * p.fraction) / f;
       last.fraction = f;
     } else merged.push({ mz: p.mz, fraction: p.fraction, shift: p.shift });
   }
   const largest = Math.max(...merged.map((p) => p.fraction));
-  return merged
-    .filter((p) => p.fraction >= ISOTOPE_MIN_RELATIVE * largest)
-    .map((p) => ({
-      label: `${label} M+${p.shift}`,
-      mz: p.mz,
-      charge,
-      abundance: abundance * p.fraction,
-      parent,
-      isotopeShift: p.shift,
-      isotopeFraction: p.fraction,
-    }));
+  const floor = ISOTOPE_MIN_RELATIVE * largest;
+  const out: TracedIsotopePeak[] = [];
+  const shifts = [...new Set(merged.map((p) => p.shift))].sort((a, b) => a - b);
+  for (const shift of shifts) {
+    const own = merged.filter((p) => p.shift === shift);
+    const group = species.nominalGroups.find((g) => g.shift === shift);
+    const fineTotal = own.reduce((a, p) => a + p.fraction, 0);
+    // The aggregated group total is exact; the fine peaks miss what the envelope's threshold pruned.
+    const total = group ? group.fraction : fineTotal;
+    if (total < floor) continue;
+    let kept = own.filter((p) => p.fraction >= floor).map((p) => ({ mz: p.mz * p.fraction, fraction: p.fraction, centre: p.mz }));
+    if (kept.length === 0) {
+      const centroid = own.reduce((a, p) => a + p.mz * p.fraction, 0) / fineTotal;
+      kept = [{ mz: centroid * fineTotal, fraction: fineTotal, centre: centroid }];
+    } else {
+      for (const p of own) {
+        if (p.fraction >= floor) continue;
+        let near = kept[0];
+        for (const k of kept) if (Math.abs(k.centre - p.mz) < Math.abs(near.centre - p.mz)) near = k;
+        near.mz += p.mz * p.fraction;
+        near.fraction += p.fraction;
+      }
+    }
+    const scale = total / fineTotal;
+    // The compositions the envelope pruned also move the shift's centroid (by ~1e-8 relative for a
+    // small ion's M+2): offset the shift's peaks together so their centroid is the group's exact one.
+    const fineCentroid = kept.reduce((a, k) => a + k.mz, 0) / fineTotal;
+    // (A lone composition, the monoisotopic one included, is exact already and keeps its m/z to the last bit.)
+    const offset = group && own.length > 1 ? group.mz - fineCentroid : 0;
+    for (const k of kept) out.push({ mz: k.mz / k.fraction + offset, fraction: k.fraction * scale, shift });
+  }
+  return out.sort((a, b) => a.mz - b.mz);
 }
 
 interface SpeciesLike {

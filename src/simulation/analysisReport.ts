@@ -5,7 +5,10 @@
  */
 import { fitCalibration, assessUnknowns, type CalibrationCoefficients } from '../analysis/calibration';
 import { analyseFocus, findSpaceFocusPlane, type FocusAnalysis } from '../analysis/focus';
-import { measurePeak, type Peak } from '../analysis/peaks';
+import { measurePeak, resolvingPowerFromWidth, type Peak } from '../analysis/peaks';
+import { effectivePulseSd_s, GAUSSIAN_FWHM_PER_SD } from '../analysis/detectorResponse';
+import { shotNoiseSmoothing, withoutSmoothing } from '../analysis/shotNoise';
+import { GAUSSIAN_FWHM_FRACTION } from '../analysis/arrivalStats';
 import { buildSpectrum, timeAxisToMz, type AcquisitionSettings, type Spectrum } from '../analysis/spectrum';
 import type { AnalyserModel } from '../physics/analyser';
 import { ATOMIC_MASS_CONSTANT_KG } from '../physics/constants';
@@ -24,6 +27,13 @@ export interface SpectrumPeakReport {
   readonly resolvingPower10pctValley: number | null;
   readonly height: number;
   readonly area: number;
+  /**
+   * Extra gaussian smoothing (sd, ns) the peak was measured with because too few ions were traced
+   * for a smooth peak top (0 with enough ions); the FWHM above is corrected for it in quadrature.
+   */
+  readonly shotNoiseSmoothing_ns: number;
+  /** True when too few ions were traced for the peak's FWHM to be measured to about 2 % (trace more ions). */
+  readonly shotNoiseLimited: boolean;
 }
 
 export interface CalibrationSection {
@@ -32,6 +42,10 @@ export interface CalibrationSection {
   readonly calibrantMz: number[];
   readonly residuals_ppm: number[];
   readonly rms_ppm: number;
+  /** Calibrants minus fitted coefficients; 0 means the law passes through every calibrant, so the residuals are zero by construction. */
+  readonly degreesOfFreedom: number;
+  /** A word for the reader when the residuals say nothing (no degree of freedom left), else null. */
+  readonly warning: string | null;
   /** Unknowns (every species that is not a calibrant): true m/z, calibrated m/z and error. */
   readonly unknowns: { readonly mz: number; readonly measuredMz: number | null; readonly error_ppm: number | null }[];
   /** Where the peak times came from. */
@@ -109,6 +123,46 @@ function tallestPeak(spectrum: Spectrum): Peak | null {
 
 const toNs = (s: number | null): number | null => (s === null ? null : s * 1e9);
 
+/** Detected ions in [from, to) and their robust arrival-time sd (shortest 76.1 % interval / 2.3548, the sd of a gaussian). */
+function ionSpread(trace: TraceResult, from: number, to: number): [number, number] {
+  let n = 0;
+  for (let i = from; i < to; i++) if (trace.fate[i] === Fate.DETECTED) n++;
+  if (n < 2) return [n, 0];
+  const t = new Float64Array(n);
+  for (let i = from, k = 0; i < to; i++) if (trace.fate[i] === Fate.DETECTED) t[k++] = trace.flightTime_s[i];
+  t.sort();
+  const inside = Math.max(1, Math.ceil(GAUSSIAN_FWHM_FRACTION * n) - 1);
+  let shortest = Infinity;
+  for (let i = 0; i + inside < n; i++) shortest = Math.min(shortest, t[i + inside] - t[i]);
+  return [n, Number.isFinite(shortest) ? shortest / GAUSSIAN_FWHM_PER_SD : 0];
+}
+
+/**
+ * The peak of the ions in [from, to) in their own simulated spectrum, measured about its tallest
+ * sample; with few ions, with the response widened against shot noise (see ../analysis/shotNoise.ts).
+ */
+export function measureSpeciesPeak(trace: TraceResult, from: number, to: number, own: AcquisitionSettings): SpectrumPeakReport | null {
+  // Few ions under a narrow pulse make a ragged peak top (see ../analysis/shotNoise.ts): widen the response then.
+  const smoothing = shotNoiseSmoothing(...ionSpread(trace, from, to), effectivePulseSd_s(own));
+  const smoothing_s = smoothing.sd_s;
+  const measured = smoothing_s > 0 ? { ...own, pulseFwhm_s: GAUSSIAN_FWHM_PER_SD * Math.hypot(own.pulseFwhm_s / GAUSSIAN_FWHM_PER_SD, smoothing_s) } : own;
+  const spec = buildSpectrum({ arrival_s: trace.flightTime_s, fate: trace.fate, weight: trace.weight, from, to }, measured);
+  const peak = spec.detectedIons > 0 ? tallestPeak(spec) : null;
+  const fwhm_s = peak && withoutSmoothing(peak.fwhm_s, GAUSSIAN_FWHM_PER_SD * smoothing_s);
+  // Full width at 5 % of a gaussian: 2·sqrt(2 ln 20)·sd.
+  const width5_s = peak && withoutSmoothing(peak.width5pct_s, 2 * Math.sqrt(2 * Math.log(20)) * smoothing_s);
+  return peak && {
+    centroid_ns: peak.centroid_s * 1e9,
+    fwhm_ns: toNs(fwhm_s),
+    resolvingPower: resolvingPowerFromWidth(peak.centroid_s, fwhm_s),
+    resolvingPower10pctValley: resolvingPowerFromWidth(peak.centroid_s, width5_s),
+    height: peak.height,
+    area: peak.area,
+    shotNoiseSmoothing_ns: smoothing_s * 1e9,
+    shotNoiseLimited: smoothing.limited,
+  };
+}
+
 export function buildAnalysisSections(
   preset: Preset,
   model: AnalyserModel,
@@ -116,7 +170,7 @@ export function buildAnalysisSections(
   ens: Ensemble,
   trace: TraceResult,
   meanFlightTime_s: readonly (number | null)[],
-  options: { readonly withSpectrum?: boolean } = {},
+  options: { readonly withSpectrum?: boolean; readonly peaksOnly?: boolean } = {},
 ): AnalysisSections {
   const settings = acquisitionSettings(preset, trace);
   const speciesPeaks: (SpectrumPeakReport | null)[] = ens.species.map(() => null);
@@ -126,18 +180,11 @@ export function buildAnalysisSections(
       const to = ens.speciesStart[s + 1];
       const own = acquisitionSettings(preset, trace, from, to);
       if (!own) continue; // no detected ion of this species
-      const spec = buildSpectrum({ arrival_s: trace.flightTime_s, fate: trace.fate, weight: trace.weight, from, to }, own);
-      const peak = spec.detectedIons > 0 ? tallestPeak(spec) : null;
-      speciesPeaks[s] = peak && {
-        centroid_ns: peak.centroid_s * 1e9,
-        fwhm_ns: toNs(peak.fwhm_s),
-        resolvingPower: peak.resolvingPowerFwhm,
-        resolvingPower10pctValley: peak.resolvingPower10pctValley,
-        height: peak.height,
-        area: peak.area,
-      };
+      speciesPeaks[s] = measureSpeciesPeak(trace, from, to, own);
     }
   }
+
+  if (options.peaksOnly) return { speciesPeaks, calibration: null, focus: null, spectrum: null };
 
   const peakTime_s = ens.species.map((_, s) => {
     const p = speciesPeaks[s];
@@ -193,9 +240,17 @@ function calibrate(
     calibrantMz: calibrants.map((x) => x.mz),
     residuals_ppm: fit.report.residuals_ppm,
     rms_ppm: fit.report.rms_ppm,
+    degreesOfFreedom: fit.report.degreesOfFreedom,
+    warning: calibrationWarning(fit.report.degreesOfFreedom, calibrants.length),
     unknowns: unknowns.map((u) => ({ mz: u.mz, measuredMz: u.measuredMz, error_ppm: u.error_ppm })),
     timesFrom,
   };
+}
+
+/** No degree of freedom left: the residuals are zero by construction and test nothing. */
+export function calibrationWarning(degreesOfFreedom: number, calibrants: number): string | null {
+  if (degreesOfFreedom > 0) return null;
+  return `no degree of freedom left: ${calibrants} calibrants for ${calibrants - degreesOfFreedom} coefficients, so the law passes through every calibrant and their residuals (0 ppm) test nothing; add a calibrant to see the fit's error`;
 }
 
 /** Reference start position, its spread, and the axial start energy and spread of the population. */

@@ -35,6 +35,12 @@ export interface SpeciesReport {
    * is), except ions/detected/transmission/fates, which count all its peaks. Empty for a species given by m/z.
    */
   readonly isotopePeaks: IsotopePeakReport[];
+  /**
+   * Per nominal isotope shift (M+0, M+1, ...) of a species given by formula: the summed fraction of
+   * its traced peaks (the shift's exact share of the molecules) and their abundance-weighted m/z.
+   * Empty for a species given by m/z.
+   */
+  readonly isotopeShiftTotals: IsotopeShiftTotal[];
   /** Index of the ensemble block (isotope peak) whose figures the species reports. */
   readonly mainBlock: number;
 }
@@ -49,6 +55,31 @@ export interface IsotopePeakReport {
   readonly fwhm_ns: number | null;
   readonly resolvingPower: number | null;
   readonly transmission: number;
+  /**
+   * Calibrated mass error of this peak, measured on its own ions' spectrum (so a neighbouring peak
+   * cannot pull it); null for a calibrant or without a calibration.
+   */
+  readonly massError_ppm: number | null;
+  /** One sd of that error from the ion count alone: 2·10^6·sd(t)/(t·sqrt(detected)) (m ∝ t²). */
+  readonly statisticalError_ppm: number | null;
+}
+
+export interface IsotopeShiftTotal {
+  readonly shift: number;
+  readonly abundance: number;
+  readonly mz: number;
+}
+
+/** Sums of the traced isotope peaks per nominal shift, in shift order. */
+export function shiftTotals(peaks: readonly { readonly shift: number; readonly abundance: number; readonly mz: number }[]): IsotopeShiftTotal[] {
+  const byShift = new Map<number, { abundance: number; weighted: number }>();
+  for (const p of peaks) {
+    const t = byShift.get(p.shift) ?? { abundance: 0, weighted: 0 };
+    t.abundance += p.abundance;
+    t.weighted += p.abundance * p.mz;
+    byShift.set(p.shift, t);
+  }
+  return [...byShift.entries()].sort((a, b) => a[0] - b[0]).map(([shift, t]) => ({ shift, abundance: t.abundance, mz: t.weighted / t.abundance }));
 }
 
 export interface RunReport {
@@ -69,6 +100,7 @@ export function attachAnalysis(report: RunReport, analysis: AnalysisSections): R
       ...s,
       peak: analysis.speciesPeaks[s.mainBlock] ?? null,
       massError_ppm: cal?.unknowns.find((u) => u.mz === s.mz)?.error_ppm ?? null,
+      isotopePeaks: s.isotopePeaks.map((p) => ({ ...p, massError_ppm: cal?.unknowns.find((u) => u.mz === p.mz)?.error_ppm ?? null })),
     })),
     calibration: analysis.calibration,
     focus: analysis.focus,
@@ -121,6 +153,7 @@ function blockReport(ens: Ensemble, trace: TraceResult, s: number): SpeciesRepor
     peak: null,
     massError_ppm: null,
     isotopePeaks: [],
+    isotopeShiftTotals: [],
     mainBlock: s,
   };
 }
@@ -148,6 +181,18 @@ export function buildReport(ens: Ensemble, trace: TraceResult): RunReport {
     const detected = blocks.reduce((a, b) => a + b.detected, 0);
     const from = ens.speciesStart[first];
     const to = ens.speciesStart[end];
+    const isotopePeaks = blocks.map((b, j) => ({
+      mz: b.mz,
+      abundance: ens.species[first + j].isotopeFraction ?? 0,
+      shift: ens.species[first + j].isotopeShift ?? 0,
+      flightTime_ns: b.flightTime_ns,
+      fwhm_ns: b.fwhm_ns,
+      resolvingPower: b.resolvingPower,
+      transmission: b.transmission,
+      massError_ppm: null,
+      statisticalError_ppm:
+        b.sdFlightTime_ns !== null && b.flightTime_ns !== null && b.detected > 1 ? (2e6 * b.sdFlightTime_ns) / (b.flightTime_ns * Math.sqrt(b.detected)) : null,
+    }));
     species.push({
       ...blocks[main],
       label: blocks[main].label.replace(/ M\+\d+$/, ''),
@@ -156,15 +201,8 @@ export function buildReport(ens: Ensemble, trace: TraceResult): RunReport {
       transmission: ions > 0 ? detected / ions : 0,
       fates: countFates(trace.fate, from, to),
       mainBlock: first + main,
-      isotopePeaks: blocks.map((b, j) => ({
-        mz: b.mz,
-        abundance: ens.species[first + j].isotopeFraction ?? 0,
-        shift: ens.species[first + j].isotopeShift ?? 0,
-        flightTime_ns: b.flightTime_ns,
-        fwhm_ns: b.fwhm_ns,
-        resolvingPower: b.resolvingPower,
-        transmission: b.transmission,
-      })),
+      isotopePeaks,
+      isotopeShiftTotals: shiftTotals(isotopePeaks),
     });
   }
   const fates = countFates(trace.fate);

@@ -21,9 +21,10 @@ export interface RunOptions {
   readonly withSpectrum?: boolean;
   /**
    * Build the measurement sections (simulated spectrum, peaks, calibration, focus); default true.
-   * Scans, tunes and quick previews that read only the ion statistics turn it off.
+   * Scans, tunes and quick previews that read only the ion statistics turn it off; 'peaks' builds
+   * only the per-species spectrum peaks (what a scan ranked by the measured R needs).
    */
-  readonly analysis?: boolean;
+  readonly analysis?: boolean | 'peaks';
 }
 
 export interface SimulationResult {
@@ -58,7 +59,7 @@ export function simulate(preset: Preset, options: RunOptions = {}): SimulationRe
           ensemble,
           trace,
           report.species.map((s) => (s.flightTime_ns === null ? null : s.flightTime_ns * 1e-9)),
-          { withSpectrum: options.withSpectrum },
+          { withSpectrum: options.withSpectrum, peaksOnly: options.analysis === 'peaks' },
         );
   return { compiled: { ...compiled, population }, ensemble, trace, report: attachAnalysis(report, analysis), analysis };
 }

@@ -5,6 +5,9 @@
  */
 import type { Preset } from '../presets/schema';
 import type { RunReport } from '../simulation/report';
+import type { ResolvingPowerCriterion } from '../simulation/headline';
+
+export type { ResolvingPowerCriterion } from '../simulation/headline';
 
 export interface RunRequest {
   readonly preset: Preset;
@@ -60,6 +63,11 @@ export interface ScanRequest {
   readonly seed?: number;
   /** Deterministic share of the points: shard i of n (0-based i). */
   readonly shard?: { readonly index: number; readonly count: number };
+  /**
+   * Which R the objective reads: 'spectrum' (the simulated spectrum peak, what the instrument would
+   * measure; the default when the preset has acquisition settings) or 'ideal' (ion arrival times only).
+   */
+  readonly criterion?: ResolvingPowerCriterion;
 }
 
 export interface ScanSpeciesPoint {
@@ -73,6 +81,9 @@ export interface ScanSpeciesPoint {
   readonly sdFlightTime_ns?: number | null;
   readonly fwhmShortest_ns?: number | null;
   readonly resolvingPowerShortest?: number | null;
+  /** FWHM and R of the species' peak in the simulated spectrum (with acquisition settings). */
+  readonly spectrumFwhm_ns?: number | null;
+  readonly spectrumResolvingPower?: number | null;
 }
 
 export interface ScanPoint {
@@ -92,6 +103,8 @@ export interface ScanResult {
   readonly seed?: number;
   readonly objective?: Objective | null;
   readonly shard?: { readonly index: number; readonly count: number } | null;
+  /** Which R the objective read (see ScanRequest.criterion). */
+  readonly criterion?: ResolvingPowerCriterion;
 }
 
 export interface TuneParameter {
@@ -129,6 +142,8 @@ export interface TuneRequest {
   readonly useAnalyticStart?: boolean;
   /** Return the search's best even when the preset's own settings score better (default false: keep the preset's). */
   readonly allowWorse?: boolean;
+  /** Which R the objective reads (see ScanRequest.criterion); 'spectrum' by default with acquisition settings. */
+  readonly criterion?: ResolvingPowerCriterion;
 }
 
 export interface TuneResult {
@@ -165,6 +180,8 @@ export interface TuneResult {
   readonly searchObjective?: number | null;
   /** True when `allowWorse` was asked and the result scores worse than the preset's own settings. */
   readonly worseThanPreset?: boolean;
+  /** Which R the objective read. */
+  readonly criterion?: ResolvingPowerCriterion;
 }
 
 export interface Progress {

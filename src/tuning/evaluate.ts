@@ -7,7 +7,7 @@
 import type { Preset } from '../presets/schema';
 import type { RunReport } from '../simulation/report';
 import { simulate } from '../simulation/run';
-import type { ScanPoint, ScanSpeciesPoint, WidthMeasure } from './api';
+import type { ResolvingPowerCriterion, ScanPoint, ScanSpeciesPoint, WidthMeasure } from './api';
 import { INFEASIBLE_COST, objectiveCost, reportedObjective, type ResolvedObjective } from './objective';
 import { withValues } from './paramPath';
 
@@ -19,6 +19,8 @@ export interface PointSettings {
   readonly objective: ResolvedObjective | null;
   readonly measure: WidthMeasure;
   readonly minTransmission?: number;
+  /** Which R the objective reads (resolved: never undefined here). */
+  readonly criterion: ResolvingPowerCriterion;
 }
 
 export interface Evaluation {
@@ -30,9 +32,11 @@ export interface Evaluation {
 export function evaluateAt(settings: PointSettings, values: readonly number[]): Evaluation {
   const modified = withValues(settings.preset, settings.paths, values);
   if (!modified.ok) return { report: null, cost: INFEASIBLE_COST * 3 };
-  // Objectives read only the ion statistics: skip the spectrum, calibration and focus sections.
-  const { report } = simulate(modified.value, { ions: settings.ions, seed: settings.seed, analysis: false });
-  const cost = settings.objective ? objectiveCost(settings.objective, report, settings.measure, settings.minTransmission) : 0;
+  // Objectives read the ion statistics and, with acquisition settings, the per-species spectrum
+  // peaks; the calibration and focus sections are skipped.
+  const analysis = modified.value.acquisition ? 'peaks' : false;
+  const { report } = simulate(modified.value, { ions: settings.ions, seed: settings.seed, analysis });
+  const cost = settings.objective ? objectiveCost(settings.objective, report, settings.measure, settings.minTransmission, settings.criterion) : 0;
   return { report, cost };
 }
 
@@ -47,6 +51,8 @@ export function speciesPoints(report: RunReport): ScanSpeciesPoint[] {
     sdFlightTime_ns: s.sdFlightTime_ns,
     fwhmShortest_ns: s.fwhmShortest_ns,
     resolvingPowerShortest: s.resolvingPowerShortest,
+    spectrumFwhm_ns: s.peak?.fwhm_ns ?? null,
+    spectrumResolvingPower: s.peak?.resolvingPower ?? null,
   }));
 }
 
@@ -59,7 +65,7 @@ export function scanPoint(settings: PointSettings, index: number, values: readon
       index,
       values: [...values],
       species: speciesPoints(report),
-      objective: settings.objective ? reportedObjective(settings.objective, report) : null,
+      objective: settings.objective ? reportedObjective(settings.objective, report, settings.criterion) : null,
     },
     cost,
   };

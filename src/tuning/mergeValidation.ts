@@ -43,6 +43,8 @@ const speciesSchema = z.strictObject({
   sdFlightTime_ns: nullableFinite.optional(),
   fwhmShortest_ns: nullableFinite.optional(),
   resolvingPowerShortest: nullableFinite.optional(),
+  spectrumFwhm_ns: nullableFinite.optional(),
+  spectrumResolvingPower: nullableFinite.optional(),
 });
 
 const pointSchema = z.strictObject({
@@ -70,6 +72,7 @@ export const scanDocumentSchema = z.strictObject({
   totalPoints: wholeNumber.min(1).max(MAX_SCAN_POINTS),
   shard: z.strictObject({ index: wholeNumber.min(0), count: wholeNumber.min(1) }).nullable(),
   points: z.array(pointSchema),
+  criterion: z.enum(['spectrum', 'ideal']).optional(),
 });
 
 export type ScanDocumentCheck = { ok: true; doc: ScanDocument } | { ok: false; issues: PresetIssue[] };

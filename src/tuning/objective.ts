@@ -5,7 +5,8 @@
  */
 import type { Preset } from '../presets/schema';
 import type { RunReport, SpeciesReport } from '../simulation/report';
-import type { Objective, ObjectiveName, WidthMeasure } from './api';
+import type { Objective, ObjectiveName, ResolvingPowerCriterion, WidthMeasure } from './api';
+import { CRITERIA } from '../simulation/headline';
 import { TuningInputError } from './errors';
 
 export const OBJECTIVE_NAMES: readonly ObjectiveName[] = ['max-r-at-mz', 'max-min-r-over-range', 'min-fwhm'];
@@ -74,12 +75,35 @@ export function resolveObjective(objective: Objective, preset: Preset, labels: O
   return { objective, species: [best], maximise: objective.name !== 'min-fwhm' };
 }
 
-/** The objective as reported: R (FWHM) at the target, the least R over the range, or the FWHM (ns). */
-export function reportedObjective(resolved: ResolvedObjective, report: RunReport): number | null {
-  if (resolved.objective.name === 'min-fwhm') return report.species[resolved.species[0]].fwhm_ns;
+/**
+ * The criterion a request reads: as given, else 'spectrum' when the preset has acquisition settings
+ * (the R an instrument would measure), else 'ideal'. Throws naming `label` when it cannot apply.
+ */
+export function resolveCriterion(preset: Preset, criterion: ResolvingPowerCriterion | undefined, label = 'criterion'): ResolvingPowerCriterion {
+  if (criterion === undefined) return preset.acquisition ? 'spectrum' : 'ideal';
+  if (!CRITERIA.includes(criterion)) throw new TuningInputError(label, `unknown criterion "${String(criterion)}" (choose ${CRITERIA.join(', ')})`);
+  if (criterion === 'spectrum' && !preset.acquisition) {
+    throw new TuningInputError(label, 'the spectrum R needs the preset\'s "acquisition" settings (detector and digitizer); use the ideal-detector R instead');
+  }
+  return criterion;
+}
+
+/** FWHM (ns) of a species by criterion: its spectrum peak's, or its ions' histogram FWHM. */
+function fwhmBy(s: SpeciesReport, criterion: ResolvingPowerCriterion): number | null {
+  return criterion === 'spectrum' ? (s.peak?.fwhm_ns ?? null) : s.fwhm_ns;
+}
+
+/** R (FWHM) of a species by criterion. */
+export function resolvingPowerByCriterion(s: SpeciesReport, criterion: ResolvingPowerCriterion): number | null {
+  return criterion === 'spectrum' ? (s.peak?.resolvingPower ?? null) : s.resolvingPower;
+}
+
+/** The objective as reported: R (FWHM) at the target, the least R over the range, or the FWHM (ns); by criterion. */
+export function reportedObjective(resolved: ResolvedObjective, report: RunReport, criterion: ResolvingPowerCriterion = 'ideal'): number | null {
+  if (resolved.objective.name === 'min-fwhm') return fwhmBy(report.species[resolved.species[0]], criterion);
   let least: number | null = null;
   for (const s of resolved.species) {
-    const r = report.species[s].resolvingPower;
+    const r = resolvingPowerByCriterion(report.species[s], criterion);
     if (r === null) return null;
     if (least === null || r < least) least = r;
   }
@@ -107,10 +131,23 @@ export function resolvingPowerBy(s: SpeciesReport, measure: WidthMeasure): numbe
  * detect nothing, or whose transmission is below `minTransmission`, cost more than any real point,
  * more so the further they are from feasible, so a search is led back.
  */
-export function objectiveCost(resolved: ResolvedObjective, report: RunReport, measure: WidthMeasure, minTransmission = 0): number {
+export function objectiveCost(
+  resolved: ResolvedObjective,
+  report: RunReport,
+  measure: WidthMeasure,
+  minTransmission = 0,
+  criterion: ResolvingPowerCriterion = 'ideal',
+): number {
   let worstTransmission = 1;
   for (const s of resolved.species) worstTransmission = Math.min(worstTransmission, report.species[s].transmission);
   if (worstTransmission < minTransmission) return INFEASIBLE_COST * (1 + (minTransmission - worstTransmission));
+  if (criterion === 'spectrum') {
+    // The spectrum is a sum of smooth single-ion pulses, so its peak width is smooth in the settings
+    // (with common random numbers) and needs no smoothed stand-in.
+    const value = reportedObjective(resolved, report, 'spectrum');
+    if (value === null || value <= 0) return INFEASIBLE_COST * 2;
+    return resolved.objective.name === 'min-fwhm' ? value : -value;
+  }
   if (resolved.objective.name === 'min-fwhm') {
     const s = report.species[resolved.species[0]];
     const w = widthOf(s, measure);

@@ -4,7 +4,7 @@
  */
 import type { Preset } from '../presets/schema';
 import type { Progress, ScanRequest, ScanResult } from './api';
-import { resolveObjective, type ObjectiveLabels, REQUEST_LABELS } from './objective';
+import { resolveCriterion, resolveObjective, type ObjectiveLabels, REQUEST_LABELS } from './objective';
 import { runInOrder, type TaskPool } from './pool';
 import { checkIons, checkSeed } from './requestChecks';
 import { checkShard, pointValues, resolveAxes, shardIndices, totalPoints, type ResolvedAxis } from './scanPlan';
@@ -36,6 +36,7 @@ export interface CheckedScan {
 export function checkScanRequest(request: ScanRequest, labels: ScanLabels = SCAN_REQUEST_LABELS): CheckedScan {
   const axes = resolveAxes(request.preset, request.axes, labels.axis);
   if (request.objective) resolveObjective(request.objective, request.preset, labels.objective);
+  resolveCriterion(request.preset, request.criterion);
   if (request.shard) checkShard(request.shard, labels.shard);
   checkIons(request.ions, labels.ions);
   checkSeed(request.seed, labels.seed);
@@ -62,6 +63,7 @@ export async function scanWith(pool: TaskPool, request: ScanRequest, onProgress?
       seed: request.seed,
       objective: request.objective ?? null,
       measure: 'fwhm',
+      criterion: resolveCriterion(preset, request.criterion),
       points: checked.indices.slice(i, i + size).map((index) => ({ index, values: pointValues(checked.axes, index) })),
     });
   }
@@ -81,5 +83,6 @@ export async function scanWith(pool: TaskPool, request: ScanRequest, onProgress?
     seed: request.seed ?? preset.run.seed,
     objective: request.objective ?? null,
     shard: request.shard ?? null,
+    criterion: resolveCriterion(preset, request.criterion),
   };
 }

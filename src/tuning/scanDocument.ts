@@ -4,7 +4,7 @@
  * seeds, ion counts, objectives or axes are refused instead of being joined.
  */
 import type { Preset } from '../presets/schema';
-import type { Objective, ScanAxis, ScanPoint, ScanResult } from './api';
+import type { Objective, ResolvingPowerCriterion, ScanAxis, ScanPoint, ScanResult } from './api';
 import { TuningInputError } from './errors';
 
 export const SCAN_FORMAT = 'tof-scan';
@@ -22,6 +22,8 @@ export interface ScanDocument {
   readonly totalPoints: number;
   readonly shard: { readonly index: number; readonly count: number } | null;
   readonly points: readonly ScanPoint[];
+  /** Which R the objective read (absent in files written before it was recorded: the ideal-detector R). */
+  readonly criterion?: ResolvingPowerCriterion;
 }
 
 /** FNV-1a (32-bit) of a text, as 8 hex digits: enough to tell presets apart, not a security measure. */
@@ -51,6 +53,7 @@ export function scanDocument(preset: Preset, result: ScanResult): ScanDocument {
     totalPoints: result.totalPoints,
     shard: result.shard ?? null,
     points: result.points,
+    criterion: result.criterion ?? 'ideal',
   };
 }
 
@@ -61,6 +64,7 @@ const sameScan = (a: ScanDocument, b: ScanDocument): string | null => {
   if (a.ions !== b.ions) return `a different ion count (${b.ions} vs ${a.ions})`;
   if (a.seed !== b.seed) return `a different seed (${b.seed} vs ${a.seed})`;
   if (JSON.stringify(a.objective) !== JSON.stringify(b.objective)) return 'a different objective';
+  if ((a.criterion ?? 'ideal') !== (b.criterion ?? 'ideal')) return `a different R criterion (${b.criterion ?? 'ideal'} vs ${a.criterion ?? 'ideal'})`;
   if (JSON.stringify(a.axes) !== JSON.stringify(b.axes) || a.totalPoints !== b.totalPoints) return 'different scan axes';
   return null;
 };

@@ -5,9 +5,9 @@
  * so results do not depend on which lane ran them or on how the work was split.
  */
 import type { Preset } from '../presets/schema';
-import type { Objective, ScanPoint, WidthMeasure } from './api';
+import type { Objective, ResolvingPowerCriterion, ScanPoint, WidthMeasure } from './api';
 import { evaluateAt, scanPoint, type PointSettings } from './evaluate';
-import { costQuality, resolveObjective } from './objective';
+import { costQuality, resolveCriterion, resolveObjective } from './objective';
 import { goldenSection, nelderMead } from './optimiser';
 import { evaluateTolerancePoints, type ToleranceTask, type ToleranceTaskResult } from '../tolerance/evaluate';
 
@@ -20,6 +20,8 @@ export interface TaskContext {
   readonly objective: Objective | null;
   readonly measure: WidthMeasure;
   readonly minTransmission?: number;
+  /** Which R the objective reads; resolved from the preset when absent (see resolveCriterion). */
+  readonly criterion?: ResolvingPowerCriterion;
 }
 
 export interface PointsTask extends TaskContext {
@@ -83,6 +85,7 @@ function settingsOf(task: TaskContext): PointSettings {
     objective: task.objective ? resolveObjective(task.objective, task.preset) : null,
     measure: task.measure,
     minTransmission: task.minTransmission,
+    criterion: resolveCriterion(task.preset, task.criterion),
   };
 }
 

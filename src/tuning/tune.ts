@@ -12,7 +12,7 @@
 import type { Progress, TuneParameter, TuneRequest, TuneResult } from './api';
 import { analyticStart } from './analyticStarts';
 import { TuningInputError } from './errors';
-import { costQuality, INFEASIBLE_COST, resolveObjective, REQUEST_LABELS, type ObjectiveLabels, type ResolvedObjective } from './objective';
+import { costQuality, INFEASIBLE_COST, resolveCriterion, resolveObjective, REQUEST_LABELS, type ObjectiveLabels, type ResolvedObjective } from './objective';
 import { haltonPoint } from './optimiser';
 import { withValues } from './paramPath';
 import { formatIssues } from '../presets/issues';
@@ -80,6 +80,7 @@ export function checkTuneRequest(request: TuneRequest, labels: TuneLabels = TUNE
   checkIons(request.ions, labels.ions);
   checkSeed(request.seed, labels.seed);
   checkMeasure(request.measure, labels.measure);
+  resolveCriterion(preset, request.criterion);
   const restarts = request.restarts;
   if (restarts !== undefined && !(Number.isInteger(restarts) && restarts >= 0 && restarts <= 64)) {
     throw new TuningInputError(labels.restarts, `must be a whole number from 0 to 64 (got ${restarts})`);
@@ -106,19 +107,20 @@ export async function optimiseWith(pool: TaskPool, request: TuneRequest, onProgr
   let evaluations = 0;
   const report = (message: string, done: number, total: number): void => onProgress?.({ done, total, message });
   const paths = parameters.map((p) => p.path);
+  const criterion = resolveCriterion(preset, request.criterion);
 
   // Without an explicit constraint, a tune may not buy width by losing ions (a narrow peak of a
   // few survivors): it must keep DEFAULT_TRANSMISSION_SHARE (99 %) of the transmission at the current settings.
   let minTransmission = request.minTransmission;
   if (minTransmission === undefined) {
-    const [now] = await runInOrder(lanes, [{ preset, paths, ions: request.ions, seed: request.seed, objective: null, measure, points: [{ index: 0, values: checked.current }] }], (lane, task) =>
+    const [now] = await runInOrder(lanes, [{ preset, paths, ions: request.ions, seed: request.seed, objective: null, measure, criterion, points: [{ index: 0, values: checked.current }] }], (lane, task) =>
       lane.evaluatePoints(task),
     );
     evaluations++;
     const species = now.points[0].species;
     minTransmission = DEFAULT_TRANSMISSION_SHARE * Math.min(...checked.objective.species.map((s) => species[s].transmission));
   }
-  const context: TaskContext = { preset, paths, ions: request.ions, seed: request.seed, objective: request.objective, measure, minTransmission };
+  const context: TaskContext = { preset, paths, ions: request.ions, seed: request.seed, objective: request.objective, measure, minTransmission, criterion };
 
   const start =
     request.useAnalyticStart === false
@@ -253,5 +255,6 @@ export async function optimiseWith(pool: TaskPool, request: TuneRequest, onProgr
     searchBest: searchX,
     searchObjective: figure(searchCost),
     worseThanPreset: verdict.worseThanPreset,
+    criterion,
   };
 }

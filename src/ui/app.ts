@@ -7,6 +7,8 @@
  * and `document.body.dataset.status` becomes 'done' once the last run is drawn.
  */
 import { HV_CAUTION } from '../simulation/format';
+import { htmlReport } from '../simulation/htmlReport';
+import { arrivalHistogram } from './results/arrivalHistogram';
 import { compilePreset } from '../presets/compile';
 import { validatePreset } from '../presets/load';
 import type { PresetIssue } from '../presets/issues';
@@ -201,8 +203,8 @@ export async function startApp(): Promise<void> {
     const renderStart = performance.now();
     const report = output.report;
     const colours = speciesColours(report.species.map((s) => s.mz));
-    const view = buildRunView(output, colours);
-    renderPeakTable(resultsTable, view.rows, view.calibrationNote);
+    const view = buildRunView(output, colours, job.preset.acquisition?.sampleInterval_ns ?? null);
+    renderPeakTable(resultsTable, view.rows, view.calibrationNote, view.calibrationFreedom);
     renderFates(byId('fate-list'), report.fates, report.ions);
     byId('run-summary').textContent = runSummary(report, output.elapsed_ms) + (job.kind === 'live' ? ' (quick preview)' : '');
     spectrum.setRun(view.spectrum);
@@ -384,6 +386,20 @@ export async function startApp(): Promise<void> {
     if (!shown) return;
     const doc = { preset: shown.job.preset, ions: shown.job.ions, elapsed_ms: shown.output.elapsed_ms, report: shown.output.report };
     downloadText(JSON.stringify(doc, null, 2) + '\n', `${base()}-results.json`, 'application/json');
+  });
+
+  byId('btn-report').addEventListener('click', () => {
+    if (!shown) return;
+    const page = htmlReport({
+      preset: shown.job.preset,
+      report: shown.output.report,
+      ions: shown.output.report.ions,
+      seed: shown.job.preset.run.seed,
+      spectrum: arrivalHistogram(shown.output, shown.job.preset.acquisition?.sampleInterval_ns ?? null),
+      date: new Date().toISOString(),
+      producedBy: 'app',
+    });
+    downloadText(page, `${base()}-report.html`, 'text/html');
   });
 
   // ---- 3D view controls -----------------------------------------------------------------------

@@ -20,8 +20,8 @@ function report(result: ReturnType<typeof fitCalibration>) {
 
 describe('noise-free calibration reproduces the law', () => {
   const truth: CalibrationCoefficients = { t0_s: 123.4 * NS, a_s_per_sqrtTh: A_TRUE, b_s_per_Th: 2.5e-12 };
-  const calibrantMz = [400.2, 757.4, 1046.5, 1570.7, 2465.2, 3147.6];
-  const unknownMz = [523.3, 1296.7, 2093.1, 3500.0, 900.123456];
+  const calibrantMz = [412.3, 745.6, 1058.6, 1602.8, 2508.3, 3204.9];
+  const unknownMz = [533.1, 1336.7, 1930.9, 3500.0, 900.123456];
 
   it('quadratic law: coefficients and the m/z of unknowns to ~1e-9 relative (< 1 ppm required)', () => {
     const cal = report(fitCalibration(calibrantMz.map((mz) => ({ mz, time_s: timeFromMz(mz, truth) })), { quadratic: true }));

@@ -227,10 +227,10 @@ describe('browser app', () => {
     const before = await resultRows(page);
     expect(before.length).toBeGreaterThan(0);
     // A voltage change superposes the solved unit fields: no new field solve, new results.
-    await setControl('back plate potential (V)', '5650');
+    await setControl('back plate potential (V)', '6100');
     const after = await resultRows(page);
     expect(after).not.toEqual(before);
-    // A species given by formula: its m/z comes from the chemistry (bradykinin [M+H]+, 1060.569 by our
+    // A species given by formula: its m/z comes from the chemistry (C50H73N15O11 [M+H]+, 1060.569 by our
     // AME 2020 masses) and the results follow.
     await setControl('formula (neutral; sets m/z)', 'C50H73N15O11');
     expect((await resultRows(page)).join('\n')).toMatch(/ 1060\.57 /);

@@ -102,7 +102,7 @@ describe('trajectory segments agree with the exact engine', () => {
 
   it('reflectron paths turn inside the mirror and come back down the return leg', () => {
     const { model } = compilePreset(loadPreset('demo-reflectron-dual'));
-    const plan = prepareExactPlan(createExactPlan(), model, 1296.6848);
+    const plan = prepareExactPlan(createExactPlan(), model, 1336.7008);
     const tr = traceTrajectory(createTrajectory(), plan, 0, 400);
     const regions = Array.from(tr.region.subarray(0, tr.count));
     expect(regions).toEqual([
@@ -179,7 +179,7 @@ describe('trajectory positions match a numerical integration of the equation of 
   for (const name of ['demo-linear-delayed', 'demo-reflectron-single', 'demo-reflectron-dual']) {
     it(name, () => {
       const { model } = compilePreset(loadPreset(name));
-      const mz = 2093.0862;
+      const mz = 1930.948;
       const plan = prepareExactPlan(createExactPlan(), model, mz);
       const v0 = 550;
       const tr = traceTrajectory(createTrajectory(), plan, 0, v0);

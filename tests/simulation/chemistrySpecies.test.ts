@@ -49,7 +49,7 @@ describe('species from formula', () => {
 
   it('a doubly protonated peptide and a deprotonated anion', () => {
     const pos = validatePreset(preset([{ formula: 'C50H73N15O11', adduct: '[M+2H]2+', charge: 2 }]));
-    expect(pos.ok && pos.value.ions.species[0].mz).toBeCloseTo(530.78795, 3); // bradykinin 2+ (from memory)
+    expect(pos.ok && pos.value.ions.species[0].mz).toBeCloseTo(530.78795, 3); // C50H73N15O11 [M+2H]2+ (from memory)
     const neg = validatePreset(preset([{ formula: 'C6H12O6', adduct: 'deprotonated', charge: 1 }], 'negative'));
     expect(neg.ok && neg.value.ions.species[0].mz).toBeCloseTo(179.05611, 4); // glucose [M−H]− (from memory)
   });

@@ -34,7 +34,7 @@ function harness(files: Record<string, string> = {}) {
   };
 }
 
-const SCAN = ['--scan', 'source.extraction.delay_ns=180:240:4', '--target-mz', '1296.6848', '--ions', '400'];
+const SCAN = ['--scan', 'source.extraction.delay_ns=180:240:4', '--target-mz', '1336.7008', '--ions', '400'];
 
 describe('scan subcommand', () => {
   it('prints a table, JSON or CSV with per-species figures and the objective', async () => {
@@ -49,11 +49,19 @@ describe('scan subcommand', () => {
     expect(doc.points.map((p: { values: number[] }) => p.values[0])).toEqual([180, 200, 220, 240]);
     for (const p of doc.points) {
       expect(p.species).toHaveLength(4);
-      expect(p.objective).toBe(p.species[1].resolvingPower); // the target is the second species
+      // The target is the second species; the demo has acquisition settings, so by default the
+      // objective is the R of its simulated spectrum peak.
+      expect(p.objective).toBe(p.species[1].spectrumResolvingPower);
       for (const key of ['flightTime_ns', 'fwhm_ns', 'resolvingPower', 'transmission']) expect(p.species[0]).toHaveProperty(key);
     }
+    expect(doc.criterion).toBe('spectrum');
+    const ideal = JSON.parse((await h.run([DEMO, ...SCAN, '--json', '--ideal-r'])).out);
+    expect(ideal.criterion).toBe('ideal');
+    for (const p of ideal.points) expect(p.objective).toBe(p.species[1].resolvingPower);
     const csv = (await h.run([DEMO, ...SCAN, '--csv'])).out.trim().split('\n');
-    expect(csv[0]).toBe('point,source.extraction.delay_ns,label,mz,flightTime_ns,fwhm_ns,resolvingPower,transmission,sdFlightTime_ns,fwhmShortest_ns,resolvingPowerShortest,objective');
+    expect(csv[0]).toBe(
+      'point,source.extraction.delay_ns,label,mz,flightTime_ns,fwhm_ns,resolvingPower,transmission,sdFlightTime_ns,fwhmShortest_ns,resolvingPowerShortest,spectrumFwhm_ns,spectrumResolvingPower,objective',
+    );
     expect(csv).toHaveLength(1 + 4 * 4);
   });
 
@@ -88,7 +96,7 @@ describe('scan subcommand', () => {
 });
 
 describe('tune subcommand', () => {
-  const TUNE = ['--tune', 'source.extraction.delay_ns=100:400', '--objective', 'max-r-at-mz', '--target-mz', '1296.6848', '--ions', '600'];
+  const TUNE = ['--tune', 'source.extraction.delay_ns=100:400', '--objective', 'max-r-at-mz', '--target-mz', '1336.7008', '--ions', '600'];
 
   it('prints the tuned values and writes a new preset, never over an existing file without --force', async () => {
     const h = harness();
@@ -102,13 +110,17 @@ describe('tune subcommand', () => {
     const tuned = parsePresetText(h.written.get('tuned.json')!);
     expect(tuned.ok).toBe(true);
     const json = JSON.parse((await h.run([DEMO, ...TUNE, '--json'])).out);
-    // The written value is the optimum rounded to 1/1000 of its flatness interval.
-    const flat = json.flatness[0].high - json.flatness[0].low;
-    if (tuned.ok && tuned.value.source.extraction.mode === 'delayed') expect(Math.abs(tuned.value.source.extraction.delay_ns - json.best[0])).toBeLessThanOrEqual(flat / 2000);
+    // The written value is the optimum itself, every digit (a saved method keeps what it was run with).
+    if (tuned.ok && tuned.value.source.extraction.mode === 'delayed') expect(tuned.value.source.extraction.delay_ns).toBe(json.best[0]);
     // Everything else in the file is as it was.
     const before = JSON.parse(readFileSync(DEMO, 'utf8'));
     const after = JSON.parse(h.written.get('tuned.json')!);
     after.source.extraction.delay_ns = before.source.extraction.delay_ns;
+    // ... except the method record saying how the value was found.
+    expect(after.method.records).toHaveLength(1);
+    expect(after.method.records[0]).toMatchObject({ kind: 'tune', criterion: 'spectrum', seed: 1, ions: 600, result: json.objective });
+    expect(after.method.records[0].parameters[0]).toMatchObject({ path: 'source.extraction.delay_ns', min: 100, max: 400, applied: json.best[0] });
+    delete after.method;
     expect(after).toEqual(before);
 
     const again = await h.run([DEMO, ...TUNE, '--write', 'tuned.json']);
@@ -143,10 +155,10 @@ describe('tune subcommand', () => {
       [[DEMO, '--scan', 'source.extraction.delay_ns=0:10:0'], /steps must be a whole number of points ≥ 1 \(got 0\)/],
       [[DEMO, '--scan', 'source.extraction.delay_ns=0:10'], /^--scan: expected <from>:<to>:<steps>/],
       [[DEMO, '--scan', 'source.extraction.delay_ns=0:10:3', '--objective', 'min-fwhm'], /^--target-mz: is required by --objective min-fwhm/],
-      [[DEMO, '--tune', 'mirror.backPlate_V=1:2', '--target-mz', '1296.68'], /^--tune mirror\.backPlate_V: mirror\.backPlate_V does not exist/],
+      [[DEMO, '--tune', 'mirror.backPlate_V=1:2', '--target-mz', '1336.70'], /^--tune mirror\.backPlate_V: mirror\.backPlate_V does not exist/],
       [[DEMO, '--tune', 'source.extraction.delay_ns=0:100', '--objective', 'max-min-r-over-range'], /^--range: is required by --objective max-min-r-over-range/],
       [[DEMO, '--tune', 'source.extraction.delay_ns=0:100'], /^--objective: is required with --tune/],
-      [[DEMO, '--tune', 'drift.potential_V', '--target-mz', '1296.68'], /no default range: give bounds as drift\.potential_V=<min>:<max>/],
+      [[DEMO, '--tune', 'drift.potential_V', '--target-mz', '1336.70'], /no default range: give bounds as drift\.potential_V=<min>:<max>/],
       [[DEMO, '--scan', 'source.extraction.delay_ns=0:10:3', '--shard', '0/3'], /^--shard: expected i\/n with 1 ≤ i ≤ n/],
       [['merge'], /^merge: give the scan files to merge/],
       [['merge', DEMO], /is not a scan file/],

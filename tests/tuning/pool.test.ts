@@ -26,7 +26,7 @@ const scan2d: ScanRequest = {
     { path: 'source.extraction.delay_ns', from: 150, to: 250, steps: 4 },
     { path: 'source.repeller.potential_V', values: [19800, 20000, 20200] },
   ],
-  objective: { name: 'max-r-at-mz', targetMz: 1296.6848 },
+  objective: { name: 'max-r-at-mz', targetMz: 1336.7008 },
   ions: 1200,
 };
 

@@ -39,7 +39,7 @@ describe('drawing stand-ins for integrated parts', () => {
   it('the stand-in turns ions where the harmonic field does and keeps them about half a period (textbook oscillator)', () => {
     const { model } = harmonicSetup(30_000, 400);
     const d = drawableModel(model);
-    const mz = 1296.6848;
+    const mz = 1336.7008;
     const tr = traceTrajectory(createTrajectory(), prepareExactPlan(createExactPlan(), d.model, mz), 0, 0);
     expect(tr.fate).toBe(Fate.DETECTED);
     const regions = Array.from(tr.region.subarray(0, tr.count));

@@ -169,10 +169,19 @@ describe('parameter panel fields', () => {
     const [formula, adduct, mz, charge] = ['species0_formula', 'species0_adduct', 'species0_mz', 'species0_charge'].map((key) =>
       speciesFields(0).find((f) => f.key === key),
     ) as [TextField, TextField, NumberField, NumberField];
+    // The demo species are given by formula: clearing it keeps the computed m/z (and the calibrant mark).
+    const demoMz = getAt(doc, 'ions.species[0].mz');
+    expect(adduct.visible!(doc)).toBe(true);
+    formula.set(doc, '');
+    expect(getAt(doc, 'ions.species[0].mz')).toBe(demoMz);
+    expect(getAt(doc, 'ions.species[0].isotopes')).toBeUndefined();
+    expect(validatePreset(doc).ok).toBe(true);
+    mz.set(doc, 1046);
+    expect(getAt(doc, 'analysis.calibrantMz[0]')).toBe(1046);
     expect(adduct.visible!(doc)).toBe(false);
     expect(mz.visible!(doc)).toBe(true);
-    // Angiotensin II, C50H71N13O12; [M+H]+ monoisotopic m/z 1046.5418 (the peptide demo's value, from
-    // our AME 2020 masses, which tests/ions check against the isotopic-distribution package).
+    // A decapeptide formula, C50H71N13O12; [M+H]+ monoisotopic m/z 1046.5418 (from our AME 2020
+    // masses, which tests/ions check against the isotopic-distribution package).
     formula.set(doc, ' C50H71N13O12 ');
     expect(getAt(doc, 'ions.species[0].formula')).toBe('C50H71N13O12');
     expect(getAt(doc, 'ions.species[0].adduct')).toBe('protonated');
@@ -232,7 +241,7 @@ describe('parameter panel fields', () => {
 
   it('adds species 10 % heavier than the last', () => {
     const next = nextSpecies(demoPreset('demo-linear-delayed'));
-    expect(next.mz).toBeCloseTo(2465.1989 * 1.1, 3);
+    expect(next.mz).toBeCloseTo(2508.29938 * 1.1, 3); // the last demo species, valquorin-22 (invented)
     expect(next.charge).toBe(1);
   });
 });

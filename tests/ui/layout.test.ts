@@ -36,7 +36,7 @@ describe('3D layout', () => {
     expect(mirrorPenetration_m(model, back_V + 1_000) * 1e3).toBeCloseTo(350, 9); // passes through
     // The exact trajectory of a real ion agrees: it starts near the repeller at rest after the delay.
     const repeller_V = preset.source.repeller.potential_V;
-    const plan = prepareExactPlan(createExactPlan(), model, 1296.6848);
+    const plan = prepareExactPlan(createExactPlan(), model, 1336.7008);
     const tr = traceTrajectory(createTrajectory(), plan, 0, 400);
     const turn = Array.from(tr.region.subarray(0, tr.count)).indexOf(Region.MIRROR_OUT);
     const depth = (tr.x0_m[turn] - 0.013 - 0.7) * 1e3;

@@ -3,6 +3,7 @@ import { emptyFateCounts } from '../../src/physics/fates';
 import type { SpeciesReport } from '../../src/simulation/report';
 import { csvField, PEAK_CSV_COLUMNS, peakTableCsv } from '../../src/ui/results/peakCsv';
 import type { PeakRow } from '../../src/ui/results/runView';
+import { headlineFigures } from '../../src/simulation/headline';
 
 /** A small RFC 4180 reader (quoted fields, doubled quotes, CRLF), independent of the writer. */
 function parseCsv(text: string): string[][] {
@@ -54,7 +55,7 @@ function row(label: string, mz: number, over: Partial<SpeciesReport> = {}, extra
     massError_ppm: null,
     ...over,
   } as SpeciesReport;
-  return { species, colour: '#fff', flightTime_us: 20.565, fwhm_ns: 3.18, resolvingPower: 3238.4, spectrumResolvingPower: null, transmission: 0.9, massError_ppm: 1.5, calibrant: false, ...extra };
+  return { species, colour: '#fff', flightTime_us: 20.565, fwhm_ns: 3.18, resolvingPower: 3238.4, spectrumResolvingPower: null, transmission: 0.9, massError_ppm: 1.5, calibrant: false, headline: headlineFigures(species, null), ...extra };
 }
 
 describe('peak table CSV', () => {
@@ -69,12 +70,12 @@ describe('peak table CSV', () => {
   });
 
   it('round-trips labels with commas, quotes and line breaks, and full-precision numbers', () => {
-    const rows = [row('angiotensin II [M+H]+, "heavy"\nbatch 2', 1046.5418), row('ACTH 18-39', 2465.1989, { resolvingPower: null }, { calibrant: true, massError_ppm: null })];
+    const rows = [row('kelvatide-10 [M+H]+, "heavy"\nbatch 2', 1058.5629), row('valquorin-22', 2508.2994, { resolvingPower: null }, { calibrant: true, massError_ppm: null })];
     const parsed = parseCsv(peakTableCsv(rows));
     expect(parsed[0]).toEqual([...PEAK_CSV_COLUMNS]);
     expect(parsed).toHaveLength(3);
     const col = (name: string): number => parsed[0].indexOf(name);
-    expect(parsed[1][col('label')]).toBe('angiotensin II [M+H]+, "heavy"\nbatch 2');
+    expect(parsed[1][col('label')]).toBe('kelvatide-10 [M+H]+, "heavy"\nbatch 2');
     expect(Number(parsed[1][col('flightTime_ns')])).toBe(20565.123456789);
     expect(parsed[1][col('massError_ppm')]).toBe('1.5');
     expect(parsed[1][col('lost_struckRepeller')]).toBe('10');

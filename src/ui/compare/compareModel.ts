@@ -4,6 +4,7 @@
  */
 import type { Preset } from '../../presets/schema';
 import type { RunReport, SpeciesReport } from '../../simulation/report';
+import { headlineFigures } from '../../simulation/headline';
 
 /** Same source, ions and run; linear ↔ reflectron. A linear setup gets the given mirror and drift; a reflectron one flies the same total path straight. */
 export function otherMode(preset: Preset, reflectronTemplate: Preset): Preset {
@@ -34,18 +35,23 @@ export interface SpeciesDiff {
 
 const sameMz = (x: number, y: number): boolean => Math.abs(x - y) <= 1e-6 * Math.max(x, y);
 
-/** One row per species of A, then the species only B has; matched by m/z and charge. */
-export function diffSpecies(a: RunReport, b: RunReport): SpeciesDiff[] {
+/**
+ * One row per species of A, then the species only B has; matched by m/z and charge. R and FWHM are
+ * the headline figures: the spectrum peak's where a sample interval is given (the setup has acquisition settings).
+ */
+export function diffSpecies(a: RunReport, b: RunReport, sampleA_ns: number | null = null, sampleB_ns: number | null = null): SpeciesDiff[] {
   const used = new Set<number>();
   const rows: SpeciesDiff[] = [];
   const row = (sa: SpeciesReport | null, sb: SpeciesReport | null): SpeciesDiff => {
     const any = (sa ?? sb)!;
     const ta = sa?.flightTime_ns ?? null;
     const tb = sb?.flightTime_ns ?? null;
-    const ra = sa?.resolvingPower ?? null;
-    const rb = sb?.resolvingPower ?? null;
-    const wa = sa?.fwhm_ns ?? null;
-    const wb = sb?.fwhm_ns ?? null;
+    const ha = sa && headlineFigures(sa, sampleA_ns);
+    const hb = sb && headlineFigures(sb, sampleB_ns);
+    const ra = ha?.resolvingPower ?? null;
+    const rb = hb?.resolvingPower ?? null;
+    const wa = ha?.fwhm_ns ?? null;
+    const wb = hb?.fwhm_ns ?? null;
     return {
       label: any.label,
       mz: any.mz,
@@ -77,8 +83,9 @@ export interface RunFigures {
   readonly lastArrival_us: number | null;
 }
 
-export function runFigures(report: RunReport): RunFigures {
-  const rs = report.species.map((s) => s.resolvingPower).filter((r): r is number => r !== null);
+/** Summary of a run; best/worst R are the headline figures (spectrum peak when `sampleInterval_ns` is given, see ../../simulation/headline). */
+export function runFigures(report: RunReport, sampleInterval_ns: number | null = null): RunFigures {
+  const rs = report.species.map((s) => headlineFigures(s, sampleInterval_ns).resolvingPower).filter((r): r is number => r !== null);
   const ts = report.species.map((s) => s.flightTime_ns).filter((t): t is number => t !== null);
   return {
     detectedFraction: report.ions > 0 ? report.detected / report.ions : 0,

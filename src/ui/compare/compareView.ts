@@ -17,6 +17,8 @@ import { demo, demos, type Demo } from '../presets/demos';
 import { buildRunView } from '../results/runView';
 import { speciesColours } from '../colors';
 import { describeSetup, diffSpecies, otherMode, runFigures } from './compareModel';
+import { applyReflectronTune, reflectronTuneRequest, switchMode } from '../../tuning/modeSwitch';
+import { headlineFigures } from '../../simulation/headline';
 
 const COLOUR_A = '#4cc3b2';
 const COLOUR_B = '#e9a03b';
@@ -46,7 +48,13 @@ export class CompareView {
     const options: HTMLOptionElement[] = [
       // Solved fields vs the ideal grids they replace: the comparison such a setup is made for.
       ...(solved ? [el('option', { value: 'ideal-grids', text: 'This setup with ideal grids in place of its solved electrodes' })] : []),
-      el('option', { value: 'other-mode', text: working.mirror.type === 'none' ? 'This setup in reflectron mode (dual-stage mirror)' : 'This setup in linear mode (same total path)' }),
+      el('option', {
+        value: 'other-mode',
+        text: working.mirror.type === 'none' ? 'This setup in reflectron mode (dual-stage mirror, mirror and delay tuned)' : 'This setup in linear mode (same total path)',
+      }),
+      ...(working.mirror.type === 'none'
+        ? [el('option', { value: 'other-mode-untuned', text: 'This setup in reflectron mode, UNTUNED (template mirror potentials, linear delay)' })]
+        : []),
       el('option', { value: 'snapshot', text: 'This setup as it is now (frozen, to compare later edits)' }),
       ...demos().map((d) => el('option', { value: `demo:${d.id}`, text: `Demo: ${d.preset.name.replace(/^Demo: /, '')}` })),
     ];
@@ -67,17 +75,53 @@ export class CompareView {
       const ideal = idealGridEquivalent(structuredClone(working));
       return { ...ideal, name: `${working.name} — ideal grids`.slice(0, 120) };
     }
+    if (choice === 'other-mode' && working.mirror.type === 'none') return this.tunedReflectron(working);
     if (choice === 'other-mode') return otherMode(working, demo('dual'));
+    if (choice === 'other-mode-untuned') {
+      const sw = switchMode(working, demo('dual'));
+      this.showChanges(['UNTUNED: the template mirror potentials and the linear delay, kept as they were (for comparison only)', sw.changes[0]]);
+      return sw.untuned;
+    }
     if (choice === 'snapshot') return this.snapshot ?? (this.snapshot = structuredClone(working));
     if (choice.startsWith('demo:')) return demo(choice.slice(5) as Demo['id']);
     if (choice.startsWith('record:') && this.app.store) return (await this.app.store.get(choice.slice(7)))?.preset ?? null;
     return null;
   }
 
+  /** Linear → reflectron: Mamyrin second-order start, then mirror potentials and delay tuned together in the tuning workers. */
+  private async tunedReflectron(working: Preset): Promise<Preset | null> {
+    const sw = switchMode(working, demo('dual'));
+    const request = reflectronTuneRequest(sw);
+    if (!request) {
+      this.showChanges(sw.changes);
+      return sw.preset;
+    }
+    this.status.textContent = 'Tuning the mirror and delay of setup B…';
+    const result = await this.app.tuningEngine.optimise(request, (p) => {
+      this.status.textContent = `Tuning the mirror and delay of setup B: ${p.message ?? ''} ${p.done}/${p.total}`;
+    });
+    const tuned = applyReflectronTune(working, sw, request, result);
+    this.showChanges(['Setup B is this setup switched to reflectron mode; changed:', ...tuned.changes]);
+    return tuned.preset;
+  }
+
+  private showChanges(lines: readonly string[]): void {
+    byId('compare-changes').replaceChildren(...lines.map((text) => el('li', { text })));
+  }
+
   async compare(): Promise<void> {
     const generation = ++this.generation;
+    this.showChanges([]);
     const a = structuredClone(this.app.working());
-    const b = await this.setupB();
+    let b: Preset | null;
+    try {
+      b = await this.setupB();
+    } catch (err) {
+      this.status.textContent = `Setup B could not be prepared: ${(err as Error).message}`;
+      document.body.dataset.compare = 'error';
+      return;
+    }
+    if (generation !== this.generation) return;
     if (!b) {
       this.status.textContent = 'Setup B could not be read.';
       return;
@@ -105,7 +149,9 @@ export class CompareView {
   private render(a: Preset, runA: RunOutput, b: Preset, runB: RunOutput): void {
     byId('compare-a').replaceChildren(...this.card('A', COLOUR_A, a, runA));
     byId('compare-b').replaceChildren(...this.card('B', COLOUR_B, b, runB));
-    const rows = diffSpecies(runA.report, runB.report);
+    const sampleA = a.acquisition?.sampleInterval_ns ?? null;
+    const sampleB = b.acquisition?.sampleInterval_ns ?? null;
+    const rows = diffSpecies(runA.report, runB.report, sampleA, sampleB);
     const body = (byId('compare-diff') as HTMLTableElement).tBodies[0];
     const cls = (x: number | null, goodWhenPositive: boolean): string => (x === null || x === 0 ? '' : x > 0 === goodWhenPositive ? 'better' : 'worse');
     body.replaceChildren(
@@ -116,19 +162,19 @@ export class CompareView {
           el('th', { scope: 'row', text: r.label }),
           el('td', { text: fixed(r.flightTimeA_us, 3) }),
           el('td', { text: fixed(r.flightTimeB_us, 3) }),
-          el('td', { text: formatR(r.a?.resolvingPower) }),
-          el('td', { text: formatR(r.b?.resolvingPower) }),
+          el('td', { text: formatR(r.a ? headlineFigures(r.a, sampleA).resolvingPower : null) }),
+          el('td', { text: formatR(r.b ? headlineFigures(r.b, sampleB).resolvingPower : null) }),
           el('td', { text: r.resolvingPowerRatio === null ? '—' : `${r.resolvingPowerRatio.toFixed(2)}×`, className: cls(r.resolvingPowerRatio === null ? null : r.resolvingPowerRatio - 1, true) }),
           el('td', { text: signed(r.fwhmDifference_ns, 2), className: cls(r.fwhmDifference_ns, false) }),
           el('td', { text: r.transmissionDifference === null ? '—' : signed(r.transmissionDifference * 100, 1) + ' %', className: cls(r.transmissionDifference, true) }),
         ),
       ),
     );
-    this.drawOverlay(runA, runB);
+    this.drawOverlay(runA, runB, Math.min(sampleA ?? Infinity, sampleB ?? Infinity));
   }
 
   private card(tag: 'A' | 'B', colour: string, preset: Preset, run: RunOutput): Node[] {
-    const f = runFigures(run.report);
+    const f = runFigures(run.report, preset.acquisition?.sampleInterval_ns ?? null);
     const dl = el(
       'dl',
       {},
@@ -136,7 +182,7 @@ export class CompareView {
       el('dd', { text: describeSetup(preset) }),
       el('dt', { text: 'detected' }),
       el('dd', { text: percent(f.detectedFraction) }),
-      el('dt', { text: 'R (FWHM), best / worst' }),
+      el('dt', { text: preset.acquisition ? 'R (spectrum peak FWHM), best / worst' : 'R (ideal detector), best / worst' }),
       el('dd', { text: `${formatR(f.bestR)} / ${formatR(f.worstR)}` }),
       el('dt', { text: 'arrivals' }),
       el('dd', { text: `${fixed(f.firstArrival_us, 3)} – ${fixed(f.lastArrival_us, 3)} µs` }),
@@ -146,14 +192,16 @@ export class CompareView {
     return [head, dl];
   }
 
-  private drawOverlay(runA: RunOutput, runB: RunOutput): void {
+  private drawOverlay(runA: RunOutput, runB: RunOutput, sampleInterval_ns: number): void {
     const viewA = buildRunView(runA, speciesColours(runA.report.species.map((s) => s.mz)));
     const viewB = buildRunView(runB, speciesColours(runB.report.species.map((s) => s.mz)));
     const ea = detectedExtent(viewA.spectrum.mz, runA.fate, Fate.DETECTED);
     const eb = detectedExtent(viewB.spectrum.mz, runB.fate, Fate.DETECTED);
     const extent: [number, number] | null = ea && eb ? [Math.min(ea[0], eb[0]), Math.max(ea[1], eb[1])] : (ea ?? eb);
     if (!extent) return;
-    const range = paddedRange(extent, binsForWidth(this.chartHost.clientWidth || 600));
+    // Bins one digitizer sample wide at the lightest ion (Δm = 2m·Δt/t), so peak widths show when zoomed.
+    const bins = compareBins(extent, runA, runB, sampleInterval_ns) ?? binsForWidth(this.chartHost.clientWidth || 600);
+    const range = paddedRange(extent, bins);
     const x = binCentres(range, new Float64Array(range.bins));
     const count = (values: Float64Array, fate: Uint8Array): Float64Array => {
       const c = accumulate(values, fate, Fate.DETECTED, 0, values.length, range, new Float64Array(range.bins));
@@ -183,4 +231,19 @@ export class CompareView {
     );
     fitChart(this.chartHost, this.chart);
   }
+}
+
+/** Most bins of the overlay (a 2 MiB column each). */
+const MAX_COMPARE_BINS = 1 << 18;
+
+/** Bins of one digitizer sample at the lightest detected ion over the m/z extent; null without a sample interval. */
+export function compareBins(extent: [number, number], runA: RunOutput, runB: RunOutput, sampleInterval_ns: number): number | null {
+  if (!Number.isFinite(sampleInterval_ns) || !(sampleInterval_ns > 0)) return null;
+  let first = Infinity;
+  for (const run of [runA, runB]) {
+    for (const s of run.report.species) if (s.flightTime_ns !== null && s.mz === Math.min(...run.report.species.map((x) => x.mz))) first = Math.min(first, s.flightTime_ns);
+  }
+  if (!Number.isFinite(first)) return null;
+  const width_Th = (2 * extent[0] * sampleInterval_ns) / first;
+  return Math.max(16, Math.min(MAX_COMPARE_BINS, Math.ceil((extent[1] - extent[0]) / width_Th)));
 }

@@ -620,6 +620,7 @@ export function speciesFields(i: number): FieldSpec[] {
         } else {
           deleteAt(doc, `${base}.formula`);
           deleteAt(doc, `${base}.adduct`);
+          deleteAt(doc, `${base}.isotopes`);
         }
       },
     },

@@ -4,8 +4,15 @@ import type { RunReport } from '../../simulation/report';
 import { el } from '../dom';
 import { fixed, formatCount, formatR, percent, signed } from '../format';
 import type { PeakRow } from './runView';
+import { formatIdealResolvingPower } from '../../simulation/headline';
 
-export function renderPeakTable(table: HTMLTableElement, rows: readonly PeakRow[], calibrationNote: string): void {
+/** A calibrant's residual says nothing when no degree of freedom is left: show that instead of "+0.0". */
+export function massErrorText(r: PeakRow, calibrationFreedom: number): string {
+  if (r.calibrant && calibrationFreedom <= 0) return 'cal. (no d.o.f.)';
+  return signed(r.massError_ppm, 1) + (r.calibrant && r.massError_ppm !== null ? ' (cal.)' : '');
+}
+
+export function renderPeakTable(table: HTMLTableElement, rows: readonly PeakRow[], calibrationNote: string, calibrationFreedom = 1): void {
   const body = table.tBodies[0];
   body.replaceChildren(
     ...rows.map((r) =>
@@ -15,11 +22,15 @@ export function renderPeakTable(table: HTMLTableElement, rows: readonly PeakRow[
         el('th', { scope: 'row' }, el('span', { className: 'swatch', 'data-colour': r.colour }), r.species.label),
         el('td', { text: r.species.mz.toFixed(2), title: String(r.species.mz) }),
         el('td', { text: fixed(r.flightTime_us, 3) }),
-        el('td', { text: fixed(r.fwhm_ns, 2) }),
-        el('td', { className: 'r-value', text: formatR(r.resolvingPower) }),
-        el('td', { text: formatR(r.spectrumResolvingPower), title: 'FWHM resolving power of the peak in the simulated spectrum (detector response, jitter, sampling)' }),
+        el('td', { text: fixed(r.headline.fwhm_ns, 2) }),
+        el('td', {
+          className: 'r-value',
+          text: formatR(r.headline.resolvingPower),
+          title: r.headline.source === 'spectrum' ? 'R of the simulated spectrum peak (FWHM)' : 'no acquisition settings: R from the ions\' arrival times (ideal detector)',
+        }),
+        el('td', { text: formatIdealResolvingPower(r.headline), title: 'ideal-detector limit: R from the ions\' arrival times alone' }),
         el('td', { text: percent(r.transmission) }),
-        el('td', { text: signed(r.massError_ppm, 1) + (r.calibrant && r.massError_ppm !== null ? ' (cal.)' : ''), title: calibrationNote }),
+        el('td', { text: massErrorText(r, calibrationFreedom), title: calibrationNote }),
       ),
     ),
   );

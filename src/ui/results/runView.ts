@@ -8,6 +8,7 @@ import { fitCalibration, mzFromTime, type CalibrationCoefficients } from '../../
 import { Fate } from '../../physics/fates';
 import type { RunOutput } from '../../tuning/api';
 import type { SpeciesReport } from '../../simulation/report';
+import { headlineFigures, type HeadlineFigures } from '../../simulation/headline';
 import type { SpectrumPeak, SpectrumRun } from '../charts/spectrumChart';
 
 export interface PeakRow {
@@ -23,6 +24,8 @@ export interface PeakRow {
   readonly massError_ppm: number | null;
   /** The species is a calibrant of the run's calibration (its error is a fit residual). */
   readonly calibrant: boolean;
+  /** Headline (spectrum peak) and ideal-detector figures, as every table shows them. */
+  readonly headline: HeadlineFigures;
 }
 
 export interface RunView {
@@ -75,8 +78,11 @@ function runCalibration(report: RunOutput['report']): {
       coefficients: { t0_s: c.t0_ns * 1e-9, a_s_per_sqrtTh: c.a_ns_per_sqrtTh * 1e-9, b_s_per_Th: c.b_ns_per_Th * 1e-9 },
       errors,
       calibrant,
-      freedom: section.calibrantMz.length - (section.law.includes('b·') ? 3 : 2),
-      note: `calibration ${section.law} on m/z ${section.calibrantMz.map((m) => m.toFixed(1)).join(', ')} (${section.timesFrom}); calibrant rows show the fit residual`,
+      freedom: section.degreesOfFreedom,
+      note:
+        `calibration ${section.law} on m/z ${section.calibrantMz.map((m) => m.toFixed(1)).join(', ')} (${section.timesFrom}), ` +
+        `${section.degreesOfFreedom} degree${section.degreesOfFreedom === 1 ? '' : 's'} of freedom; ` +
+        (section.warning ?? 'calibrant rows show the fit residual'),
     };
   }
   const own = calibrate(report.species);
@@ -89,7 +95,7 @@ function runCalibration(report: RunOutput['report']): {
   };
 }
 
-export function buildRunView(output: RunOutput, colours: readonly string[]): RunView {
+export function buildRunView(output: RunOutput, colours: readonly string[], sampleInterval_ns: number | null = null): RunView {
   const { report } = output;
   const cal = runCalibration(report);
   const n = output.flightTime_s.length;
@@ -111,6 +117,7 @@ export function buildRunView(output: RunOutput, colours: readonly string[]): Run
     transmission: s.transmission,
     massError_ppm: cal.errors[i] ?? null,
     calibrant: cal.calibrant[i] ?? false,
+    headline: headlineFigures(s, sampleInterval_ns),
   }));
   const peaks: SpectrumPeak[] = report.species.map((s) => {
     const t = s.flightTime_ns;

@@ -4,11 +4,14 @@
  * terminates the worker at once, and "apply" buttons that load the result as the working setup.
  */
 import uPlot from 'uplot';
+import { CRITERION_LABELS } from '../../simulation/headline';
 import { validatePreset } from '../../presets/load';
 import { formatIssues } from '../../presets/issues';
 import type { Preset } from '../../presets/schema';
 import type { Objective, ObjectiveName, ScanResult, TuneResult } from '../../tuning/api';
 import { tuneSummary, tuneSummaryNodes } from './tuneSummary';
+import { withMethodRecord } from '../../presets/methodRecord';
+import { describeObjective } from '../../cli/tuningFormat';
 import type { AppContext } from '../appContext';
 import { axis, chartSize, fitChart, followSize } from '../charts/theme';
 import { byId, el, toast } from '../dom';
@@ -76,6 +79,8 @@ export class TuningView {
   private chart: uPlot | null = null;
   private scanResult: { result: ScanResult; path: string; label: string; base: Preset; targetMz: number } | null = null;
   private tuneResult: TuneResult | null = null;
+  /** What the last tune was asked, for the method record written when it is applied. */
+  private tuneRequest: { parameters: { path: string; min: number; max: number }[]; objective: Objective; ions: number; seed: number } | null = null;
   private busy: 'scan' | 'tune' | null = null;
 
   constructor(private readonly app: AppContext) {
@@ -94,6 +99,7 @@ export class TuningView {
     this.scanApply.addEventListener('click', () => this.applyBestScanPoint());
     this.tuneApply.addEventListener('click', () => this.applyTuned());
     for (const radio of document.querySelectorAll<HTMLInputElement>('input[name="scan-y"]')) radio.addEventListener('change', () => this.drawScan());
+    byId<HTMLInputElement>('scan-log').addEventListener('change', () => this.drawScan());
     this.tuneObjective.addEventListener('change', () => (this.tuneSpecies.disabled = this.tuneObjective.value === 'max-min-r-over-range'));
   }
 
@@ -178,7 +184,13 @@ export class TuningView {
     const started = performance.now();
     try {
       const result = await this.app.tuningEngine.scan(
-        { preset: base, axes: [{ path, from, to, steps }], objective: { name: 'max-r-at-mz', targetMz }, ions },
+        {
+          preset: base,
+          axes: [{ path, from, to, steps }],
+          objective: { name: 'max-r-at-mz', targetMz },
+          ions,
+          ...(byId<HTMLInputElement>('scan-ideal').checked || !base.acquisition ? { criterion: 'ideal' as const } : {}),
+        },
         (p) => {
           this.scanProgress.value = p.total > 0 ? p.done / p.total : 0;
           this.scanStatus.textContent = `Scanning ${label}: ${p.done} of ${p.total} points${p.message ? ` (${p.message})` : ''}`;
@@ -209,6 +221,9 @@ export class TuningView {
     const scan = this.scanResult;
     if (!scan) return;
     const showR = (document.querySelector<HTMLInputElement>('input[name="scan-y"]:checked')?.value ?? 'r') === 'r';
+    const log = byId<HTMLInputElement>('scan-log').checked;
+    const criterion = scan.result.criterion ?? 'ideal';
+    const figure = showR ? CRITERION_LABELS[criterion] : 'mean flight time (µs)';
     const points = [...scan.result.points].sort((a, b) => a.values[0] - b.values[0]);
     const species = points[0]?.species ?? [];
     const colours = this.app.speciesColours();
@@ -218,20 +233,31 @@ export class TuningView {
     species.forEach((s, i) => {
       ys.push(points.map((p) => {
         const sp = p.species[i];
-        const v = showR ? sp?.resolvingPower : sp?.flightTime_ns;
-        return v === null || v === undefined ? null : showR ? v : v / 1000;
+        const v = showR ? (criterion === 'spectrum' ? sp?.spectrumResolvingPower : sp?.resolvingPower) : sp?.flightTime_ns;
+        // A log axis has no place for zero or negative values: those points become gaps.
+        return v === null || v === undefined || (log && !(v > 0)) ? null : showR ? v : v / 1000;
       }));
-      series.push({ label: s.label ?? `m/z ${s.mz}`, stroke: colours[i] ?? '#8fd0ff', width: 1.5, points: { show: true, size: 4 } });
+      series.push({
+        label: s.label ?? `m/z ${s.mz}`,
+        stroke: colours[i] ?? '#8fd0ff',
+        width: 1.5,
+        points: { show: true, size: 4 },
+        value: (_u, v) => (v === null || v === undefined ? '—' : showR ? formatR(v) : v.toFixed(4)),
+      });
     });
     const data = [x, ...ys] as uPlot.AlignedData;
     this.chart?.destroy();
     this.chart = new uPlot(
       {
         ...chartSize(this.chartHost),
-        scales: { x: { time: false } },
-        axes: [axis(scan.label), axis(showR ? 'R (FWHM)' : 'flight time (µs)', { size: 56 })],
+        scales: { x: { time: false }, y: log ? { distr: 3, log: 10 } : { auto: true } },
+        axes: [
+          axis(scan.label),
+          axis(figure, { size: 62, values: (_u, ticks) => ticks.map((v) => (showR ? formatR(v) : v.toPrecision(6))) }),
+        ],
         series,
-        legend: { live: false },
+        // Live legend: the hover read-out of every curve at the cursor's scan value.
+        legend: { live: true },
       },
       data,
       this.chartHost,
@@ -250,8 +276,19 @@ export class TuningView {
       toast(`Could not apply: ${formatIssues(checked.issues)}`);
       return;
     }
-    this.app.loadSetup(checked.value, { recordId: this.app.recordId(), state: 'dirty' });
-    toast(`Applied ${scan.label} = ${best.value} (R ${formatR(best.objective)} for m/z ${scan.targetMz}).`);
+    const point = scan.result.points.find((p) => p.values[0] === best.value);
+    const recorded = withMethodRecord(checked.value, {
+      kind: 'scan',
+      ions: scan.result.ions ?? scan.base.run.ions,
+      seed: scan.result.seed ?? scan.base.run.seed,
+      objective: describeObjective(scan.result.objective),
+      criterion: scan.result.criterion ?? 'ideal',
+      parameters: [{ path: scan.path, min: scan.result.axes[0].from ?? best.value, max: scan.result.axes[0].to ?? best.value, before: getAt(scan.base, scan.path) as number, applied: best.value }],
+      result: point?.objective ?? null,
+      note: `best of ${scan.result.points.length} scan points`,
+    });
+    this.app.loadSetup(recorded, { recordId: this.app.recordId(), state: 'dirty' });
+    toast(`Applied ${scan.label} = ${best.value} (${CRITERION_LABELS[scan.result.criterion ?? 'ideal']} ${formatR(best.objective)} for m/z ${scan.targetMz}).`);
   }
 
   private async startTune(): Promise<void> {
@@ -299,6 +336,7 @@ export class TuningView {
         },
       );
       this.tuneResult = result;
+      this.tuneRequest = { parameters: parameters.map(({ path, min, max }) => ({ path, min, max })), objective, ions: ions >= 100 ? ions : preset.run.ions, seed: preset.run.seed };
       this.tuneProgress.value = 1;
       this.renderTune(result, parameters, objective);
       this.tuneApply.disabled = result.recommendation === 'preset'; // nothing to apply when the preset's own settings are kept
@@ -321,7 +359,20 @@ export class TuningView {
       toast(`Could not apply: ${formatIssues(checked.issues)}`);
       return;
     }
-    this.app.loadSetup(checked.value, { recordId: this.app.recordId(), state: 'dirty' });
+    const asked = this.tuneRequest;
+    const recorded = asked
+      ? withMethodRecord(checked.value, {
+          kind: 'tune',
+          ions: asked.ions,
+          seed: asked.seed,
+          objective: describeObjective(asked.objective),
+          criterion: result.criterion ?? 'ideal',
+          parameters: asked.parameters.map((p, i) => ({ ...p, before: getAt(this.app.working(), p.path) as number, applied: result.best[i] })),
+          result: result.objective,
+          note: `auto-tune, ${result.evaluations} evaluations; start: ${(result.startSource ?? []).join('; ') || 'current settings'}`,
+        })
+      : checked.value;
+    this.app.loadSetup(recorded, { recordId: this.app.recordId(), state: 'dirty' });
     toast('Applied the tuned values.');
   }
 }

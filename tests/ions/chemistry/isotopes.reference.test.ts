@@ -54,7 +54,7 @@ interface Case {
 const CASES: readonly Case[] = [
   { name: 'glucose (neutral)', formula: 'C6H12O6', charge: 0, mf: 'C6H12O6' },
   { name: 'glucose [M+Na]+', formula: 'C6H12O6Na', charge: 1, mf: 'C6H12O6Na(+)' },
-  { name: 'bradykinin [M+H]+', formula: 'C50H74N15O11', charge: 1, mf: 'C50H74N15O11(+)' },
+  { name: 'nonapeptide C50H73N15O11 [M+H]+', formula: 'C50H74N15O11', charge: 1, mf: 'C50H74N15O11(+)' },
   { name: 'cystine [M-H]- (sulfur-rich)', formula: 'C6H11N2O4S2', charge: -1, mf: 'C6H11N2O4S2(-)', twoAtomsOfAnElement: true },
   { name: 'thiram [M+H]+ (sulfur-rich)', formula: 'C6H13N2S4', charge: 1, mf: 'C6H13N2S4(+)' },
   { name: 'S8 (all sulfur)', formula: 'S8', charge: 0, mf: 'S8' },

@@ -83,7 +83,7 @@ describe('monoisotopic m/z, hand-computed from AME 2020 and CODATA 2018', () => 
     expect(Math.abs(mz - 195.08765)).toBeLessThan(5e-6);
   });
 
-  it('bradykinin C50H73N15O11 [M+H]+ and [M+2H]2+', () => {
+  it('the nonapeptide formula C50H73N15O11 [M+H]+ and [M+2H]2+', () => {
     const neutral = 50 * M.C12 + 73 * M.H1 + 15 * M.N14 + 11 * M.O16;
     const mz = ionMz('C50H73N15O11', 'protonated');
     expect(mz).toBeCloseTo(neutral + M.H1 - ELECTRON_U, 8);
