@@ -11,8 +11,8 @@
  * N − Σ_{j=i−d}^{i−1} c_j trials, d the dead time in bins; of those, c_i saw at least one ion, so
  * the mean ions per trial is λ_i = −ln(1 − c_i/alive_i) and the corrected count is N·λ_i
  * (T. Stephan, J. Zehnpfenning & A. Benninghoven, J. Vac. Sci. Technol. A 12 (1994) 405;
- * formula written from memory). It assumes τ is a whole number of bins and at most one count per
- * bin and trial (τ ≥ one bin); with τ shorter than a bin, d = 0 and only the pile-up within a bin is undone.
+ * formula written from memory). It assumes at most one count per bin and trial (τ ≥ one bin);
+ * with τ shorter than a bin only the pile-up within a bin is undone.
  */
 
 /**
@@ -34,30 +34,45 @@ export function countNonParalysable(time_s: Float64Array, order: Int32Array, fro
   return n;
 }
 
-/** Dead-time span in whole bins for the correction. */
-export function deadTimeBins(deadTime_s: number, binWidth_s: number): number {
-  return Math.max(0, Math.round(deadTime_s / binWidth_s));
+/**
+ * Mean fraction of bin i = j + k that an event in bin j blocks, the event uniform within its bin
+ * and τ = D bins: ∫₀¹ clamp(D − k + u, 0, 1) du.
+ */
+export function blockedFraction(deadBins: number, k: number): number {
+  const x = deadBins - k;
+  if (x >= 1) return 1;
+  if (x <= -1) return 0;
+  return x >= 0 ? 0.5 + x - 0.5 * x * x : 0.5 * (1 + x) * (1 + x);
 }
 
 /**
- * The Poisson dead-time correction of an accumulated counting histogram (see the header). A bin
- * in which every live trial counted (c_i ≥ alive_i) cannot be corrected: it is left at the
- * largest finite value, −N·ln(1/(alive_i + 1)), and counted in `saturatedBins`.
+ * The Poisson dead-time correction of an accumulated counting histogram (see the header), with
+ * `deadBins` = τ/bin width (not necessarily whole). The published form takes the d = τ/bin
+ * preceding bins as wholly dead; here the one or two bins at the end of the dead time count with
+ * the mean fraction of them an event blocks (blockedFraction), which removes the over-correction
+ * the whole-bin form shows when τ is comparable with the peak width. A bin in which every live
+ * trial counted (c_i ≥ alive_i) cannot be corrected: it is given −N·ln(1/(alive_i + 1)) and
+ * counted in `saturatedBins`.
  */
 export function correctDeadTime(counts: Float64Array, trials: number, deadBins: number, out = new Float64Array(counts.length)): { corrected: Float64Array; saturatedBins: number } {
-  let window = 0; // Σ of the previous deadBins counts
+  // Bins 1..full back are wholly dead; bins full+1 .. last back partly.
+  const full = deadBins >= 1 ? Math.floor(deadBins - 1) : 0;
+  const last = Math.ceil(deadBins + 1) - 1;
+  let window = 0; // Σ of counts[i−full .. i−1]
   let saturated = 0;
   for (let i = 0; i < counts.length; i++) {
-    const alive = trials - window;
+    let dead = window;
+    for (let k = full + 1; k <= last; k++) if (i - k >= 0) dead += blockedFraction(deadBins, k) * counts[i - k];
+    const alive = trials - dead;
     const c = counts[i];
     if (c <= 0) out[i] = 0;
     else if (c >= alive) {
       saturated++;
-      out[i] = trials * Math.log(alive + 1);
+      out[i] = trials * Math.log(Math.max(alive, 0) + 1);
     } else out[i] = -trials * Math.log1p(-c / alive);
-    if (deadBins > 0) {
+    if (full > 0) {
       window += c;
-      if (i - deadBins >= 0) window -= counts[i - deadBins];
+      if (i - full >= 0) window -= counts[i - full];
     }
   }
   return { corrected: out, saturatedBins: saturated };

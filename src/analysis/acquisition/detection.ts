@@ -23,7 +23,7 @@ import { Fate } from '../../physics/fates';
 import { depositGaussianPulse, effectivePulseSd_s, PULSE_REACH_SD, triggerOffsets_s } from '../detectorResponse';
 import { measurePeak } from '../peaks';
 import { recordSampleCount, type AcquisitionSettings } from '../spectrum';
-import { correctDeadTime, countNonParalysable, deadTimeBins } from './deadTime';
+import { correctDeadTime, countNonParalysable } from './deadTime';
 import { detectionProbability, type DetectionYieldLaw } from './detectionYield';
 import { sampleGain } from './randomLaws';
 import type { ShotPartition } from './shots';
@@ -244,7 +244,7 @@ export function simulateDetection(input: DetectionInput, config: DetectionConfig
       }
     }
     if (c.correction) {
-      const result = correctDeadTime(measured, trials, deadTimeBins(c.deadTime_s, dt));
+      const result = correctDeadTime(measured, trials, c.deadTime_s / dt);
       corrected = result.corrected;
       saturatedBins = result.saturatedBins;
     }
