@@ -12,6 +12,7 @@ import { isTuningCommand, runTuningCommand, type TuningCliOptions } from './cli/
 import { TUNING_USAGE } from './cli/tuningArgs';
 import type { SpectrumSection } from './simulation/analysisReport';
 import { compareWithIdeal, formatIdealComparison } from './simulation/idealComparison';
+import { applyIonLoadArgs, formatIonLoad, ION_LOAD_USAGE, takeIonLoadArg, type IonLoadArgs } from './cli/ionLoadArgs';
 
 export const USAGE = `Usage: npm run sim -- <preset.json> [--json | --csv] [--ions N] [--seed S]
 
@@ -23,6 +24,7 @@ export const USAGE = `Usage: npm run sim -- <preset.json> [--json | --csv] [--io
   --spectrum      with --json: add the simulated spectrum (time_ns, intensity, mz arrays; needs "acquisition")
   --compare-ideal also run the same instrument with ideal grids in place of solved fields and print both
                   (flight time, FWHM, R, transmission; in --json as "idealComparison")
+${ION_LOAD_USAGE}
   --help          show this text
 
 ${TUNING_USAGE}`;
@@ -34,6 +36,7 @@ export interface CliArgs {
   compareIdeal?: boolean;
   ions?: number;
   seed?: number;
+  ionLoad?: IonLoadArgs;
 }
 
 export type ArgsResult = { ok: true; args: CliArgs } | { ok: false; issues: PresetIssue[]; help?: boolean };
@@ -46,7 +49,13 @@ export function parseArgs(argv: readonly string[]): ArgsResult {
   let seed: number | undefined;
   let spectrum = false;
   let compareIdeal = false;
+  const ionLoad: IonLoadArgs = {};
   for (let i = 0; i < argv.length; i++) {
+    const used = takeIonLoadArg(argv, i, ionLoad, issues);
+    if (used > 0) {
+      i += used - 1;
+      continue;
+    }
     const arg = argv[i];
     if (arg === '--help' || arg === '-h') return { ok: false, issues: [], help: true };
     if (arg === '--spectrum') {
@@ -75,7 +84,7 @@ export function parseArgs(argv: readonly string[]): ArgsResult {
   if (issues.length || presetPath === undefined) return { ok: false, issues };
   if (spectrum && format !== 'json') issues.push({ path: '--spectrum', message: 'needs --json' });
   if (issues.length) return { ok: false, issues };
-  return { ok: true, args: { presetPath, format, ions, seed, spectrum, compareIdeal } };
+  return { ok: true, args: { presetPath, format, ions, seed, spectrum, compareIdeal, ionLoad } };
 }
 
 export interface CliIo {
@@ -124,8 +133,13 @@ export function main(argv: readonly string[], io: CliIo = processIo, options: Tu
     io.err(loaded.issues.map((i) => `${args.presetPath}: ${i.path}: ${i.message}`).join('\n') + '\n');
     return 2;
   }
-  const result = simulate(loaded.value, { ions: args.ions, seed: args.seed, withSpectrum: args.spectrum });
-  const preset = loaded.value;
+  const withLoad = applyIonLoadArgs(loaded.value, args.ionLoad ?? {});
+  if (!withLoad.ok) {
+    io.err(withLoad.issues.map((i) => `${args.presetPath}: ${i.path}: ${i.message}`).join('\n') + '\n');
+    return 2;
+  }
+  const preset = withLoad.value;
+  const result = simulate(preset, { ions: args.ions, seed: args.seed, withSpectrum: args.spectrum });
   const comparison = args.compareIdeal ? compareWithIdeal(preset, result.report, { ions: args.ions, seed: args.seed }) : null;
   if (args.format === 'json') {
     const out = {
@@ -139,6 +153,9 @@ export function main(argv: readonly string[], io: CliIo = processIo, options: Tu
       focus: result.report.focus,
       ...(args.spectrum ? { spectrum: spectrumJson(result.analysis.spectrum) } : {}),
       ...(comparison ? { idealComparison: comparison } : {}),
+      ...(result.ionLoad
+        ? { ionLoad: { ionsPerShot: result.ionLoad.ionsPerShot, countLaw: result.ionLoad.countLaw, shots: result.ionLoad.shots }, detection: result.ionLoad.detection, spaceCharge: result.ionLoad.spaceCharge }
+        : {}),
     };
     io.out(JSON.stringify(out) + '\n');
   } else if (args.format === 'csv') {
@@ -147,6 +164,7 @@ export function main(argv: readonly string[], io: CliIo = processIo, options: Tu
   } else {
     io.out(formatTable(preset, result));
     if (comparison) io.out(formatIdealComparison(comparison));
+    if (result.ionLoad) io.out(formatIonLoad(result.ionLoad));
   }
   return 0;
 }

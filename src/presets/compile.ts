@@ -12,6 +12,7 @@ import { checkSolvedMirror, checkSolvedSource, compileSolvedMirror, compileSolve
 import type { SolvedSourceModel } from '../physics/solvedSource';
 import type { PresetIssue } from './issues';
 import { isotopeBlocks, resolveChemistry } from './speciesChemistry';
+import { checkIonLoad } from './ionLoadChecks';
 import type { Preset } from './schema';
 
 /** Longest flight followed before an ion is reported as timed out. */
@@ -77,6 +78,7 @@ export function checkPreset(preset: Preset): PresetIssue[] {
   if (!preset.ions.species.some((s) => s.abundance > 0)) {
     issues.push({ path: 'ions.species', message: 'at least one species needs an abundance > 0' });
   }
+  issues.push(...checkIonLoad(preset));
   return issues;
 }
 

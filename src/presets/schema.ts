@@ -6,6 +6,7 @@
  */
 import { z } from 'zod';
 import { solvedMirrorSchema, solvedSourceSchema } from './fieldsSchema';
+import { ionLoadSchema } from './ionLoadSchema';
 
 // Zod compiles validators with `new Function` unless told not to; the app runs under a CSP without eval.
 z.config({ jitless: true });
@@ -314,6 +315,8 @@ export const presetSchema = z.strictObject({
   ions: ionsSchema,
   acquisition: acquisitionSchema.optional(),
   analysis: analysisSchema.optional(),
+  /** Ions per shot, detector mode, detection yield and space charge (src/presets/ionLoadSchema.ts). */
+  ionLoad: ionLoadSchema.optional(),
   run: runSchema,
 });
 

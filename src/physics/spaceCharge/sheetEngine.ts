@@ -98,6 +98,8 @@ export class SheetEngine {
   private hVb = new Int32Array(0);
   private hSide = new Int8Array(0);
   private hV = new Float64Array(0);
+  /** While set, push appends without ordering (rebuildHeap heapifies afterwards). */
+  private bulk = false;
 
   private readonly motion = createMotion();
   private readonly st: IonState = { t: 0, z: 0, v: 0, fate: Fate.UNSET, w: 1 };
@@ -368,8 +370,10 @@ export class SheetEngine {
     if (dt < Infinity) this.push(t + dt, PAIR, lower, upper, 0, 0);
   }
 
+  /** Drops every queued event and schedules all of them afresh (appended unordered, then heapified in O(n)). */
   private rebuildHeap(t: number): void {
     this.hLen = 0;
+    this.bulk = true;
     if (this.hold) this.push(this.model.source.delay_s, SWITCH, -1, -1, 0, 0);
     for (let r = 0; r < this.n; r++) {
       const k = this.order[r];
@@ -378,6 +382,8 @@ export class SheetEngine {
       this.schedulePlane(k);
     }
     for (let r = 0; r + 1 < this.n; r++) this.schedulePair(r, t);
+    this.bulk = false;
+    for (let i = (this.hLen >> 1) - 1; i >= 0; i--) this.siftDown(i);
   }
 
   /** Two neighbours meet: they pass through each other and swap rank. */
@@ -486,7 +492,7 @@ export class SheetEngine {
     let i = this.hLen++;
     const va = a >= 0 ? this.ver[a] : 0;
     const vb = b >= 0 ? this.ver[b] : 0;
-    while (i > 0) {
+    while (i > 0 && !this.bulk) {
       const parent = (i - 1) >> 1;
       if (this.hTime[parent] < time || (this.hTime[parent] === time && this.hKind[parent] <= kind)) break;
       this.copy(i, parent);
@@ -505,18 +511,39 @@ export class SheetEngine {
   private pop(): void {
     const last = --this.hLen;
     if (last === 0) return;
-    const time = this.hTime[last];
-    const kind = this.hKind[last];
-    let i = 0;
+    this.copy(0, last);
+    this.siftDown(0);
+  }
+
+  /** Moves the entry at i down until both children come later. */
+  private siftDown(start: number): void {
+    const len = this.hLen;
+    const time = this.hTime[start];
+    const kind = this.hKind[start];
+    const a = this.hA[start];
+    const b = this.hB[start];
+    const va = this.hVa[start];
+    const vb = this.hVb[start];
+    const side = this.hSide[start];
+    const v = this.hV[start];
+    let i = start;
     for (;;) {
       let c = 2 * i + 1;
-      if (c >= last) break;
-      if (c + 1 < last && (this.hTime[c + 1] < this.hTime[c] || (this.hTime[c + 1] === this.hTime[c] && this.hKind[c + 1] < this.hKind[c]))) c++;
+      if (c >= len) break;
+      if (c + 1 < len && (this.hTime[c + 1] < this.hTime[c] || (this.hTime[c + 1] === this.hTime[c] && this.hKind[c + 1] < this.hKind[c]))) c++;
       if (time < this.hTime[c] || (time === this.hTime[c] && kind <= this.hKind[c])) break;
       this.copy(i, c);
       i = c;
     }
-    this.copy(i, last);
+    if (i === start) return;
+    this.hTime[i] = time;
+    this.hKind[i] = kind;
+    this.hA[i] = a;
+    this.hB[i] = b;
+    this.hVa[i] = va;
+    this.hVb[i] = vb;
+    this.hSide[i] = side;
+    this.hV[i] = v;
   }
 
   private copy(to: number, from: number): void {
