@@ -312,8 +312,20 @@ export class SheetEngine {
     this.tRef[k] = t;
   }
 
-  /** Schedules sheet k's next plane of its region (computed from its reference state). */
+  /**
+   * True when sheet k is the top or bottom sheet of its region in rank order. Only those can reach a
+   * plane of the region before meeting another sheet, so only they get plane events (a few per shot
+   * instead of one per sheet, each time every sheet changes acceleration).
+   */
+  private atRegionEdge(k: number): boolean {
+    const r = this.rank[k];
+    if (r === 0 || r + 1 >= this.aliveCount) return true;
+    return this.region[this.order[r - 1]] !== this.region[k] || this.region[this.order[r + 1]] !== this.region[k];
+  }
+
+  /** Schedules sheet k's next plane of its region (computed from its reference state), if it is at a region edge. */
   private schedulePlane(k: number): void {
+    if (!this.atRegionEdge(k)) return;
     const m = this.motion;
     const z = this.zRef[k];
     const v = this.vRef[k];
@@ -444,6 +456,8 @@ export class SheetEngine {
     this.ver[k]++;
     this.schedulePlane(k);
     const rank = this.rank[k];
+    // The sheet below is now the top of the region k left (a second event for it is harmless: the first one to fire bumps its version).
+    if (rank > 0) this.schedulePlane(this.order[rank - 1]);
     this.schedulePair(rank - 1, t);
     this.schedulePair(rank, t);
   }
