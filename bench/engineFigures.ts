@@ -9,6 +9,7 @@ import { runB1 } from './b1';
 import { runB2 } from './b2';
 import { benchField } from './fieldBench';
 import { benchFieldTrace } from './fieldTraceBench';
+import { benchIonLoad } from './ionLoadBench';
 
 function numpyComparison(): Record<string, number> {
   // Side-by-side figure for B1; skipped quietly where python3 with numpy is not installed.
@@ -22,5 +23,5 @@ function numpyComparison(): Record<string, number> {
   }
 }
 
-const figures: Record<string, number | string> = { ...runB1(), ...numpyComparison(), ...runB2(), ...benchField(), ...benchFieldTrace() };
+const figures: Record<string, number | string> = { ...runB1(), ...numpyComparison(), ...runB2(), ...benchField(), ...benchFieldTrace(), ...benchIonLoad() };
 process.stdout.write(JSON.stringify(figures) + '\n');

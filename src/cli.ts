@@ -17,6 +17,7 @@ import type { SpectrumSection } from './simulation/analysisReport';
 import { compareWithIdeal, formatIdealComparison } from './simulation/idealComparison';
 import { isMeasuredCommand, MEASURED_USAGE, runMeasuredCommand } from './cli/measuredCommand';
 import { isToleranceCommand, runToleranceCommand, TOLERANCE_USAGE, type ToleranceCliOptions } from './cli/toleranceCommand';
+import { applyIonLoadArgs, formatIonLoad, ION_LOAD_USAGE, takeIonLoadArg, type IonLoadArgs } from './cli/ionLoadArgs';
 
 export const USAGE = `Usage: npm run sim -- <preset.json> [--json | --csv] [--ions N] [--seed S]
 
@@ -30,6 +31,7 @@ export const USAGE = `Usage: npm run sim -- <preset.json> [--json | --csv] [--io
                   (flight time, FWHM, R, transmission; in --json as "idealComparison")
   --report F.html also write one self-contained HTML page for a lab notebook (settings, results, spectrum
                   and focus plots, method record, version, seed, high-voltage caution); never replaces a file
+${ION_LOAD_USAGE}
   --help          show this text
 
 ${TUNING_USAGE}
@@ -45,6 +47,7 @@ export interface CliArgs {
   report?: string;
   ions?: number;
   seed?: number;
+  ionLoad?: IonLoadArgs;
 }
 
 export type ArgsResult = { ok: true; args: CliArgs } | { ok: false; issues: PresetIssue[]; help?: boolean };
@@ -58,7 +61,13 @@ export function parseArgs(argv: readonly string[]): ArgsResult {
   let spectrum = false;
   let compareIdeal = false;
   let report: string | undefined;
+  const ionLoad: IonLoadArgs = {};
   for (let i = 0; i < argv.length; i++) {
+    const used = takeIonLoadArg(argv, i, ionLoad, issues);
+    if (used > 0) {
+      i += used - 1;
+      continue;
+    }
     const arg = argv[i];
     if (arg === '--help' || arg === '-h') return { ok: false, issues: [], help: true };
     if (arg === '--spectrum') {
@@ -92,7 +101,7 @@ export function parseArgs(argv: readonly string[]): ArgsResult {
   if (issues.length || presetPath === undefined) return { ok: false, issues };
   if (spectrum && format !== 'json') issues.push({ path: '--spectrum', message: 'needs --json' });
   if (issues.length) return { ok: false, issues };
-  return { ok: true, args: { presetPath, format, ions, seed, spectrum, compareIdeal, ...(report ? { report } : {}) } };
+  return { ok: true, args: { presetPath, format, ions, seed, spectrum, compareIdeal, ionLoad, ...(report ? { report } : {}) } };
 }
 
 export interface CliIo {
@@ -143,10 +152,16 @@ export function main(argv: readonly string[], io: CliIo = processIo, options: Tu
     io.err(loaded.issues.map((i) => `${args.presetPath}: ${i.path}: ${i.message}`).join('\n') + '\n');
     return 2;
   }
-  const result = simulate(loaded.value, { ions: args.ions, seed: args.seed, withSpectrum: args.spectrum || args.report !== undefined });
+  const withLoad = applyIonLoadArgs(loaded.value, args.ionLoad ?? {});
+  if (!withLoad.ok) {
+    io.err(withLoad.issues.map((i) => `${args.presetPath}: ${i.path}: ${i.message}`).join('\n') + '\n');
+    return 2;
+  }
+  const preset = withLoad.value;
+  const result = simulate(preset, { ions: args.ions, seed: args.seed, withSpectrum: args.spectrum || args.report !== undefined });
   if (args.report !== undefined) {
     const page = htmlReport({
-      preset: loaded.value,
+      preset,
       report: result.report,
       ions: result.report.ions,
       seed: result.compiled.population.seed,
@@ -162,7 +177,6 @@ export function main(argv: readonly string[], io: CliIo = processIo, options: Tu
       return 2;
     }
   }
-  const preset = loaded.value;
   const comparison = args.compareIdeal ? compareWithIdeal(preset, result.report, { ions: args.ions, seed: args.seed }) : null;
   if (args.format === 'json') {
     const out = {
@@ -176,6 +190,9 @@ export function main(argv: readonly string[], io: CliIo = processIo, options: Tu
       focus: result.report.focus,
       ...(args.spectrum ? { spectrum: spectrumJson(result.analysis.spectrum) } : {}),
       ...(comparison ? { idealComparison: comparison } : {}),
+      ...(result.ionLoad
+        ? { ionLoad: { ionsPerShot: result.ionLoad.ionsPerShot, countLaw: result.ionLoad.countLaw, shots: result.ionLoad.shots }, detection: result.ionLoad.detection, spaceCharge: result.ionLoad.spaceCharge }
+        : {}),
     };
     io.out(JSON.stringify(out) + '\n');
   } else if (args.format === 'csv') {
@@ -184,6 +201,7 @@ export function main(argv: readonly string[], io: CliIo = processIo, options: Tu
   } else {
     io.out(formatTable(preset, result));
     if (comparison) io.out(formatIdealComparison(comparison));
+    if (result.ionLoad) io.out(formatIonLoad(result.ionLoad));
   }
   return 0;
 }

@@ -12,6 +12,7 @@ import { checkSolvedMirror, checkSolvedSource, compileSolvedMirror, compileSolve
 import type { SolvedSourceModel } from '../physics/solvedSource';
 import type { PresetIssue } from './issues';
 import { isotopeBlocks, resolveChemistry } from './speciesChemistry';
+import { checkIonLoad } from './ionLoadChecks';
 import type { Preset } from './schema';
 import { checkTolerances } from '../tolerance/checks';
 
@@ -79,6 +80,7 @@ export function checkPreset(preset: Preset): PresetIssue[] {
   if (!preset.ions.species.some((s) => s.abundance > 0)) {
     issues.push({ path: 'ions.species', message: 'at least one species needs an abundance > 0' });
   }
+  issues.push(...checkIonLoad(preset));
   return issues;
 }
 

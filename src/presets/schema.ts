@@ -9,6 +9,7 @@ import { rangeMessage } from './rangeWords';
 import { methodRecordSchema } from './methodRecordSchema';
 import { solvedMirrorSchema, solvedSourceSchema } from './fieldsSchema';
 import { tolerancesSchema } from './toleranceSchema';
+import { ionLoadSchema } from './ionLoadSchema';
 
 // Zod compiles validators with `new Function` unless told not to; the app runs under a CSP without eval.
 z.config({ jitless: true });
@@ -325,6 +326,8 @@ export const presetSchema = z.strictObject({
   analysis: analysisSchema.optional(),
   /** Instrument stability for the tolerance analysis (src/presets/toleranceSchema.ts). */
   tolerances: tolerancesSchema.optional(),
+  /** Ions per shot, detector mode, detection yield and space charge (src/presets/ionLoadSchema.ts). */
+  ionLoad: ionLoadSchema.optional(),
   run: runSchema,
   /** How the settings were found: one entry per applied scan or tune. */
   method: methodRecordSchema.optional(),

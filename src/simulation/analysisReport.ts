@@ -77,7 +77,7 @@ export interface AnalysisSections {
 }
 
 /** Acquisition settings for the ions in [from, to); an automatic record window spans just their arrivals. */
-function acquisitionSettings(preset: Preset, trace: TraceResult, from = 0, to = trace.fate.length): AcquisitionSettings | null {
+export function acquisitionSettings(preset: Preset, trace: TraceResult, from = 0, to = trace.fate.length): AcquisitionSettings | null {
   const acq = preset.acquisition;
   if (!acq) return null;
   const sample_s = acq.sampleInterval_ns * 1e-9;

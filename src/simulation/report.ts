@@ -7,6 +7,7 @@ import { countFates, Fate, type FateCounts } from '../physics/fates';
 import { sToNs } from '../physics/units';
 import type { Ensemble, TraceResult } from '../ions/ensemble';
 import type { AnalysisSections, SpectrumPeakReport } from './analysisReport';
+import type { IonLoadReport } from './ionLoad';
 
 export interface SpeciesReport {
   readonly label: string;
@@ -89,6 +90,8 @@ export interface RunReport {
   readonly species: SpeciesReport[];
   readonly calibration: AnalysisSections['calibration'];
   readonly focus: AnalysisSections['focus'];
+  /** Shots, detector modes and space charge (src/simulation/ionLoad.ts); absent or null without a preset `ionLoad` section. */
+  readonly ionLoad?: IonLoadReport | null;
 }
 
 /** The report with the measurement sections (spectrum peaks, calibration, focus) filled in. */

@@ -11,6 +11,7 @@ import { needsIntegrator } from '../physics/analyser';
 import { traceMixed } from '../physics/tracer';
 import { attachAnalysis, buildReport, type RunReport } from './report';
 import { buildAnalysisSections, type AnalysisSections } from './analysisReport';
+import { ionLoadSections, traceIonLoad, type IonLoadReport } from './ionLoad';
 
 export interface RunOptions {
   /** Override the preset's ion count. */
@@ -33,6 +34,8 @@ export interface SimulationResult {
   readonly trace: TraceResult;
   readonly report: RunReport;
   readonly analysis: AnalysisSections;
+  /** Shots, detector modes and space charge (preset section `ionLoad`); null without it. */
+  readonly ionLoad: IonLoadReport | null;
 }
 
 export function simulate(preset: Preset, options: RunOptions = {}): SimulationResult {
@@ -48,6 +51,8 @@ export function simulate(preset: Preset, options: RunOptions = {}): SimulationRe
   if (needsIntegrator(compiled.model)) traceMixed(compiled.model, ensemble, trace);
   else traceExact(compiled.model, ensemble, trace);
   applyDetectorPlane(compiled.model, ensemble, trace);
+  // With space charge on, the ions are retraced shot by shot (the headline then includes it).
+  const load = traceIonLoad(preset, compiled.model, ensemble, trace, population.seed);
   const report = buildReport(ensemble, trace);
   const analysis =
     options.analysis === false
@@ -61,7 +66,8 @@ export function simulate(preset: Preset, options: RunOptions = {}): SimulationRe
           report.species.map((s) => (s.flightTime_ns === null ? null : s.flightTime_ns * 1e-9)),
           { withSpectrum: options.withSpectrum, peaksOnly: options.analysis === 'peaks' },
         );
-  return { compiled: { ...compiled, population }, ensemble, trace, report: attachAnalysis(report, analysis), analysis };
+  const ionLoad = load && options.analysis !== false ? ionLoadSections(preset, compiled.model, ensemble, trace, load, population.seed) : null;
+  return { compiled: { ...compiled, population }, ensemble, trace, report: { ...attachAnalysis(report, analysis), ...(ionLoad ? { ionLoad } : {}) }, analysis, ionLoad };
 }
 
 function noAnalysis(ensemble: Ensemble): AnalysisSections {
