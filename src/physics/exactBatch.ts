@@ -6,9 +6,9 @@
  * numbers are identical to the bit; only the loop nesting changes, which lets the JIT keep each
  * kernel's constants in registers. Ideal-grid analysers only: solved regions go ion by ion.
  */
-import type { ExactPlan } from './exactEngine';
+import { holdExactUntil, type ExactPlan, type IonState } from './exactEngine';
 import { Fate } from './fates';
-import { createMotion, crossForward, Crossing, enterStage, firstExit } from './uniformField';
+import { createMotion, crossForward, Crossing, enterStage } from './uniformField';
 import type { Ensemble, TraceResult } from '../ions/ensemble';
 
 const motion = createMotion();
@@ -35,7 +35,7 @@ function traceBlock(plan: ExactPlan, ens: Ensemble, out: TraceResult, from: numb
     w[i] = 1;
     fate[i] = Fate.UNSET;
   }
-  if (plan.delay_s > 0) holdKernel(plan, t, z, v, fate, from, to);
+  if (plan.delay_s > 0) holdKernel(plan, t, z, v, w, fate, from, to);
   for (let j = 0; j < plan.sourceStageCount; j++) stageKernel(plan, j, t, z, v, w, fate, from, to);
   driftKernel(plan.driftLength_m, t, v, fate, from, to);
   if (plan.mirrorStageCount > 0) {
@@ -56,26 +56,23 @@ function traceBlock(plan: ExactPlan, ens: Ensemble, out: TraceResult, from: numb
   }
 }
 
-/** exactEngine.holdExactUntil(delay) for every ion: the static hold field until the delay ends. */
-function holdKernel(plan: ExactPlan, t: Float64Array, z: Float64Array, v: Float64Array, fate: Uint8Array, from: number, to: number): void {
-  const a = plan.holdAcceleration;
-  const hi = plan.sourcePlane_m[1];
-  const until = plan.delay_s;
+/** exactEngine.holdExactUntil(delay) for every ion: each source stage in its static hold field until the delay ends. */
+const holdState: IonState = { t: 0, z: 0, v: 0, fate: Fate.UNSET, w: 1 };
+function holdKernel(plan: ExactPlan, t: Float64Array, z: Float64Array, v: Float64Array, w: Float64Array, fate: Uint8Array, from: number, to: number): void {
+  const st = holdState;
   for (let i = from; i < to; i++) {
     const k = i - from;
-    const duration = until - t[i];
-    if (duration <= 0) continue;
-    const side = firstExit(motion, z[k], v[i], a, 0, hi);
-    if (side !== 0 && motion.dt <= duration) {
-      t[i] += motion.dt;
-      z[k] = side < 0 ? 0 : hi;
-      v[i] = motion.v;
-      fate[i] = side < 0 ? Fate.STRUCK_REPELLER : Fate.LEFT_SOURCE_DURING_DELAY;
-      continue;
-    }
-    z[k] += v[i] * duration + 0.5 * a * duration * duration;
-    v[i] += a * duration;
-    t[i] = until;
+    st.t = t[i];
+    st.z = z[k];
+    st.v = v[i];
+    st.w = w[i];
+    st.fate = Fate.UNSET;
+    holdExactUntil(st, plan, plan.delay_s);
+    t[i] = st.t;
+    z[k] = st.z;
+    v[i] = st.v;
+    w[i] = st.w;
+    if (st.fate !== Fate.UNSET) fate[i] = st.fate;
   }
 }
 
