@@ -220,7 +220,7 @@ async function runTune(args: TuningArgs, loaded: LoadedPreset, io: TuningIo, opt
     const lines = ['path,start,tuned,flatLow,flatHigh,preset,recommendation', ...result.flatness.map((f, i) => [f.path, result.start[i], result.best[i], f.low, f.high, result.presetValues?.[i] ?? '', result.recommendation ?? ''].join(','))];
     io.out(lines.join('\n') + '\n');
   } else {
-    const saved = result.recommendation === 'preset' ? "the preset's own values, at full precision" : 'tuned values at full precision';
+    const saved = result.recommendation === 'preset' ? "the preset's own values" : 'tuned values at full precision';
     io.out(formatTuneTable(loaded.preset.name, ions, seed, objective, result) + (args.write ? `saved: ${args.write} (${saved})\n` : ''));
   }
   return 0;

@@ -106,7 +106,7 @@ describe('tune subcommand', () => {
     expect(r.out).toMatch(/source\.extraction\.delay_ns\s+228\s+[\d.]+\s+[\d.]+\s+[\d.]+ … [\d.]+/);
     expect(r.out).toContain('time-lag focus');
     expect(r.out).toMatch(/objective: \d+ with the preset's settings, \d+ at the start, \d+ tuned/);
-    expect(r.out).toContain('figure optimised and reported: R = t/(2·width) at m/z 1296.6848, width = 2.355 × standard deviation');
+    expect(r.out).toContain('figure optimised and reported: R = t/(2·width) at m/z 1336.7008, width = 2.355 × standard deviation');
     const tuned = parsePresetText(h.written.get('tuned.json')!);
     expect(tuned.ok).toBe(true);
     const json = JSON.parse((await h.run([DEMO, ...TUNE, '--json'])).out);
@@ -133,12 +133,15 @@ describe('tune subcommand', () => {
 
   it("keeps the preset's own settings when the bounds hold nothing better, and says so; --allow-worse gives the search's best with a warning", async () => {
     const h = harness();
-    const narrow = ['--tune', 'source.extraction.delay_ns=100:150', '--target-mz', '1296.6848', '--ions', '600'];
+    const narrow = ['--tune', 'source.extraction.delay_ns=100:150', '--target-mz', '1336.7008', '--ions', '600'];
     const kept = await h.run([DEMO, ...narrow, '--write', 'kept.json']);
     expect(kept.code).toBe(0);
     expect(kept.out).toMatch(/recommendation: keep the preset's own settings: no setting found scores better \(preset (\d+), best found (\d+) at [\d.]+\)/);
     expect(kept.out).toContain("saved: kept.json (the preset's own values)");
-    expect(JSON.parse(h.written.get('kept.json')!)).toEqual(JSON.parse(readFileSync(DEMO, 'utf8')));
+    // The kept preset is the preset's own settings; the write adds only a method-record entry saying so.
+    const { method, ...keptSettings } = JSON.parse(h.written.get('kept.json')!);
+    expect(keptSettings).toEqual(JSON.parse(readFileSync(DEMO, 'utf8')));
+    expect(method.records.at(-1).kind).toBe('tune');
     const worse = await h.run([DEMO, ...narrow, '--allow-worse', '--json']);
     const doc = JSON.parse(worse.out);
     expect(doc).toMatchObject({ recommendation: 'tuned', worseThanPreset: true, presetValues: [228] });

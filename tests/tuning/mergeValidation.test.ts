@@ -11,7 +11,7 @@ import { validateScanDocument, validateScanText } from '../../src/tuning/mergeVa
 import { inProcessEngine } from './fixtures';
 
 const DEMO = 'presets/demo-linear-delayed.json';
-const SCAN = ['--scan', 'source.extraction.delay_ns=180:240:5', '--target-mz', '1296.6848', '--ions', '200'];
+const SCAN = ['--scan', 'source.extraction.delay_ns=180:240:5', '--target-mz', '1336.7008', '--ions', '200'];
 
 function harness() {
   let out = '';

@@ -15,7 +15,7 @@ const ROOT = fileURLToPath(new URL('../../', import.meta.url));
 const TSX_CLI = join(ROOT, 'node_modules/tsx/dist/cli.mjs');
 const CLI = join(ROOT, 'src/cli.ts');
 const PRESET = join(ROOT, 'presets/demo-linear-delayed.json');
-const SCAN = ['--scan', 'source.extraction.delay_ns=180:240:6', '--target-mz', '1296.6848', '--ions', '400'];
+const SCAN = ['--scan', 'source.extraction.delay_ns=180:240:6', '--target-mz', '1336.7008', '--ions', '400'];
 
 const probe = spawnSync('parallel', ['--version'], { encoding: 'utf8' });
 const hasParallel = probe.status === 0 && /GNU parallel/.test(probe.stdout);

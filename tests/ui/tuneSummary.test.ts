@@ -3,7 +3,7 @@ import { describe, expect, it } from 'vitest';
 import type { ScanSpeciesPoint, TuneResult } from '../../src/tuning/api';
 import { tuneSummary } from '../../src/ui/tuning/tuneSummary';
 
-const species = (t: number): ScanSpeciesPoint => ({ mz: 1296.6848, label: 'angiotensin I', flightTime_ns: 22967, fwhm_ns: 0.1, resolvingPower: 1e5, transmission: t });
+const species = (t: number): ScanSpeciesPoint => ({ mz: 1336.7008, label: 'morinex-12 (invented)', flightTime_ns: 22967, fwhm_ns: 0.1, resolvingPower: 1e5, transmission: t });
 
 const base = {
   start: [150],
@@ -25,7 +25,7 @@ const base = {
 
 describe('tune summary', () => {
   const parameters = [{ path: 'source.extraction.delay_ns', label: 'Extraction delay (ns)' }];
-  const objective = { name: 'max-r-at-mz' as const, targetMz: 1296.6848 };
+  const objective = { name: 'max-r-at-mz' as const, targetMz: 1336.7008 };
 
   it('a kept preset is said in words, with the preset, start and recommended values and transmissions', () => {
     const s = tuneSummary({ ...base, recommendation: 'preset' }, parameters, objective);
@@ -33,7 +33,7 @@ describe('tune summary', () => {
     expect(s.objectiveLine).toMatch(/with the preset's settings, .* at the start, .* recommended \(the preset's\)/);
     expect(s.recommendedHeading).toBe('recommended (preset)');
     expect(s.parameters[0]).toMatchObject({ preset: '228.00', start: '150.00', recommended: '228.00' });
-    expect(s.species[0]).toEqual({ label: 'angiotensin I', preset: '100.0 %', start: '97.0 %', recommended: '100.0 %' });
+    expect(s.species[0]).toEqual({ label: 'morinex-12 (invented)', preset: '100.0 %', start: '97.0 %', recommended: '100.0 %' });
     expect(s.figure).toContain('width = 2.355 × standard deviation of the arrival times');
   });
 
