@@ -78,6 +78,8 @@ describe('share links and unsaved work', () => {
     await waitDone(page);
     expect(await setupName(page)).toBe('Demo: dual-stage reflectron');
     await page.click('#btn-undo-load');
+    // The undo reads the replaced setup from IndexedDB first: the status is still 'done' from the last run until it lands.
+    await page.waitForFunction(() => document.querySelector('#setup-name')?.textContent === 'Demo: linear, delayed extraction', undefined, { timeout: 30_000 }).catch(() => undefined);
     await waitDone(page);
     expect(await setupName(page)).toBe('Demo: linear, delayed extraction');
     expect(await controlInput(page, DELAY).inputValue()).toBe('251');
