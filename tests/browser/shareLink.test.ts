@@ -96,6 +96,8 @@ describe('share links and unsaved work', () => {
     await waitDone(second);
     expect(await setupName(second)).toBe('Demo: dual-stage reflectron');
     await second.click('#btn-undo-load');
+    // As above: wait for the undo to land before waiting for its run.
+    await second.waitForFunction(() => document.querySelector('#setup-name')?.textContent === 'Demo: linear, delayed extraction', undefined, { timeout: 30_000 }).catch(() => undefined);
     await waitDone(second);
     expect(await controlInput(second, DELAY).inputValue()).toBe('251');
     expect(secondErrors).toEqual([]);
