@@ -5,20 +5,11 @@
 import type { Preset } from '../../presets/schema';
 import type { RunReport, SpeciesReport } from '../../simulation/report';
 import { headlineFigures } from '../../simulation/headline';
+import { switchModeUntuned } from '../../tuning/modeSwitch';
 
 /** Same source, ions and run; linear ↔ reflectron. A linear setup gets the given mirror and drift; a reflectron one flies the same total path straight. */
 export function otherMode(preset: Preset, reflectronTemplate: Preset): Preset {
-  const next = structuredClone(preset);
-  if (preset.mirror.type === 'none') {
-    next.mirror = structuredClone(reflectronTemplate.mirror);
-    next.drift = { ...next.drift, length_mm: reflectronTemplate.drift.length_mm };
-    next.name = `${preset.name} — reflectron`.slice(0, 120);
-  } else {
-    next.mirror = { type: 'none' };
-    next.drift = { ...next.drift, length_mm: preset.drift.length_mm + preset.mirror.returnLength_mm };
-    next.name = `${preset.name} — linear`.slice(0, 120);
-  }
-  return next;
+  return switchModeUntuned(preset, reflectronTemplate);
 }
 
 export interface SpeciesDiff {
