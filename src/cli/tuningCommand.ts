@@ -174,11 +174,12 @@ function tuneParameters(args: TuningArgs, preset: Preset): TuneParameter[] {
 async function runTune(args: TuningArgs, loaded: LoadedPreset, io: TuningIo, options: TuningCliOptions): Promise<number> {
   const parameters = tuneParameters(args, loaded.preset);
   const objective = objectiveOf(args)!;
-  const request: TuneRequest = { preset: loaded.preset, parameters, objective, ions: args.ions, seed: args.seed, minTransmission: args.minTransmission, allowWorse: args.allowWorse, ...(args.idealR ? { criterion: 'ideal' as const } : {}) };
+  const request: TuneRequest = { preset: loaded.preset, parameters, objective, ions: args.ions, seed: args.seed, minTransmission: args.minTransmission, keepTransmission: args.keepTransmission, allowWorse: args.allowWorse, ...(args.idealR ? { criterion: 'ideal' as const } : {}) };
   const labels: TuneLabels = {
     parameter: (i) => `--tune ${parameters[i]?.path ?? ''}`.trim(),
     objective: CLI_OBJECTIVE_LABELS,
     minTransmission: '--min-transmission',
+    keepTransmission: '--keep-transmission',
     ions: '--ions',
     seed: '--seed',
     measure: 'measure',

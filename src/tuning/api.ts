@@ -6,6 +6,7 @@
 import type { Preset } from '../presets/schema';
 import type { RunReport } from '../simulation/report';
 import type { ResolvingPowerCriterion } from '../simulation/headline';
+import type { SpeciesMargin } from './transmissionConstraint';
 
 export type { ResolvingPowerCriterion } from '../simulation/headline';
 
@@ -126,10 +127,13 @@ export interface TuneRequest {
   readonly parameters: readonly TuneParameter[];
   readonly objective: Objective;
   /**
-   * Optional constraint: minimum transmission (0..1) of the objective's species. When omitted, 99 % of
-   * their transmission at the preset's current settings (so a tune cannot narrow a peak by losing ions).
+   * Transmission constraint, per species (./transmissionConstraint): `minTransmission` is an absolute
+   * floor (0..1) every species must keep; `keepTransmission` the share (0..1) of its transmission at the
+   * preset's settings every species must keep. At most one; when both are omitted, every species keeps
+   * 99 % of its current transmission (so a tune cannot narrow a peak by losing ions of any species).
    */
   readonly minTransmission?: number;
+  readonly keepTransmission?: number;
   readonly ions?: number;
   readonly seed?: number;
   /** Width the optimiser minimises (default 'sd'). */
@@ -163,8 +167,13 @@ export interface TuneResult {
   readonly measure?: WidthMeasure;
   /** False when no evaluated setting met the constraints (the values shown then only reduce the violation). */
   readonly feasible?: boolean;
-  /** Transmission constraint the tune respected (given, or the default). */
-  readonly minTransmission?: number;
+  /** The transmission constraint the tune respected (given, or the default), in words and as a floor per species. */
+  readonly transmissionConstraint?: string;
+  readonly transmissionFloors?: readonly number[];
+  /** Species below their floor at the recommended setting (only when no setting met the constraint). */
+  readonly transmissionViolated?: readonly SpeciesMargin[];
+  /** The species closest to its floor when within 1 percentage point of it: the constraint then limits the tune. */
+  readonly transmissionBinding?: SpeciesMargin | null;
   /** Per-species figures at the recommended setting. */
   readonly species?: readonly ScanSpeciesPoint[];
   /** The preset's own values of the tuned parameters, the objective's figure and the per-species figures there. */
