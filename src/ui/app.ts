@@ -131,10 +131,12 @@ export async function startApp(): Promise<void> {
       const checked = validatePreset(cloneJson(draft));
       if (!checked.ok) {
         showInvalid(checked.issues);
+        compare.settingsChanged('refused');
         return;
       }
       panel.showIssues([]);
       working = checked.value;
+      compare.settingsChanged('valid');
       refreshHeader();
       if (phase === 'final') {
         autosave();
@@ -280,6 +282,7 @@ export async function startApp(): Promise<void> {
     tuning.refresh();
     measured.refresh();
     void compare.refreshChoices();
+    compare.settingsChanged('valid');
     requestRun('final');
   };
 
