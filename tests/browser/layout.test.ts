@@ -108,6 +108,34 @@ async function coveredControls(page: Page): Promise<string[]> {
   });
 }
 
+/**
+ * Tables whose last column is not shown: cut off by a container that hides overflow, scrolled out of
+ * its scrolling container's box (a result table must show every column without sideways scrolling),
+ * or outside the window.
+ */
+async function clippedTables(page: Page): Promise<string[]> {
+  return page.evaluate(() => {
+    const out: string[] = [];
+    const width = document.documentElement.clientWidth;
+    for (const table of document.querySelectorAll<HTMLTableElement>('table')) {
+      if (table.closest('[hidden]') || table.getBoundingClientRect().width === 0) continue;
+      const name = table.id || table.getAttribute('aria-label') || table.closest('[id]')?.id || 'table';
+      for (const cell of table.querySelectorAll<HTMLElement>('tr > :last-child')) {
+        const r = cell.getBoundingClientRect();
+        let cut: string | null = r.right > width + 1 ? 'the window' : null;
+        for (let a = cell.parentElement; a && a !== document.body && !cut; a = a.parentElement) {
+          if (/auto|scroll|hidden|clip/.test(getComputedStyle(a).overflowX) && r.right > a.getBoundingClientRect().right + 1) cut = a.id || a.className;
+        }
+        if (cut) {
+          out.push(`${name}: last column "${cell.textContent?.trim().slice(0, 24)}" not shown (cut off by ${cut})`);
+          break;
+        }
+      }
+    }
+    return out;
+  });
+}
+
 describe('layouts', () => {
   for (const [w, h] of [
     [1280, 800],
@@ -128,9 +156,26 @@ describe('layouts', () => {
         problems.push(...(await coveredControls(page)).map((p) => `${tab}: ${p}`));
         await page.screenshot({ path: join(SHOTS, `layout-${w}x${h}-${tab}.png`) });
       }
+      // With results in the panes: a short auto-tune (its result tables) and a comparison (its table).
+      await page.click('#tab-tuning');
+      await page.fill('#tune-ions', '300');
+      await page.click('#btn-tune');
+      await page.waitForFunction(() => document.body.dataset.tuning === 'idle' && (document.getElementById('tune-result')?.querySelector('table') ?? null) !== null, undefined, { timeout: 120_000 });
+      problems.push(...(await clippedControls(page)).map((p) => `tuning after a tune: ${p}`));
+      problems.push(...(await coveredControls(page)).map((p) => `tuning after a tune: ${p}`));
+      problems.push(...(await clippedTables(page)).map((p) => `tuning after a tune: ${p}`));
+      await page.screenshot({ path: join(SHOTS, `layout-${w}x${h}-tuning-result.png`) });
+      await page.click('#tab-compare');
+      await page.selectOption('#compare-source', 'snapshot');
+      await page.click('#btn-compare-run');
+      await page.waitForFunction(() => document.body.dataset.compare === 'done', undefined, { timeout: 120_000 });
+      problems.push(...(await clippedControls(page)).map((p) => `compare after a run: ${p}`));
+      problems.push(...(await coveredControls(page)).map((p) => `compare after a run: ${p}`));
+      problems.push(...(await clippedTables(page)).map((p) => `compare after a run: ${p}`));
+      await page.screenshot({ path: join(SHOTS, `layout-${w}x${h}-compare-result.png`) });
       await context.close();
       expect(problems).toEqual([]);
-    }, 120_000);
+    }, 240_000);
   }
 
   it('Compare: linear → reflectron proposes a tuned mirror and delay and lists the changes', async () => {

@@ -122,7 +122,7 @@ export class TuningView {
     if (!this.busy) this.fillScanRange();
     for (const select of [this.scanSpecies, this.tuneSpecies]) {
       const keep = select.value;
-      select.replaceChildren(...preset.ions.species.map((s) => el('option', { value: String(s.mz), text: `${s.label ?? 'm/z'} (${s.mz})` })));
+      select.replaceChildren(...preset.ions.species.map((s) => el('option', { value: String(s.mz), text: `${s.label ?? 'm/z'} (${s.mz.toFixed(4)})` })));
       const middle = preset.ions.species[Math.floor((preset.ions.species.length - 1) / 2)];
       select.value = preset.ions.species.some((s) => String(s.mz) === keep) ? keep : String(middle.mz);
     }
