@@ -42,6 +42,7 @@ import { ReplacedSetupKeeper, replacingNeedsConsent } from './storage/replacedSe
 import { TuningView } from './tuning/tuningView';
 import { MeasuredView } from './measured/measuredView';
 import { ToleranceView } from './tolerance/toleranceView';
+import { LoadChartView } from './charts/loadChart';
 
 type Status = 'loading' | 'running' | 'done' | 'invalid' | 'error';
 
@@ -307,6 +308,7 @@ export async function startApp(): Promise<void> {
   const compare = new CompareView(context);
   const tuning = new TuningView(context);
   const tolerance = new ToleranceView(context);
+  new LoadChartView(context, byId('pane-results'));
   const presets = new PresetsView(context);
   const measured = new MeasuredView(context, spectrum, [byId('spectrum').parentElement!]);
   presets.onListChange = () => void compare.refreshChoices();
