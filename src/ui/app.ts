@@ -254,7 +254,7 @@ export async function startApp(): Promise<void> {
         'p',
         { className: 'legend-note' },
         'Axial positions to scale; species in separate lanes.',
-        preset.mirror.type === 'none' ? '' : ' Return leg tilted for display.',
+        preset.mirror.type === 'none' ? ' Species fanned out across the tube after the source, for display only (they share one path).' : ' Return leg tilted for display.',
         ' Electrodes: blue −, grey 0, amber + potential.',
         approximations.length ? ` Drawing only: ${approximations.join('; ')}.` : '',
       ),
