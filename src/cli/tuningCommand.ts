@@ -209,7 +209,7 @@ async function runTune(args: TuningArgs, loaded: LoadedPreset, io: TuningIo, opt
       criterion: result.criterion ?? 'ideal',
       parameters: parameters.map((p, i) => ({ ...p, before: result.start[i], applied: result.best[i] })),
       result: result.objective,
-      note: `auto-tune (CLI), ${result.evaluations} evaluations; start: ${(result.startSource ?? []).join('; ') || 'current settings'}`,
+      note: `auto-tune (CLI), ${result.evaluations} evaluations; start: ${(result.startSource ?? []).join('; ') || 'current settings'}${result.transmissionConstraint ? `; transmission: ${result.transmissionConstraint}` : ''}`,
     }).method!;
     writeOut(args, io, tunedPresetText(loaded, parameters, result.best, { ...result.tunedPreset, method: entry }, entry));
   }

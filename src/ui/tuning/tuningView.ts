@@ -391,7 +391,7 @@ export class TuningView {
           criterion: result.criterion ?? 'ideal',
           parameters: asked.parameters.map((p, i) => ({ ...p, before: getAt(this.app.working(), p.path) as number, applied: result.best[i] })),
           result: result.objective,
-          note: `auto-tune, ${result.evaluations} evaluations; start: ${(result.startSource ?? []).join('; ') || 'current settings'}`,
+          note: `auto-tune, ${result.evaluations} evaluations; start: ${(result.startSource ?? []).join('; ') || 'current settings'}${result.transmissionConstraint ? `; transmission: ${result.transmissionConstraint}` : ''}`,
         })
       : checked.value;
     this.app.loadSetup(recorded, { recordId: this.app.recordId(), state: 'dirty' });
