@@ -30,8 +30,7 @@ import {
 import { OrbitControls } from 'three/addons/controls/OrbitControls.js';
 import { Fate } from '../../physics/fates';
 import { potentialRgb } from '../colors';
-import { MAX_EQUIPOTENTIAL_SEGMENTS } from './equipotentials';
-import { MAX_MIRROR_RINGS, type FrameBox, type SceneLayout } from './layout';
+import { MAX_EQUIPOTENTIAL_SEGMENTS, MAX_MIRROR_RINGS, type FrameBox, type SceneLayout } from '../../simulation/scene/sceneData';
 import { fillPaths, MAX_DRAWN_IONS, positionAt, type DrawnIons } from './paths';
 
 const MAX_PATH_VERTICES = 60_000;
