@@ -1,5 +1,6 @@
 /**
- * Where every electrode of the analyser sits in the 3D view, from the compiled model, in mm.
+ * Where every electrode of the analyser sits in the 3D view, from the compiled model, in mm; built in
+ * the worker as part of a run (RunRequest.scene, ./runScene.ts).
  * Scene axes: x along the flight axis (the folded analyser frame of src/physics/trajectory.ts,
  * repeller at x = 0), y across it in the plane of a reflectron's fold, z the other transverse axis.
  * Axial positions and lengths are to scale. In reflectron mode the way out is tilted a little in y
