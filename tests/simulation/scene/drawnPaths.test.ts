@@ -1,3 +1,5 @@
+import * as Comlink from 'comlink';
+import type { Endpoint } from 'comlink';
 import { describe, expect, it } from 'vitest';
 import { Fate } from '../../../src/physics/fates';
 import { createExactPlan, prepareExactPlan } from '../../../src/physics/exactEngine';
@@ -6,7 +8,9 @@ import { samplePopulation } from '../../../src/ions/population';
 import { compilePreset } from '../../../src/presets/compile';
 import { validatePreset } from '../../../src/presets/load';
 import type { Preset } from '../../../src/presets/schema';
+import type { RunOutput } from '../../../src/simulation/runContract';
 import { runOutputTransferables, runRequest } from '../../../src/simulation/runOutput';
+import { createWorkerApi, type EngineWorkerApi } from '../../../src/tuning/workerApi';
 import { traceDrawnPaths } from '../../../src/simulation/scene/drawnPaths';
 import { MAX_PATH_SEGMENTS, PACKET_IONS_PER_SPECIES, PATHS_PER_SPECIES, PathRegion } from '../../../src/simulation/scene/sceneData';
 import { DEMO_FILES, demoPreset } from '../../ui/helpers';
@@ -96,5 +100,32 @@ describe('drawn ions computed with the run', () => {
       // The run's own figures do not change when the extras are asked for.
       expect(Array.from(out.flightTime_s)).toEqual(Array.from(plain.flightTime_s));
     }
+  });
+});
+
+describe('the scene through a worker channel', () => {
+  it('crosses a comlink MessageChannel by transfer and arrives equal to the in-process run', async () => {
+    const { port1, port2 } = new MessageChannel();
+    const sent: RunOutput[] = [];
+    Comlink.expose(
+      createWorkerApi((r) => {
+        const out = runRequest(r);
+        sent.push(out);
+        return Comlink.transfer(out, runOutputTransferables(out));
+      }),
+      port1 as unknown as Endpoint,
+    );
+    const remote = Comlink.wrap<EngineWorkerApi>(port2 as unknown as Endpoint);
+    const preset = demoPreset('demo-reflectron-dual');
+    const got = await remote.run({ preset, ions: 300, scene: {}, focusScan: true });
+    const local = runRequest({ preset, ions: 300, scene: {}, focusScan: true });
+    expect(got.scene!.layout).toEqual(local.scene!.layout);
+    expect(got.focusScan).toEqual(local.focusScan);
+    expect(Array.from(got.scene!.paths.t0_s)).toEqual(Array.from(local.scene!.paths.t0_s));
+    expect(Array.from(got.scene!.paths.fate)).toEqual(Array.from(local.scene!.paths.fate));
+    // Transferred, not copied: the sender's buffers are detached.
+    expect(sent[0].scene!.paths.t0_s.byteLength).toBe(0);
+    port1.close();
+    port2.close();
   });
 });
