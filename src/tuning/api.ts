@@ -1,38 +1,18 @@
 /**
  * The engine's service contract, as the comlink worker (workers/engine.worker.ts) exposes it and as
- * the CLI calls it in-process. Presets cross this boundary as validated `Preset` objects (plain
+ * the CLI calls it in-process: runs (contract in src/simulation/runContract.ts), scans and tunes. Presets cross this boundary as validated `Preset` objects (plain
  * JSON data); results carry typed arrays that the worker transfers rather than copies.
  */
 import type { Preset } from '../presets/schema';
-import type { RunReport } from '../simulation/report';
+import type { RunOutput, RunRequest } from '../simulation/runContract';
 import type { ResolvingPowerCriterion } from '../simulation/headline';
 import type { SpeciesMargin } from './transmissionConstraint';
 
 export type { ResolvingPowerCriterion } from '../simulation/headline';
 
-export interface RunRequest {
-  readonly preset: Preset;
-  /** Override of the preset's ion count (e.g. a light rerun while a slider is dragged). */
-  readonly ions?: number;
-  readonly seed?: number;
-  /** Build the spectrum, peak, calibration and focus sections (default true); off for quick previews. */
-  readonly analysis?: boolean;
-  /** Also count the ions that cross the extraction grid during the delay (src/simulation/pulseReach.ts). */
-  readonly pulseReach?: boolean;
-}
-
-export interface RunOutput {
-  readonly report: RunReport;
-  /** Per-ion flight times (s) and fate codes, same order as the ensemble (species blocks). */
-  readonly flightTime_s: Float64Array;
-  readonly fate: Uint8Array;
-  /** Ion index boundaries per reported species (all of its isotope peaks), length species + 1. */
-  readonly speciesStart: Int32Array;
-  /** Wall-clock time the run took inside the engine (ms), for the app's status line. */
-  readonly elapsed_ms: number;
-  /** When asked for (RunRequest.pulseReach): ions in the source at the pulse, and those past its first stage. */
-  readonly pulseReach?: { readonly inSource: number; readonly pastFirstStage: number };
-}
+// The run contract lives with the simulation; re-exported here so that code written against the
+// old place (branches in flight) still compiles. New code imports src/simulation/runContract.ts.
+export type { RunOutput, RunRequest } from '../simulation/runContract';
 
 /** One scanned parameter, addressed by its dotted path in the preset (e.g. `source.extraction.delay_ns`). */
 export interface ScanAxis {

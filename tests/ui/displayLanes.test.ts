@@ -5,8 +5,9 @@
  */
 import { describe, expect, it } from 'vitest';
 import { compilePreset } from '../../src/presets/compile';
-import { displayLanes, drawableModel, laneShift_mm } from '../../src/ui/scene/drawableModel';
-import { buildLayout } from '../../src/ui/scene/layout';
+import { drawableModel } from '../../src/simulation/scene/drawableModel';
+import { buildLayout } from '../../src/simulation/scene/layout';
+import { displayLanes, laneShift_mm } from '../../src/ui/scene/displayLanes';
 import { demoPreset } from './helpers';
 
 const layoutOf = (name: 'demo-linear-delayed' | 'demo-reflectron-dual') => buildLayout(drawableModel(compilePreset(demoPreset(name)).model).model, 40);

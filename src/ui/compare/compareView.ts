@@ -7,7 +7,7 @@ import { Fate } from '../../physics/fates';
 import { idealGridEquivalent } from '../../presets/compileFields';
 import { pulseReachNote } from '../../simulation/pulseReach';
 import type { Preset } from '../../presets/schema';
-import type { RunOutput } from '../../tuning/api';
+import type { RunOutput } from '../../simulation/runContract';
 import type { AppContext } from '../appContext';
 import { accumulate, binCentres, binsForWidth, detectedExtent, paddedRange } from '../charts/binning';
 import { axis, chartSize, fitChart, followSize, withAlpha } from '../charts/theme';

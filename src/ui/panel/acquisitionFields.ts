@@ -13,9 +13,11 @@ import {
 } from '../../analysis/acquisition/detectionYield';
 import { ION_LOAD_LIMITS as L } from '../../presets/ionLoadSchema';
 import { allowedHint, type ChoiceField, type FieldSpec, type ModeMemory, type NumberField, type SwitchField } from './fields';
+import type { PresetPath } from '../../presets/presetPaths';
+import { registerFields } from './fieldRegistry';
 import { deleteAt, getAt, setAt } from './presetPath';
 
-const has = (doc: unknown, path: string): boolean => getAt(doc, path) !== undefined;
+const has = (doc: unknown, path: PresetPath): boolean => getAt(doc, path) !== undefined;
 const loadOn = (doc: unknown): boolean => has(doc, 'ionLoad');
 const detectionMode = (doc: unknown): string => String(getAt(doc, 'ionLoad.detection.mode') ?? 'none');
 const analog = (doc: unknown): boolean => loadOn(doc) && detectionMode(doc) === 'analog';
@@ -43,7 +45,7 @@ function recalled(memory: ModeMemory, key: string, fallback: unknown): unknown {
   return memory.has(key) ? copy(memory.get(key)) : copy(fallback);
 }
 
-function setAside(doc: unknown, memory: ModeMemory, path: string, key: string): void {
+function setAside(doc: unknown, memory: ModeMemory, path: PresetPath, key: string): void {
   const current = getAt(doc, path);
   if (current !== undefined) memory.set(key, copy(current));
   deleteAt(doc, path);
@@ -52,7 +54,7 @@ function setAside(doc: unknown, memory: ModeMemory, path: string, key: string): 
 function number(
   key: string,
   label: string,
-  path: string,
+  path: PresetPath,
   limits: { readonly min: number; readonly max: number },
   step: number,
   window: readonly [number, number],
@@ -79,7 +81,7 @@ function number(
 }
 
 /** A part of the section switched on (its defaults or what was set aside) or off (set aside). */
-function part(key: string, label: string, path: string, fallback: unknown, visible: (doc: unknown) => boolean): SwitchField {
+function part(key: string, label: string, path: PresetPath, fallback: unknown, visible: (doc: unknown) => boolean): SwitchField {
   return {
     kind: 'boolean',
     key,
@@ -165,3 +167,5 @@ export const ACQUISITION_FIELDS: readonly FieldSpec[] = [
   part('spaceCharge', 'space charge (charged sheets)', 'ionLoad.spaceCharge', ION_LOAD_DEFAULTS.spaceCharge, loadOn),
   number('beamRadius_mm', 'beam radius, space charge (mm)', 'ionLoad.spaceCharge.beamRadius_mm', L.beamRadius_mm, 0.01, [0.05, 10], (doc) => loadOn(doc) && has(doc, 'ionLoad.spaceCharge'), 1),
 ];
+
+registerFields(ACQUISITION_FIELDS);

@@ -30,10 +30,9 @@ import {
 import { OrbitControls } from 'three/addons/controls/OrbitControls.js';
 import { Fate } from '../../physics/fates';
 import { potentialRgb } from '../colors';
-import { MAX_EQUIPOTENTIAL_SEGMENTS } from './equipotentials';
-import { MAX_MIRROR_RINGS, type FrameBox, type SceneLayout } from './layout';
+import { MAX_EQUIPOTENTIAL_SEGMENTS, MAX_MIRROR_RINGS, type FrameBox, type SceneLayout } from '../../simulation/scene/sceneData';
 import { fillPaths, MAX_DRAWN_IONS, positionAt, type DrawnIons } from './paths';
-import { displayLanes, laneShift_mm, type DisplayLanes } from './drawableModel';
+import { displayLanes, laneShift_mm, type DisplayLanes } from './displayLanes';
 
 const MAX_PATH_VERTICES = 60_000;
 const MAX_PLATES = 4;
