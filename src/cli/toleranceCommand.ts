@@ -12,7 +12,8 @@ import { parsePresetText } from '../presets/load';
 import { LIMITS } from '../presets/schema';
 import { simulate } from '../simulation/run';
 import { TuningInputError } from '../tuning/errors';
-import { monteCarloSpecies, type MonteCarloDraw, type ToleranceRequest, type ToleranceResult } from '../tolerance/analysis';
+import { monteCarloDesign, monteCarloSpecies, type MonteCarloDraw, type ToleranceRequest, type ToleranceResult } from '../tolerance/analysis';
+import { toleranceParameters } from '../tolerance/parameters';
 import { formatToleranceCsv, formatToleranceTable, toleranceJson } from '../tolerance/format';
 import { createThreadPoolClient, defaultThreadCount } from './threadPool';
 
@@ -230,7 +231,9 @@ export async function runToleranceCommand(argv: readonly string[], io: Tolerance
     result = await engine.tolerance(request);
     if (args.join.length) {
       const drawSeed = args.drawSeed ?? preset.run.seed;
-      const stub = { ...result, monteCarlo: { draws: args.draws, drawSeed, shard: null, parameters: [], drawsRun: 0, failedDraws: 0, species: [], perDraw: [] } };
+      // The shards' design, recomputed from the same sensitivities (the same preset, seed and draws).
+      const { design } = monteCarloDesign(result.sensitivities, result.species.length, result.shots, toleranceParameters(preset), args.draws, drawSeed);
+      const stub = { ...result, monteCarlo: { draws: args.draws, drawSeed, shard: null, parameters: [], design, drawsRun: 0, failedDraws: 0, species: [], perDraw: [] } };
       const perDraw = joinedDraws(args, io, preset.name, stub);
       result = {
         ...result,

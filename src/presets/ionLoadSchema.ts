@@ -5,6 +5,7 @@
  * reaching the active area gives the same pulse. Self-contained (schema.ts imports it).
  */
 import { z } from 'zod';
+import { rangedNumber } from './rangedNumber';
 import {
   DEFAULT_OPEN_AREA_FRACTION,
   DEFAULT_THRESHOLD_SPEED_KM_PER_S,
@@ -25,14 +26,7 @@ export const ION_LOAD_LIMITS = {
   sweepPoints: { min: 1, max: 16 },
 } as const;
 
-type Range = { readonly min: number; readonly max: number };
-
-function ranged(range: Range, unit: string, exclusiveMin = false) {
-  const lo = exclusiveMin ? `> ${range.min}` : `≥ ${range.min}`;
-  const text = `must be a number ${lo} and ≤ ${range.max}${unit ? ' ' + unit : ''}`;
-  const base = z.number({ error: text });
-  return (exclusiveMin ? base.gt(range.min, { error: text }) : base.gte(range.min, { error: text })).lte(range.max, { error: text });
-}
+const ranged = rangedNumber;
 
 const L = ION_LOAD_LIMITS;
 

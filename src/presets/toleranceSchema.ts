@@ -7,6 +7,7 @@
  * Self-contained (schema.ts imports it); units in every key.
  */
 import { z } from 'zod';
+import { rangedNumber } from './rangedNumber';
 import { MATERIAL_NAMES } from '../tolerance/materials';
 
 export const TOLERANCE_LIMITS = {
@@ -20,14 +21,7 @@ export const TOLERANCE_LIMITS = {
   mz: { min: 0.5, max: 10_000_000 },
 } as const;
 
-type Range = { readonly min: number; readonly max: number };
-
-function ranged(range: Range, unit: string, exclusiveMin = false) {
-  const lo = exclusiveMin ? `> ${range.min}` : `≥ ${range.min}`;
-  const text = `must be a number ${lo} and ≤ ${range.max} ${unit}`;
-  const base = z.number({ error: text });
-  return (exclusiveMin ? base.gt(range.min, { error: text }) : base.gte(range.min, { error: text })).lte(range.max, { error: text });
-}
+const ranged = rangedNumber;
 
 const supplySchema = z.strictObject({
   /** Slow drift of the supply's output between acquisitions (1 sd, ppm of its setting). */

@@ -6,7 +6,8 @@
  *    calibration (src/tolerance/calibration.ts) and resolving power, per unit of the parameter,
  *    and the resolving power at the stated tolerance;
  * 2. a budget for a target mass accuracy (src/tolerance/budget.ts);
- * 3. a seeded Monte Carlo (slow terms stratified along their linearised mass error, per-shot draws of the shot terms),
+ * 3. a seeded Monte Carlo (slow terms and the shots' mean of the shot terms on a randomly shifted lattice in the
+ *    principal directions of every species' linearised mass error, src/tolerance/latticeDesign.ts; per-shot draws),
  *    each draw a full rerun; a shard runs a deterministic share of the draws.
  * Results depend only on the request, not on the pool size.
  */
@@ -20,7 +21,8 @@ import { buildBudget, type Budget } from './budget';
 import { apparentMz, fixedCalibration, type FixedCalibration } from './calibration';
 import { shotCount, type BlockFigures, type TolerancePoint, type ToleranceTask, type ToleranceTaskResult } from './evaluate';
 import { toleranceParameters, toleranceSettings, TRIGGER_ID, type ToleranceParameter } from './parameters';
-import { histogram, stratifiedNormalDesign, summarise, type Histogram, type Summary } from './statistics';
+import { latticeNormalDesign, type DrawDesign } from './latticeDesign';
+import { histogram, summarise, type Histogram, type Summary } from './statistics';
 
 export const MAX_DRAWS = 100_000;
 /** Default target when neither the request nor the preset gives one (common practice, no source). */
@@ -111,6 +113,8 @@ export interface MonteCarloResult {
   readonly shard: { readonly index: number; readonly count: number } | null;
   /** Parameters drawn (tolerance > 0): slow ones once per draw, shot ones once per shot. */
   readonly parameters: string[];
+  /** How the draws are laid out (latticeNormalDesign). */
+  readonly design: DrawDesign;
   readonly drawsRun: number;
   readonly failedDraws: number;
   readonly species: MonteCarloSpecies[];
@@ -350,13 +354,8 @@ export async function toleranceWith(pool: TaskPool, request: ToleranceRequest, o
 
   let monteCarlo: MonteCarloResult | null = null;
   if (draws > 0) {
-    // Stratified along the linearised mass error of the budget's worst species (see stratifiedNormalDesign).
-    const ref = Math.max(0, species.findIndex((sp) => sp.mz === budget.worstMz));
-    // The shot terms enter through the mean of their per-shot values (sd = tolerance/√shots).
-    const perUnit = (p: ToleranceParameter): number => sensitivities.find((x) => x.parameter === p.id)?.species[ref].massShift_ppm_per_unit ?? 0;
+    const { z: design, design: layout } = monteCarloDesign(sensitivities, species.length, shots, params, draws, drawSeed);
     const rootShots = Math.sqrt(shots);
-    const weights = [...slowWithTolerance.map((p) => perUnit(p) * p.tolerance), ...shotWithTolerance.map((p) => (perUnit(p) * p.tolerance) / rootShots)];
-    const design = stratifiedNormalDesign(draws, weights, drawSeed);
     const nSlow = slowWithTolerance.length;
     const mcPoints: TolerancePoint[] = mcIndices.map((d) => ({
       index: d,
@@ -385,7 +384,7 @@ export async function toleranceWith(pool: TaskPool, request: ToleranceRequest, o
         resolvingPower: species.map((_, s) => headline(main(r, s))),
       };
     });
-    monteCarlo = summariseDraws(perDraw, species, sensitivities, params, draws, drawSeed, request.shard ?? null);
+    monteCarlo = summariseDraws(perDraw, species, sensitivities, params, draws, drawSeed, request.shard ?? null, layout);
   }
 
   const c = cal.coefficients;
@@ -414,6 +413,31 @@ export async function toleranceWith(pool: TaskPool, request: ToleranceRequest, o
   };
 }
 
+/**
+ * The Monte Carlo's draws: one dimension per slow parameter with a tolerance, then one per shot term
+ * with a tolerance (its mean over the shots, sd = tolerance/√shots), laid out along every species'
+ * linearised mass error (headline figure) at once.
+ */
+export function monteCarloDesign(
+  sensitivities: readonly ParameterSensitivity[],
+  speciesCount: number,
+  shots: number,
+  params: readonly ToleranceParameter[],
+  draws: number,
+  drawSeed: number,
+): { z: Float64Array[]; design: DrawDesign } {
+  const drawn = [...params.filter((p) => p.kind === 'slow' && p.tolerance > 0), ...params.filter((p) => p.kind === 'shot' && p.tolerance > 0)];
+  const rootShots = Math.sqrt(shots);
+  const directions = Array.from({ length: speciesCount }, (_, s) =>
+    drawn.map((p) => {
+      const perUnit = sensitivities.find((x) => x.parameter === p.id)?.species[s].massShift_ppm_per_unit ?? 0;
+      return (perUnit * p.tolerance) / (p.kind === 'shot' ? rootShots : 1);
+    }),
+  );
+  const { z, design } = latticeNormalDesign(draws, directions, drawn.length, drawSeed);
+  return { z, design };
+}
+
 /** The linearised prediction of the mass error's sd per species: root-sum-square of the contributions at the tolerances. */
 export function linearMassSd_ppm(sensitivities: readonly ParameterSensitivity[], s: number, ions = false): number | null {
   let sum = 0;
@@ -436,12 +460,14 @@ function summariseDraws(
   draws: number,
   drawSeed: number,
   shard: { index: number; count: number } | null,
+  design: DrawDesign,
 ): MonteCarloResult {
   return {
     draws,
     drawSeed,
     shard,
     parameters: params.filter((p) => p.tolerance > 0).map((p) => p.id),
+    design,
     drawsRun: perDraw.length,
     failedDraws: perDraw.filter((d) => d.error !== undefined).length,
     species: monteCarloSpecies(perDraw, species, sensitivities),

@@ -69,6 +69,7 @@ export function formatToleranceTable(presetName: string, r: ToleranceResult): st
       `Monte Carlo: ${mc.drawsRun} of ${mc.draws} draws${mc.shard ? ` (shard ${mc.shard.index + 1}/${mc.shard.count})` : ''}, draw seed ${mc.drawSeed}, ${mc.parameters.length} parameter(s) drawn` +
         (mc.failedDraws ? `, ${mc.failedDraws} failed` : ''),
     );
+    lines.push(`  draws: ${mc.design.method}`);
     lines.push('  mass error of the spectrum peak (as measured, with its counting noise); ions: mean arrival time, ideal detector');
     lines.push(
       ...table(

@@ -5,7 +5,7 @@
  * stage plus (Q_below − Q_above)/(2·ε0·A) from the other sheets, which is constant until some
  * sheet passes it: between events every ion moves with constant acceleration, in closed form.
  *
- * Events, taken in time order from a binary heap with lazy invalidation (a version number per
+ * Events, taken in time order from a binary heap (./eventQueue) with lazy invalidation (a version number per
  * sheet): two neighbouring sheets meet (they pass through each other and swap rank: only those
  * two change acceleration), a sheet reaches a plane of its region (the next source stage, the
  * drift, or its fate), the extraction switches (every sheet changes acceleration), a sheet leaves
@@ -25,6 +25,7 @@ import type { AnalyserModel } from '../analyser';
 import { createExactPlan, driftExact, mirrorExact, postAccelerateExact, prepareExactPlan, type ExactPlan, type IonState } from '../exactEngine';
 import { Fate } from '../fates';
 import { ATOMIC_MASS_CONSTANT_KG, ELEMENTARY_CHARGE_C } from '../constants';
+import { EventQueue } from './eventQueue';
 import { createMotion, crossForward, Crossing, firstExit, firstPositiveRoot } from '../uniformField';
 
 /** Vacuum permittivity ε0 in F/m (CODATA 2018, Tiesinga et al., Rev. Mod. Phys. 93, 025010 (2021)). */
@@ -87,19 +88,7 @@ export class SheetEngine {
   /** Events handled in the current shot. */
   events = 0;
 
-  // Event heap (struct of arrays).
-  private hCap = 0;
-  private hLen = 0;
-  private hTime = new Float64Array(0);
-  private hKind = new Uint8Array(0);
-  private hA = new Int32Array(0);
-  private hB = new Int32Array(0);
-  private hVa = new Int32Array(0);
-  private hVb = new Int32Array(0);
-  private hSide = new Int8Array(0);
-  private hV = new Float64Array(0);
-  /** While set, push appends without ordering (rebuildHeap heapifies afterwards). */
-  private bulk = false;
+  private readonly queue = new EventQueue();
 
   private readonly motion = createMotion();
   private readonly st: IonState = { t: 0, z: 0, v: 0, fate: Fate.UNSET, w: 1 };
@@ -189,17 +178,19 @@ export class SheetEngine {
   /** Runs the shot until every sheet has a fate (or until `until`, leaving the rest in flight); writes fates into `sink`. */
   run(sink: SheetSink | null, until = Infinity): void {
     const limit = Math.min(until, this.model.maxFlightTime_s);
-    while (this.hLen > 0 && this.aliveCount > 0) {
-      if (this.hTime[0] > limit) break;
-      const te = this.hTime[0];
-      const kind = this.hKind[0];
-      const a = this.hA[0];
-      const b = this.hB[0];
-      const va = this.hVa[0];
-      const vb = this.hVb[0];
-      const side = this.hSide[0];
-      const vOut = this.hV[0];
-      this.pop();
+    const q = this.queue;
+    while (q.length > 0 && this.aliveCount > 0) {
+      if (q.time[0] > limit) break;
+      const te = q.time[0];
+      const kind = q.kind[0];
+      const slot = q.slot[0];
+      const a = q.a[slot];
+      const b = q.b[slot];
+      const va = q.versionA[slot];
+      const vb = q.versionB[slot];
+      const side = q.side[slot];
+      const vOut = q.speed[slot];
+      q.pop();
       if (kind === SWITCH) {
         if (!this.hold) continue;
         this.events++;
@@ -289,14 +280,14 @@ export class SheetEngine {
     return s === 0 ? ext : ext + this.qm[k] * s * this.fieldPerCharge;
   }
 
-  /** Q_below − Q_above for every live sheet, from the rank order. */
+  /** Q_below − Q_above for every live sheet, from the rank order (the live sheets are order[0 … aliveCount)). */
   private recomputeSums(): void {
+    const live = this.aliveCount;
     let total = 0;
-    for (let r = 0; r < this.n; r++) if (this.alive[this.order[r]]) total += this.charge[this.order[r]];
+    for (let r = 0; r < live; r++) total += this.charge[this.order[r]];
     let below = 0;
-    for (let r = 0; r < this.n; r++) {
+    for (let r = 0; r < live; r++) {
       const k = this.order[r];
-      if (!this.alive[k]) continue;
       const above = total - below - this.charge[k];
       this.sum[k] = this.aliveCount === 1 ? 0 : below - above;
       below += this.charge[k];
@@ -384,18 +375,16 @@ export class SheetEngine {
 
   /** Drops every queued event and schedules all of them afresh (appended unordered, then heapified in O(n)). */
   private rebuildHeap(t: number): void {
-    this.hLen = 0;
-    this.bulk = true;
+    this.queue.clear(true);
     if (this.hold) this.push(this.model.source.delay_s, SWITCH, -1, -1, 0, 0);
-    for (let r = 0; r < this.n; r++) {
+    const live = this.aliveCount;
+    for (let r = 0; r < live; r++) {
       const k = this.order[r];
-      if (!this.alive[k]) continue;
       this.ver[k]++;
       this.schedulePlane(k);
     }
-    for (let r = 0; r + 1 < this.n; r++) this.schedulePair(r, t);
-    this.bulk = false;
-    for (let i = (this.hLen >> 1) - 1; i >= 0; i--) this.siftDown(i);
+    for (let r = 0; r + 1 < live; r++) this.schedulePair(r, t);
+    this.queue.heapify();
   }
 
   /** Two neighbours meet: they pass through each other and swap rank. */
@@ -471,11 +460,16 @@ export class SheetEngine {
       this.write(sink, k, recorded_s, fate, speed);
     }
     if (this.aliveCount === 0) return;
-    // Its field is gone: every other sheet changes acceleration from now on.
-    let w2 = 0;
-    for (let r = 0; r < this.n; r++) if (this.alive[this.order[r]]) this.order[w2++] = this.order[r];
-    for (let r = 0; r < this.n; r++) if (!this.alive[r]) this.order[w2++] = r;
-    for (let r = 0; r < this.n; r++) this.rank[this.order[r]] = r;
+    // Its field is gone: every other sheet changes acceleration from now on. The live sheets stay
+    // first in rank order (order[0 … aliveCount)): those above k move down one rank, k goes behind them.
+    const from = this.rank[k];
+    for (let r = from; r < this.aliveCount; r++) {
+      const j = this.order[r + 1];
+      this.order[r] = j;
+      this.rank[j] = r;
+    }
+    this.order[this.aliveCount] = k;
+    this.rank[k] = this.aliveCount;
     this.recomputeSums();
     for (let r = 0; r < this.aliveCount; r++) {
       const j = this.order[r];
@@ -499,94 +493,8 @@ export class SheetEngine {
     sink.weight[i] = this.weight[k];
   }
 
-  // --- binary heap on (time, kind) ---
-
   private push(time: number, kind: number, a: number, b: number, side: number, v: number): void {
-    if (this.hLen === this.hCap) this.growHeap();
-    let i = this.hLen++;
-    const va = a >= 0 ? this.ver[a] : 0;
-    const vb = b >= 0 ? this.ver[b] : 0;
-    while (i > 0 && !this.bulk) {
-      const parent = (i - 1) >> 1;
-      if (this.hTime[parent] < time || (this.hTime[parent] === time && this.hKind[parent] <= kind)) break;
-      this.copy(i, parent);
-      i = parent;
-    }
-    this.hTime[i] = time;
-    this.hKind[i] = kind;
-    this.hA[i] = a;
-    this.hB[i] = b;
-    this.hVa[i] = va;
-    this.hVb[i] = vb;
-    this.hSide[i] = side;
-    this.hV[i] = v;
-  }
-
-  private pop(): void {
-    const last = --this.hLen;
-    if (last === 0) return;
-    this.copy(0, last);
-    this.siftDown(0);
-  }
-
-  /** Moves the entry at i down until both children come later. */
-  private siftDown(start: number): void {
-    const len = this.hLen;
-    const time = this.hTime[start];
-    const kind = this.hKind[start];
-    const a = this.hA[start];
-    const b = this.hB[start];
-    const va = this.hVa[start];
-    const vb = this.hVb[start];
-    const side = this.hSide[start];
-    const v = this.hV[start];
-    let i = start;
-    for (;;) {
-      let c = 2 * i + 1;
-      if (c >= len) break;
-      if (c + 1 < len && (this.hTime[c + 1] < this.hTime[c] || (this.hTime[c + 1] === this.hTime[c] && this.hKind[c + 1] < this.hKind[c]))) c++;
-      if (time < this.hTime[c] || (time === this.hTime[c] && kind <= this.hKind[c])) break;
-      this.copy(i, c);
-      i = c;
-    }
-    if (i === start) return;
-    this.hTime[i] = time;
-    this.hKind[i] = kind;
-    this.hA[i] = a;
-    this.hB[i] = b;
-    this.hVa[i] = va;
-    this.hVb[i] = vb;
-    this.hSide[i] = side;
-    this.hV[i] = v;
-  }
-
-  private copy(to: number, from: number): void {
-    this.hTime[to] = this.hTime[from];
-    this.hKind[to] = this.hKind[from];
-    this.hA[to] = this.hA[from];
-    this.hB[to] = this.hB[from];
-    this.hVa[to] = this.hVa[from];
-    this.hVb[to] = this.hVb[from];
-    this.hSide[to] = this.hSide[from];
-    this.hV[to] = this.hV[from];
-  }
-
-  private growHeap(): void {
-    const c = Math.max(64, 2 * this.hCap);
-    const grow = <T extends Float64Array | Int32Array | Uint8Array | Int8Array>(old: T, make: (n: number) => T): T => {
-      const next = make(c);
-      next.set(old);
-      return next;
-    };
-    this.hTime = grow(this.hTime, (n) => new Float64Array(n));
-    this.hKind = grow(this.hKind, (n) => new Uint8Array(n));
-    this.hA = grow(this.hA, (n) => new Int32Array(n));
-    this.hB = grow(this.hB, (n) => new Int32Array(n));
-    this.hVa = grow(this.hVa, (n) => new Int32Array(n));
-    this.hVb = grow(this.hVb, (n) => new Int32Array(n));
-    this.hSide = grow(this.hSide, (n) => new Int8Array(n));
-    this.hV = grow(this.hV, (n) => new Float64Array(n));
-    this.hCap = c;
+    this.queue.push(time, kind, a, b, a >= 0 ? this.ver[a] : 0, b >= 0 ? this.ver[b] : 0, side, v);
   }
 }
 

@@ -152,6 +152,7 @@ export class ToleranceView {
       return;
     }
     this.hists.replaceChildren(
+      el('p', { className: 'summary', text: `Draws: ${mc.design.method}.` }),
       ...mc.species.map((s, i) =>
         el(
           'div',
