@@ -9,6 +9,8 @@
  *                                (the mirror's transfer map where it validates, src/physics/solvedMirrorMap.ts;
  *                                a fresh map fitted and validated in each pass), best of three passes
  *  field_trace_direct_ions_per_s every ion traced directly through the mirror (DOPRI5 rtol 1e-7): the same run
+ *  field_trace_cpu_ions_per_s, field_trace_direct_cpu_ions_per_s: the same per CPU second of this
+ *                                process (steadier than wall time on a shared machine)
  *  field_trace_map_fraction      share of the ions that the map carried through the mirror
  *  field_trace_rms_rel_err       rms error of the flight time of the user's run against a reference run
  *                                (the mirror traced at rtol 1e-12) of every 10th ion, divided by the
@@ -49,12 +51,16 @@ export function benchFieldTrace(ions = 20000): Record<string, number> {
   const time = (model: AnalyserModel, passes: number) => {
     const out = allocateTraceResult(ens.count);
     let best = Infinity;
+    let cpu_s = Infinity;
     for (let p = 0; p < passes; p++) {
+      const cpu0 = process.cpuUsage();
       const t0 = performance.now();
       traceMixed(model, ens, out);
       best = Math.min(best, (performance.now() - t0) / 1000);
+      const cpu = process.cpuUsage(cpu0);
+      cpu_s = Math.min(cpu_s, (cpu.user + cpu.system) / 1e6);
     }
-    return { out, wall_s: best };
+    return { out, wall_s: best, cpu_s };
   };
   traceMixed(directModel, samplePopulation({ ...compiled.population, totalIons: 500 }), allocateTraceResult(500)); // JIT warm-up
   solvedCounters.steps = solvedCounters.rejected = solvedCounters.evaluations = 0;
@@ -65,7 +71,7 @@ export function benchFieldTrace(ions = 20000): Record<string, number> {
 
   // Reference: every 10th ion, the mirror traced at REFERENCE precision; its time inside recorded.
   const ion = createSolvedIonState();
-  let mirrorTime = 0;
+  let mirrorTime = 0; // set by each reference pass
   const reference = {
     pass(st: IonState, plan: ExactPlan, tLimit_s: number): boolean {
       Object.assign(ion, { t: st.t, x: transverseX(st.t), y: transverseY(st.t), z: mirror.region.entryZ_m, vx: transverse.vxRef, vy: transverse.vyRef, vz: st.v });
@@ -90,7 +96,6 @@ export function benchFieldTrace(ions = 20000): Record<string, number> {
     for (let i = ens.speciesStart[s]; i < ens.speciesStart[s + 1]; i += 10) {
       Object.assign(st, { t: 0, z: ens.z0_m[i], v: ens.vz0_m_per_s[i], fate: Fate.UNSET, w: 1 });
       startTransverse(ens.x0_m[i], ens.y0_m[i], ens.vx0_m_per_s[i], ens.vy0_m_per_s[i]);
-      mirrorTime = 0;
       traceOneMixed(st, plan, directModel, reference as never);
       if (st.fate !== Fate.DETECTED || user.out.fate[i] !== Fate.DETECTED || direct.out.fate[i] !== Fate.DETECTED) continue;
       const eu = Math.abs(user.out.flightTime_s[i] - st.t) / mirrorTime;
@@ -108,6 +113,8 @@ export function benchFieldTrace(ions = 20000): Record<string, number> {
   return {
     field_trace_ions_per_s: round(ions / user.wall_s),
     field_trace_direct_ions_per_s: round(ions / direct.wall_s),
+    field_trace_cpu_ions_per_s: round(ions / user.cpu_s),
+    field_trace_direct_cpu_ions_per_s: round(ions / direct.cpu_s),
     field_trace_map_fraction: round(map ? map.mapped / ens.count : 0, 3),
     field_trace_rms_rel_err: round(Math.sqrt(err.user[0] / count), 3),
     field_trace_max_rel_err: round(err.user[1], 3),
