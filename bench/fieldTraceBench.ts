@@ -1,159 +1,128 @@
 /**
- * Solved-field tracing benchmark: ions through the gridless ring-stack mirror of
- * presets/demo-gridless-mirror.json (30 rings on a divider, 0.5 mm mesh), single thread.
- * Each ion starts on the mirror's entry plane with the speed of a 4.7–5.0 keV m/z 1058.6 ion, a
- * transverse offset up to 3 mm and a transverse velocity up to ±150 m/s (a deterministic spread),
- * and is traced in 3-D until it leaves the mirror again (or strikes).
- *
- * The ions come in a scrambled order (a user's run samples them at random), which matters to the
- * opt-in transfer map: it is fitted to the first ions of a run (src/physics/solvedMirrorMap.ts).
+ * Solved-field tracing benchmark, as a user's run does it: the population of
+ * presets/demo-gridless-mirror.json (its own source, both species, 2·10^4 ions as the app runs it,
+ * seed 1) through the analyser with the gridless ring-stack mirror (30 rings on a divider, 0.5 mm
+ * mesh, solved field), single thread, with `traceMixed` as `simulate` calls it.
  *
  * Reported:
- *  field_trace_ions_per_s      mirror passes per wall second as a user's run does them (today every
- *                              ion traced: the map is opt-in), best of five passes after a JIT warm-up
- *  field_trace_direct_ions_per_s every ion traced directly (DOPRI5 rtol 1e-7): the same pass
- *  field_trace_rms_rel_err     rms relative error of the time inside the mirror, as a user's run,
- *                              against a REFERENCE trace (DOPRI5 rtol 1e-12) of every 10th ion;
- *                              field_trace_max_rel_err the largest
- *  field_trace_map_*           the opt-in transfer map on the same ions: passes per second (a fresh
- *                              map fitted and validated in each pass), share of ions mapped, rms and
- *                              largest error against the same reference
- *  field_trace_cpu_ions_per_s  direct tracing per CPU second of this process (steadier on a shared machine)
- *  field_trace_steps_per_ion   accepted integration steps per ion; field_trace_rejected_per_ion: rejected
- *                              ones; field_trace_evals_per_ion: field evaluations
- *  field_trace_struck          ions that struck an electrode (a check that the spread is realistic)
+ *  field_trace_ions_per_s        ions per wall second of the run's trace as a user's run does it
+ *                                (the mirror's transfer map where it validates, src/physics/solvedMirrorMap.ts;
+ *                                a fresh map fitted and validated in each pass), best of three passes
+ *  field_trace_direct_ions_per_s every ion traced directly through the mirror (DOPRI5 rtol 1e-7): the same run
+ *  field_trace_cpu_ions_per_s, field_trace_direct_cpu_ions_per_s: the same per CPU second of this
+ *                                process (steadier than wall time on a shared machine)
+ *  field_trace_map_fraction      share of the ions that the map carried through the mirror
+ *  field_trace_rms_rel_err       rms error of the flight time of the user's run against a reference run
+ *                                (the mirror traced at rtol 1e-12) of every 10th ion, divided by the
+ *                                reference time inside the mirror (so the figure is the relative error
+ *                                of the mirror's time, the return drift's change through the exit
+ *                                direction included); field_trace_max_rel_err the largest
+ *  field_trace_direct_rms_rel_err, field_trace_direct_max_rel_err: the same for the direct run
+ *  field_trace_steps_per_ion, field_trace_rejected_per_ion, field_trace_evals_per_ion: integration
+ *                                steps, rejections and field evaluations per directly traced ion
+ *  field_trace_struck            ions of the run that struck an electrode
  * Runnable alone: npx tsx bench/fieldTraceBench.ts
  */
 import { readFileSync } from 'node:fs';
 import { pathToFileURL } from 'node:url';
-import { chargeToMass_C_per_kg } from '../src/physics/constants';
-import { createExactPlan, createIonState, prepareExactPlan } from '../src/physics/exactEngine';
+import { allocateTraceResult } from '../src/ions/ensemble';
+import { samplePopulation } from '../src/ions/population';
+import type { AnalyserModel } from '../src/physics/analyser';
+import { createExactPlan, createIonState, prepareExactPlan, type ExactPlan, type IonState } from '../src/physics/exactEngine';
 import { Fate } from '../src/physics/fates';
 import { SolvedExit, SolvedPrecision, createSolvedIonState, solvedCounters, traceSolvedRegion } from '../src/fields/solvedTracer';
-import type { IonState } from '../src/physics/exactEngine';
-import { mirrorSolved, startTransverse, transverse, transverseX, transverseY } from '../src/physics/solvedMirror';
-import { SolvedMirrorMapper } from '../src/physics/solvedMirrorMap';
+import { leftSolvedRegion, startTransverse, transverse, transverseX, transverseY } from '../src/physics/solvedMirror';
+import { lastMirrorMap, traceMixed, traceOneMixed } from '../src/physics/tracer';
 import { compilePreset } from '../src/presets/compile';
 import { validatePreset } from '../src/presets/load';
 
 const round = (x: number, digits = 4) => Number(x.toPrecision(digits));
-const ion = createSolvedIonState();
 
-export function benchFieldTrace(ions = 4000): Record<string, number> {
+export function benchFieldTrace(ions = 20000): Record<string, number> {
   const doc: unknown = JSON.parse(readFileSync(new URL('../presets/demo-gridless-mirror.json', import.meta.url), 'utf8'));
   const valid = validatePreset(doc);
   if (!valid.ok) throw new Error(JSON.stringify(valid.issues));
-  const model = compilePreset(valid.value).model;
-  const mirror = model.mirror?.solved;
+  const compiled = compilePreset(valid.value);
+  const mirror = compiled.model.mirror?.solved;
   if (!mirror) throw new Error('the demo preset has no solved mirror');
-  const mz = 1058.5629; // kelvatide-10 (invented), the gridless demo's lighter species
-  const plan = prepareExactPlan(createExactPlan(), model, mz);
-  const k = chargeToMass_C_per_kg(mz);
-  const st = createIonState();
-  let struck = 0;
-  const times = new Float64Array(ions);
-  let through: (st: IonState) => boolean = (ionState) => mirrorSolved(ionState, plan, mirror, 1);
-  /** Ion `index` of a pass of n: entry speed, position and transverse velocity; then through the mirror. */
-  const single = (n: number, index: number): boolean => {
-    const scrambled = (index * 1031) % n; // the same ions in scrambled order (1031 is prime to n)
-    const u = (scrambled + 0.5) / n;
-    const energy_eV = 4700 + 300 * u;
-    st.t = 0;
-    st.z = 0;
-    st.v = Math.sqrt(2 * energy_eV * k);
-    st.fate = Fate.UNSET;
-    st.w = 1;
-    const angle = 2.399963 * scrambled; // golden-angle spiral over the entry disc
-    startTransverse(3e-3 * Math.sqrt(u) * Math.cos(angle), 3e-3 * Math.sqrt(u) * Math.sin(angle), 150 * Math.cos(3 * angle), 150 * Math.sin(5 * angle));
-    return through(st);
-  };
-  const pass = (n: number) => {
-    for (let i = 0; i < n; i++) {
-      if (!single(n, i) && st.fate === Fate.STRUCK_ELECTRODE) struck++;
-      if (n === ions) times[i] = st.t;
+  const ens = samplePopulation({ ...compiled.population, totalIons: ions });
+  const userModel: AnalyserModel = compiled.model;
+  const directModel: AnalyserModel = { ...compiled.model, mapSolvedMirror: false };
+  const time = (model: AnalyserModel, passes: number) => {
+    const out = allocateTraceResult(ens.count);
+    let best = Infinity;
+    let cpu_s = Infinity;
+    for (let p = 0; p < passes; p++) {
+      const cpu0 = process.cpuUsage();
+      const t0 = performance.now();
+      traceMixed(model, ens, out);
+      best = Math.min(best, (performance.now() - t0) / 1000);
+      const cpu = process.cpuUsage(cpu0);
+      cpu_s = Math.min(cpu_s, (cpu.user + cpu.system) / 1e6);
     }
+    return { out, wall_s: best, cpu_s };
   };
-  pass(Math.min(500, ions)); // JIT warm-up
-  // Best of five passes (as for B2; the field solve takes the best of six): the pass least
-  // disturbed by other work on a shared machine. The counters are those of one pass (every pass
-  // traces the same ions).
-  let wall_s = Infinity;
-  let cpu_s = Infinity;
-  for (let repeat = 0; repeat < 5; repeat++) {
-    struck = 0;
-    solvedCounters.steps = 0;
-    solvedCounters.rejected = 0;
-    solvedCounters.evaluations = 0;
-    const cpu0 = process.cpuUsage();
-    const wall0 = performance.now();
-    pass(ions);
-    wall_s = Math.min(wall_s, (performance.now() - wall0) / 1000);
-    const cpu = process.cpuUsage(cpu0);
-    cpu_s = Math.min(cpu_s, (cpu.user + cpu.system) / 1e6);
-  }
-  const directTimes = times.slice();
-  const direct = { wall_s, steps: solvedCounters.steps, rejected: solvedCounters.rejected, evaluations: solvedCounters.evaluations, struck };
-  // As a user's run: a fresh map per pass (fitted, validated, then used where it holds).
-  let mapper = new SolvedMirrorMapper(mirror, ions);
-  through = (ionState) => mapper.pass(ionState, plan, 1);
-  let mapped_s = Infinity;
-  for (let repeat = 0; repeat < 5; repeat++) {
-    mapper = new SolvedMirrorMapper(mirror, ions);
-    const wall0 = performance.now();
-    pass(ions);
-    mapped_s = Math.min(mapped_s, (performance.now() - wall0) / 1000);
-  }
-  const mappedFraction = mapper.report.mapped / ions;
-  const mappedTimes = times.slice();
-  // Reference traces of every 10th ion.
-  through = (ionState) => {
-    ion.t = ionState.t;
-    ion.x = transverseX(ionState.t);
-    ion.y = transverseY(ionState.t);
-    ion.z = mirror.region.entryZ_m;
-    ion.vx = transverse.vxRef;
-    ion.vy = transverse.vyRef;
-    ion.vz = ionState.v;
-    const exit = traceSolvedRegion(ion, mirror.region, plan.qOverM, 1, SolvedPrecision.REFERENCE);
-    ionState.t = ion.t;
-    return exit === SolvedExit.ENTRY;
+  traceMixed(directModel, samplePopulation({ ...compiled.population, totalIons: 500 }), allocateTraceResult(500)); // JIT warm-up
+  solvedCounters.steps = solvedCounters.rejected = solvedCounters.evaluations = 0;
+  const direct = time(directModel, 3);
+  const counters = { steps: solvedCounters.steps / 3, rejected: solvedCounters.rejected / 3, evaluations: solvedCounters.evaluations / 3 };
+  const user = time(userModel, 3);
+  const map = lastMirrorMap;
+
+  // Reference: every 10th ion, the mirror traced at REFERENCE precision; its time inside recorded.
+  const ion = createSolvedIonState();
+  let mirrorTime = 0; // set by each reference pass
+  const reference = {
+    pass(st: IonState, plan: ExactPlan, tLimit_s: number): boolean {
+      Object.assign(ion, { t: st.t, x: transverseX(st.t), y: transverseY(st.t), z: mirror.region.entryZ_m, vx: transverse.vxRef, vy: transverse.vyRef, vz: st.v });
+      const exit = traceSolvedRegion(ion, mirror.region, plan.qOverM, tLimit_s, SolvedPrecision.REFERENCE);
+      mirrorTime = ion.t - st.t;
+      st.t = ion.t;
+      leftSolvedRegion(ion);
+      if (exit !== SolvedExit.ENTRY) {
+        st.fate = Fate.STRUCK_ELECTRODE;
+        return false;
+      }
+      st.v = -ion.vz;
+      return true;
+    },
   };
-  let sumMapped = 0;
-  let sumDirect = 0;
-  let maxMapped = 0;
-  let maxDirect = 0;
+  const st = createIonState();
+  const plan = createExactPlan();
+  const err = { user: [0, 0], direct: [0, 0] };
   let count = 0;
-  const all = ions;
-  for (let i = 0; i < all; i += 10) {
-    if (!single(all, i)) continue;
-    const ref = st.t;
-    const em = Math.abs(mappedTimes[i] - ref) / ref;
-    const ed = Math.abs(directTimes[i] - ref) / ref;
-    sumMapped += em * em;
-    sumDirect += ed * ed;
-    maxMapped = Math.max(maxMapped, em);
-    maxDirect = Math.max(maxDirect, ed);
-    count++;
+  for (let s = 0; s < ens.species.length; s++) {
+    prepareExactPlan(plan, userModel, ens.species[s].mz);
+    for (let i = ens.speciesStart[s]; i < ens.speciesStart[s + 1]; i += 10) {
+      Object.assign(st, { t: 0, z: ens.z0_m[i], v: ens.vz0_m_per_s[i], fate: Fate.UNSET, w: 1 });
+      startTransverse(ens.x0_m[i], ens.y0_m[i], ens.vx0_m_per_s[i], ens.vy0_m_per_s[i]);
+      traceOneMixed(st, plan, directModel, reference as never);
+      if (st.fate !== Fate.DETECTED || user.out.fate[i] !== Fate.DETECTED || direct.out.fate[i] !== Fate.DETECTED) continue;
+      const eu = Math.abs(user.out.flightTime_s[i] - st.t) / mirrorTime;
+      const ed = Math.abs(direct.out.flightTime_s[i] - st.t) / mirrorTime;
+      err.user[0] += eu * eu;
+      err.user[1] = Math.max(err.user[1], eu);
+      err.direct[0] += ed * ed;
+      err.direct[1] = Math.max(err.direct[1], ed);
+      count++;
+    }
   }
   startTransverse(0, 0, 0, 0);
-  wall_s = direct.wall_s;
-  struck = direct.struck;
-  solvedCounters.steps = direct.steps;
-  solvedCounters.rejected = direct.rejected;
-  solvedCounters.evaluations = direct.evaluations;
+  let struck = 0;
+  for (let i = 0; i < ens.count; i++) if (user.out.fate[i] === Fate.STRUCK_ELECTRODE) struck++;
   return {
-    field_trace_ions_per_s: round(ions / wall_s),
-    field_trace_direct_ions_per_s: round(ions / wall_s),
-    field_trace_rms_rel_err: round(Math.sqrt(sumDirect / count), 3),
-    field_trace_max_rel_err: round(maxDirect, 3),
-    field_trace_map_ions_per_s: round(ions / mapped_s),
-    field_trace_map_fraction: round(mappedFraction, 3),
-    field_trace_map_rms_rel_err: round(Math.sqrt(sumMapped / count), 3),
-    field_trace_map_max_rel_err: round(maxMapped, 3),
-    field_trace_cpu_ions_per_s: round(ions / cpu_s),
-    field_trace_steps_per_ion: round(solvedCounters.steps / ions),
-    field_trace_rejected_per_ion: round(solvedCounters.rejected / ions),
-    field_trace_evals_per_ion: round(solvedCounters.evaluations / ions),
+    field_trace_ions_per_s: round(ions / user.wall_s),
+    field_trace_direct_ions_per_s: round(ions / direct.wall_s),
+    field_trace_cpu_ions_per_s: round(ions / user.cpu_s),
+    field_trace_direct_cpu_ions_per_s: round(ions / direct.cpu_s),
+    field_trace_map_fraction: round(map ? map.mapped / ens.count : 0, 3),
+    field_trace_rms_rel_err: round(Math.sqrt(err.user[0] / count), 3),
+    field_trace_max_rel_err: round(err.user[1], 3),
+    field_trace_direct_rms_rel_err: round(Math.sqrt(err.direct[0] / count), 3),
+    field_trace_direct_max_rel_err: round(err.direct[1], 3),
+    field_trace_steps_per_ion: round(counters.steps / ens.count),
+    field_trace_rejected_per_ion: round(counters.rejected / ens.count),
+    field_trace_evals_per_ion: round(counters.evaluations / ens.count),
     field_trace_struck: struck,
   };
 }

@@ -17,6 +17,7 @@ import type { SpectrumSection } from './simulation/analysisReport';
 import { compareWithIdeal, formatIdealComparison } from './simulation/idealComparison';
 import { isMeasuredCommand, MEASURED_USAGE, runMeasuredCommand } from './cli/measuredCommand';
 import { isToleranceCommand, runToleranceCommand, TOLERANCE_USAGE, type ToleranceCliOptions } from './cli/toleranceCommand';
+import { formatMirrorMap } from './physics/solvedMirrorMap';
 import { applyIonLoadArgs, formatIonLoad, ION_LOAD_USAGE, takeIonLoadArg, type IonLoadArgs } from './cli/ionLoadArgs';
 
 export const USAGE = `Usage: npm run sim -- <preset.json> [--json | --csv] [--ions N] [--seed S]
@@ -190,6 +191,7 @@ export function main(argv: readonly string[], io: CliIo = processIo, options: Tu
       focus: result.report.focus,
       ...(args.spectrum ? { spectrum: spectrumJson(result.analysis.spectrum) } : {}),
       ...(comparison ? { idealComparison: comparison } : {}),
+      ...(result.report.solvedMirrorMap ? { solvedMirrorMap: result.report.solvedMirrorMap } : {}),
       ...(result.ionLoad
         ? { ionLoad: { ionsPerShot: result.ionLoad.ionsPerShot, countLaw: result.ionLoad.countLaw, shots: result.ionLoad.shots }, detection: result.ionLoad.detection, spaceCharge: result.ionLoad.spaceCharge }
         : {}),
@@ -200,6 +202,7 @@ export function main(argv: readonly string[], io: CliIo = processIo, options: Tu
     if (comparison) io.err(formatIdealComparison(comparison)); // keeps stdout a clean CSV
   } else {
     io.out(formatTable(preset, result));
+    if (result.report.solvedMirrorMap) io.out(formatMirrorMap(result.report.solvedMirrorMap));
     if (comparison) io.out(formatIdealComparison(comparison));
     if (result.ionLoad) io.out(formatIonLoad(result.ionLoad));
   }

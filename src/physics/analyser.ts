@@ -102,7 +102,7 @@ export interface AnalyserModel {
    * using their closed form, the rest staying closed-form: how the benchmark keeps an integrated figure.
    */
   readonly integratePulse?: boolean;
-  /** Cross a solved mirror by the run's fitted transfer map where it validates (src/physics/solvedMirrorMap.ts); opt-in, experimental. */
+  /** false: trace every ion through a solved mirror; otherwise the run's fitted transfer map carries the ions where it validates (src/physics/solvedMirrorMap.ts). */
   readonly mapSolvedMirror?: boolean;
 }
 

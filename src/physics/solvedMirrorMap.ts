@@ -2,55 +2,71 @@
  * A per-run transfer map of a solved (gridless) mirror: the time inside and the exit state as
  * polynomials of the entry state, fitted to rays traced through the solved field and used for the
  * rest of the run's ions only where it was validated. Tracing 3-D through a solved field costs
- * ~300 field evaluations per ion; evaluating the map costs one field sample.
+ * ~300 field evaluations per ion; evaluating the map costs two field samples.
  *
- * Why the map is species-free and its form: in a static electric field the path depends only on
- * the start position, the start direction and the kinetic energy per charge U; time scales as
- * 1/sqrt(q/m). The field is rotationally symmetric about the axis and symmetric under reflection
- * in every plane through it, so with P = (x, y) the entry position and D = (dx, dy) the transverse
- * direction cosines, the exit position and direction are P·g + D·h with g, h functions of
- * (U, |P|², P·D, |D|²) only, and the time is such a function too. These functions are fitted as
- * polynomials (least squares, Householder QR) in those four invariants, normalised to the
+ * Why its form: in a static electric field the path depends only on the start position, the start
+ * direction and the kinetic energy per charge U; time scales as 1/sqrt(q/m). The field is
+ * rotationally symmetric about the axis and symmetric under reflection in every plane through it,
+ * so with two transverse vectors A, B of the entry state the exit position and direction are
+ * A·g + B·h with g, h functions of (U, |A|², A·B, |B|²) only, and the time is such a function too.
+ * A is the offset from the beam's virtual source, P − L·D (P the entry position, D the transverse
+ * direction cosines, L the least-squares ratio of P to D over the training rays), and B = D: ions
+ * from a small spot arrive with P nearly proportional to D, so the invariants of (P, D) are nearly
+ * dependent and their fit ill-conditioned, while those of (P − L·D, D) are not. The functions are
+ * fitted as polynomials (least squares, Householder QR) in the invariants, normalised to the
  * training rays' range.
  *
- * The run's ions arrive in random order (they are sampled so), so the first of them are a fair
- * sample of the population's domain: the first ones (2 % of the run, 120…400) are traced at FINE
- * precision (rtol 1e-9) and fitted, the next quarter as many are traced at FINE precision and
- * compared with the map. The map is used for the rest only if every validation ray agrees within
- * TIME_TOL (relative, of the time inside the mirror), POSITION_TOL_M and DIRECTION_TOL, and only
- * for ions inside the central range of the training rays (DOMAIN_QUANTILE: near the edges of the
- * sampled range the polynomials are poorly pinned down). Ions outside it, and every ion of a run
- * whose training or validation rays did not all come back out of the mirror (a strike: electrode
- * edges are near), are traced directly as before. The result is deterministic for a given run
- * (same seed, same ion order), but a mapped ion's time differs from its direct trace at about the
- * direct trace's error level.
+ * One map per species (per q/m): species differ in their time of flight to the mirror, so their
+ * (P, D) relation differs, and the ions of a run come species by species in random order within a
+ * species (they are sampled so), so the first ones are a fair sample of its domain. The first
+ * TRAIN_SHARE of a species (TRAIN_RAYS_MIN…TRAIN_RAYS_MAX) are traced at the normal precision, as
+ * every ion would be (so they cost nothing extra and their results are the direct traces), and
+ * fitted: the least-squares fit averages their step-control noise, so the map is more accurate
+ * than one trace. The next VALIDATE_RAYS inside the domain are traced at FINE precision (rtol 1e-9)
+ * and compared with the map; the map is used for the rest only if the rms and largest errors of
+ * time, exit position and exit direction meet the limits below and none of those rays struck.
+ * Domain: the central range of the training rays (DOMAIN_QUANTILE), and, where the mirror has an
+ * entrance aperture, an entry and a predicted exit line that pass it within APERTURE_MARGIN of its
+ * radius (the rays that strike it graze its edge). Ions outside are traced directly.
  *
- * Status, measured (bench/fieldTraceBench.ts, loaded machine): on the benchmark's spread the map
- * takes ~90 % of 4000 ions, 4–5× faster than tracing each, with a smaller rms time error than the
- * direct trace (6e-8 against 2.2e-7, both against a rtol-1e-12 reference). On the shipped
- * gridless demo, whose ions enter with position and direction nearly proportional, the fitted exit
- * direction misses the validation limit (errors ~4e-5 rad) at 2·10^4 ions, and the map declines.
- * So it is opt-in (AnalyserModel.mapSolvedMirror), not yet what a user's run does.
+ * Measured (bench/fieldTraceBench.ts, loaded machine) on the gridless demo's own population at
+ * 2·10^4 ions: 79 % mapped, 1.8–2.0× the direct run's speed, flight-time error 2.6e-7 rms of the
+ * time inside against 2.7e-7 for the direct trace. The ions left to the tracer (aperture edge,
+ * energy tails) are the costliest ones (2.5× the average field evaluations), which bounds the gain.
+ * Earlier form (one map for all species from the run's first ions, FINE training, a per-ray
+ * direction limit of 5e-6, (P, D) invariants): on the retuned demo its rays struck the aperture or
+ * its exit direction missed the limit (~5e-5; the demo's paths come near the aperture edge, where
+ * the transfer is strongly non-linear), and it declined every ion.
  */
 import { createFieldSample, sampleField } from '../fields/interpolate';
 import { solveLeastSquares } from '../fields/leastSquares';
-import { SolvedExit, SolvedPrecision, createSolvedIonState, traceSolvedRegion } from '../fields/solvedTracer';
+import { SolvedExit, SolvedPrecision, createSolvedIonState, traceSolvedRegion, type SolvedRegion } from '../fields/solvedTracer';
 import type { ExactPlan, IonState } from './exactEngine';
 import { Fate } from './fates';
 import { leftSolvedRegion, transverse, transverseX, transverseY, type SolvedMirrorModel } from './solvedMirror';
 
-/** Training rays: more for larger runs (denser near the domain's edges), within these bounds. */
-export const TRAIN_RAYS_MIN = 120;
-export const TRAIN_RAYS_MAX = 400;
-export const TRAIN_SHARE = 0.02;
+/** Training rays per species: a share of the run, within these bounds. */
+export const TRAIN_RAYS_MIN = 400;
+export const TRAIN_RAYS_MAX = 600;
+export const TRAIN_SHARE = 0.04;
+/** Validation rays per species (FINE traces inside the map's domain). */
+export const VALIDATE_RAYS = 80;
 /** Runs with fewer ions trace every ion directly: fitting would cost more than it saves. */
 export const MAP_MIN_IONS = 1500;
-/** Validation limits: well below the direct trace's own error (~2e-7 relative rms in time). */
-export const TIME_TOL = 2e-7;
-/** The map is used between these quantiles of the training rays' energies (and below the upper one of |P|², |D|²). */
+/**
+ * Validation limits against FINE traces. Time: rms no worse than the direct trace's own error
+ * (~2.5e-7 relative rms on the demo), largest 3e-6. Exit position: 10 µm rms. Exit direction:
+ * 2e-4 rms, i.e. 0.2 mm per metre of return path at the detector, and through cos θ an axial
+ * return speed changed by ≲ 2e-6 relative for the demo's ~1e-2 rad paths.
+ */
+export const TIME_TOL_RMS = 2e-7;
+export const TIME_TOL_MAX = 3e-6;
+export const POSITION_TOL_RMS_M = 1e-5;
+export const DIRECTION_TOL_RMS = 2e-4;
+/** The map is used between these quantiles of the training rays' energies (and below the upper one of the transverse invariants). */
 export const DOMAIN_QUANTILE = 0.02;
-export const POSITION_TOL_M = 1e-6;
-export const DIRECTION_TOL = 5e-6;
+/** Entry and predicted exit lines must pass an entrance aperture within this fraction of its radius. */
+export const APERTURE_MARGIN = 0.8;
 
 /** Monomial exponents (e, a, b, c) of the time basis: transverse order ≤ 2, fewer energy powers with it. */
 function exponents(maxTransverse: number, energyPowers: readonly number[]): Int8Array {
@@ -75,7 +91,7 @@ interface MapInput {
   a: number;
   b: number;
   c: number;
-  /** Normalised transverse position and direction (P/R, D/Dmax). */
+  /** Normalised transverse vectors: offset from the virtual source (P − L·D)/R and direction D/Dmax. */
   px: number;
   py: number;
   dx: number;
@@ -118,11 +134,26 @@ interface Ray {
 
 const State = { TRAINING: 0, VALIDATING: 1, MAPPED: 2, DIRECT: 3 } as const;
 
+/** One species' part of a run's map. */
+export interface SpeciesMapReport {
+  /** q/m of the species (C/kg). */
+  qOverM_C_per_kg: number;
+  mapped: number;
+  traced: number;
+  /** Validation figures against FINE traces (null before validation ended). */
+  validationRays: number;
+  validationTimeRms: number | null;
+  validationDirectionRms: number | null;
+  /** Why the map was not used for this species, or '' when it was. */
+  note: string;
+}
+
 export interface MirrorMapReport {
   mapped: number;
   traced: number;
-  /** Why the map was not used, or '' when it was. */
+  /** Why the map was not used (for every species), or '' when it was used for some. */
   note: string;
+  species: SpeciesMapReport[];
 }
 
 const ion = createSolvedIonState();
@@ -130,22 +161,53 @@ const sample = createFieldSample();
 const inp: MapInput = { e: 0, a: 0, b: 0, c: 0, px: 0, py: 0, dx: 0, dy: 0 };
 const timeRow = new Float64Array(TIME_TERMS);
 const linRow = new Float64Array(LINEAR_TERMS);
+const out2 = new Float64Array(2);
+const dir2 = new Float64Array(2);
+
+/** The nearest entrance aperture of a region: radius and far face (mesh z), or null. */
+function entranceAperture(region: SolvedRegion): { radius_m: number; farZ_m: number } | null {
+  let best: { radius_m: number; farZ_m: number; zMin: number } | null = null;
+  const s = region.solids;
+  for (let k = 0; k < s.length; k += 4) {
+    if (s[k] > 0 && s[k + 2] >= region.entryZ_m && (best === null || s[k + 2] < best.zMin)) best = { radius_m: s[k], farZ_m: s[k + 3], zMin: s[k + 2] };
+  }
+  return best && { radius_m: best.radius_m, farZ_m: best.farZ_m };
+}
+
+/** One species' map: training, validation, then use. */
+class SpeciesMap {
+  state: number = State.TRAINING;
+  readonly rays: Ray[] = [];
+  uMid = 0;
+  uHalf = 1;
+  virtualSource_m = 0;
+  rMax = 1;
+  dMax = 1;
+  timeCoef = new Float64Array(TIME_TERMS);
+  posCoef = new Float64Array(2 * LINEAR_TERMS);
+  dirCoef = new Float64Array(2 * LINEAR_TERMS);
+  eLo = -1;
+  eHi = 1;
+  aHi = 1;
+  cHi = 1;
+  /** Sums of squared validation errors and the largest time error. */
+  sumTime2 = 0;
+  maxTime = 0;
+  sumPos2 = 0;
+  sumDir2 = 0;
+  readonly report: SpeciesMapReport;
+  constructor(qOverM: number) {
+    this.report = { qOverM_C_per_kg: qOverM, mapped: 0, traced: 0, validationRays: 0, validationTimeRms: null, validationDirectionRms: null, note: '' };
+  }
+}
 
 /** The map of one run's solved mirror: feed it every ion that reaches the mirror, in order. */
 export class SolvedMirrorMapper {
-  private state: number = State.TRAINING;
-  private readonly rays: Ray[] = [];
-  private uMid = 0;
-  private uHalf = 1;
-  private rMax = 1;
-  private dMax = 1;
-  private timeCoef = new Float64Array(TIME_TERMS);
-  private posCoef = new Float64Array(2 * LINEAR_TERMS);
-  private dirCoef = new Float64Array(2 * LINEAR_TERMS);
-  readonly report: MirrorMapReport = { mapped: 0, traced: 0, note: '' };
-
+  private readonly maps: SpeciesMap[] = [];
+  private current: SpeciesMap | null = null;
+  readonly report: MirrorMapReport = { mapped: 0, traced: 0, note: '', species: [] };
   private readonly trainRays: number;
-  private readonly validateRays: number;
+  private readonly aperture: { radius_m: number; farZ_m: number } | null;
 
   /** `ions`: how many ions the run will bring to the mirror (sets the number of training rays). */
   constructor(
@@ -153,7 +215,19 @@ export class SolvedMirrorMapper {
     ions: number,
   ) {
     this.trainRays = Math.round(Math.min(TRAIN_RAYS_MAX, Math.max(TRAIN_RAYS_MIN, TRAIN_SHARE * ions)));
-    this.validateRays = Math.round(this.trainRays / 4);
+    this.aperture = entranceAperture(mirror.region);
+  }
+
+  private speciesMap(k: number): SpeciesMap {
+    if (this.current !== null && this.current.report.qOverM_C_per_kg === k) return this.current;
+    let m = this.maps.find((s) => s.report.qOverM_C_per_kg === k);
+    if (!m) {
+      m = new SpeciesMap(k);
+      this.maps.push(m);
+      this.report.species.push(m.report);
+    }
+    this.current = m;
+    return m;
   }
 
   /** Through the mirror as solvedMirror.mirrorSolved, by the map where it holds. */
@@ -167,116 +241,160 @@ export class SolvedMirrorMapper {
     ion.vy = transverse.vyRef;
     ion.vz = st.v;
     const k = plan.qOverM;
+    const m = this.speciesMap(k);
     const speed = Math.sqrt(ion.vx * ion.vx + ion.vy * ion.vy + ion.vz * ion.vz);
     const U = (speed * speed) / (2 * k);
-    if (this.state === State.MAPPED && k > 0 && st.v > 0 && this.setInput(ion.x, ion.y, ion.vx / speed, ion.vy / speed, U)) {
-      this.report.mapped++;
-      return this.applyMap(st, k, speed, tLimit_s);
-    }
-    const learning = this.state === State.TRAINING || this.state === State.VALIDATING;
     const x0 = ion.x;
     const y0 = ion.y;
-    const vx0 = ion.vx;
-    const vy0 = ion.vy;
+    const dx0 = ion.vx / speed;
+    const dy0 = ion.vy / speed;
+    const usable = k > 0 && st.v > 0;
+    const inside = usable && (m.state === State.MAPPED || m.state === State.VALIDATING) && this.inDomain(m, x0, y0, dx0, dy0, U);
+    if (m.state === State.MAPPED && inside) {
+      m.report.mapped++;
+      this.report.mapped++;
+      return this.applyMap(m, st, k, speed, tLimit_s);
+    }
+    const training = m.state === State.TRAINING;
+    const validating = m.state === State.VALIDATING && inside;
     const t0 = ion.t;
-    const exit = traceSolvedRegion(ion, region, k, tLimit_s, learning ? SolvedPrecision.FINE : SolvedPrecision.NORMAL);
+    const exit = traceSolvedRegion(ion, region, k, tLimit_s, validating ? SolvedPrecision.FINE : SolvedPrecision.NORMAL);
+    m.report.traced++;
     this.report.traced++;
-    if (learning) {
-      if (exit !== SolvedExit.ENTRY || !(k > 0) || !(st.v > 0)) this.giveUp('a training or validation ray did not come back out of the mirror');
-      else this.learn({ x: x0, y: y0, dx: vx0 / speed, dy: vy0 / speed, U, scaledTime: (ion.t - t0) * Math.sqrt(k), xOut: ion.x, yOut: ion.y, dxOut: ion.vx / speed, dyOut: ion.vy / speed });
+    if (training && usable) {
+      // A training ray that does not come back (a strike) only narrows nothing: it is simply not fitted.
+      if (exit === SolvedExit.ENTRY) m.rays.push({ x: x0, y: y0, dx: dx0, dy: dy0, U, scaledTime: (ion.t - t0) * Math.sqrt(k), xOut: ion.x, yOut: ion.y, dxOut: ion.vx / speed, dyOut: ion.vy / speed });
+      if (m.report.traced >= this.trainRays) this.fit(m);
+    } else if (validating) {
+      if (exit !== SolvedExit.ENTRY) this.giveUp(m, 'a validation ray inside the fitted domain did not come back out of the mirror');
+      else this.validate(m, (ion.t - t0) * Math.sqrt(k), ion.x, ion.y, ion.vx / speed, ion.vy / speed);
     }
     return finish(st, exit);
   }
 
-  private giveUp(note: string): void {
-    this.state = State.DIRECT;
-    this.report.note = note;
+  private giveUp(m: SpeciesMap, note: string): void {
+    m.state = State.DIRECT;
+    m.report.note = note;
+    this.report.note = this.maps.every((s) => s.state === State.DIRECT) ? note : '';
   }
 
-  private learn(ray: Ray): void {
-    if (this.state === State.TRAINING) {
-      this.rays.push(ray);
-      if (this.rays.length === this.trainRays) this.fit();
-      return;
-    }
-    // Validation: the map against this FINE-traced ray.
-    if (!this.setInput(ray.x, ray.y, ray.dx, ray.dy, ray.U)) {
-      this.rays.push(ray); // outside the training range: counts neither way
-    } else {
-      const time = this.scaledTime();
-      const pos = this.transverseOut(this.posCoef, ray.x, ray.y, ray.dx, ray.dy);
-      const posError = Math.hypot(pos[0] - ray.xOut, pos[1] - ray.yOut);
-      const dir = this.transverseOut(this.dirCoef, ray.x, ray.y, ray.dx, ray.dy);
-      const dirError = Math.hypot(dir[0] - ray.dxOut, dir[1] - ray.dyOut);
-      const bad = !(Math.abs(time - ray.scaledTime) <= TIME_TOL * ray.scaledTime) || !(posError <= POSITION_TOL_M) || !(dirError <= DIRECTION_TOL);
-      if (bad) return this.giveUp(`validation ray outside tolerance (time ${(Math.abs(time - ray.scaledTime) / ray.scaledTime).toExponential(1)} relative, exit position ${posError.toExponential(1)} m, direction ${dirError.toExponential(1)})`);
-      this.rays.push(ray);
-    }
-    if (this.rays.length === this.validateRays) this.state = State.MAPPED;
+  /** The map at the current input (set by inDomain) against one FINE-traced ray. */
+  private validate(m: SpeciesMap, scaledTime: number, xOut: number, yOut: number, dxOut: number, dyOut: number): void {
+    const time = this.scaledTime(m);
+    const rel = Math.abs(time - scaledTime) / scaledTime;
+    this.transverseOut(m, m.posCoef, out2);
+    const pos2 = (out2[0] - xOut) ** 2 + (out2[1] - yOut) ** 2;
+    this.transverseOut(m, m.dirCoef, dir2);
+    const d2 = (dir2[0] - dxOut) ** 2 + (dir2[1] - dyOut) ** 2;
+    m.sumTime2 += rel * rel;
+    m.maxTime = Math.max(m.maxTime, rel);
+    m.sumPos2 += pos2;
+    m.sumDir2 += d2;
+    const n = ++m.report.validationRays;
+    if (!(rel <= TIME_TOL_MAX)) return this.giveUp(m, `validation ray outside tolerance (time ${rel.toExponential(1)} relative)`);
+    if (n < VALIDATE_RAYS) return;
+    const timeRms = Math.sqrt(m.sumTime2 / n);
+    const posRms = Math.sqrt(m.sumPos2 / n);
+    const dirRms = Math.sqrt(m.sumDir2 / n);
+    m.report.validationTimeRms = timeRms;
+    m.report.validationDirectionRms = dirRms;
+    if (timeRms <= TIME_TOL_RMS && posRms <= POSITION_TOL_RMS_M && dirRms <= DIRECTION_TOL_RMS) {
+      m.state = State.MAPPED;
+      this.report.note = '';
+    } else this.giveUp(m, `validation outside tolerance (rms time ${timeRms.toExponential(1)} relative, exit position ${posRms.toExponential(1)} m, direction ${dirRms.toExponential(1)})`);
   }
 
-  /** Normalised map input; false when the entry lies outside the training rays' range. */
-  private setInput(x: number, y: number, dx: number, dy: number, U: number): boolean {
-    inp.e = (U - this.uMid) / this.uHalf;
-    inp.px = x / this.rMax;
-    inp.py = y / this.rMax;
-    inp.dx = dx / this.dMax;
-    inp.dy = dy / this.dMax;
+  /** Set the normalised map input; false when the entry lies outside the map's domain. */
+  private setInput(m: SpeciesMap, x: number, y: number, dx: number, dy: number, U: number): boolean {
+    inp.e = (U - m.uMid) / m.uHalf;
+    inp.px = (x - m.virtualSource_m * dx) / m.rMax;
+    inp.py = (y - m.virtualSource_m * dy) / m.rMax;
+    inp.dx = dx / m.dMax;
+    inp.dy = dy / m.dMax;
     inp.a = inp.px * inp.px + inp.py * inp.py;
     inp.b = inp.px * inp.dx + inp.py * inp.dy;
     inp.c = inp.dx * inp.dx + inp.dy * inp.dy;
-    return inp.e >= this.eLo && inp.e <= this.eHi && inp.a <= this.aHi && inp.c <= this.cHi;
+    return inp.e >= m.eLo && inp.e <= m.eHi && inp.a <= m.aHi && inp.c <= m.cHi;
   }
 
-  /** Where the map is used: inside the central range of the training rays, where they are dense enough. */
-  private eLo = -1;
-  private eHi = 1;
-  private aHi = 1;
-  private cHi = 1;
+  /** Inside the fitted range, and clear of the entrance aperture's edge on the way in and (predicted) out. */
+  private inDomain(m: SpeciesMap, x: number, y: number, dx: number, dy: number, U: number): boolean {
+    if (!this.setInput(m, x, y, dx, dy, U)) return false;
+    const ap = this.aperture;
+    if (ap === null) return true;
+    const limit = APERTURE_MARGIN * ap.radius_m;
+    const depth = ap.farZ_m - this.mirror.region.entryZ_m;
+    const sIn = depth / Math.sqrt(Math.max(1 - dx * dx - dy * dy, 1e-12));
+    if (!(Math.hypot(x + dx * sIn, y + dy * sIn) <= limit)) return false;
+    this.transverseOut(m, m.posCoef, out2);
+    this.transverseOut(m, m.dirCoef, dir2);
+    const sOut = depth / Math.sqrt(Math.max(1 - dir2[0] * dir2[0] - dir2[1] * dir2[1], 1e-12));
+    return Math.hypot(out2[0] - dir2[0] * sOut, out2[1] - dir2[1] * sOut) <= limit;
+  }
 
-  private setDomain(): void {
-    const es = this.rays.map((r) => (this.setInput(r.x, r.y, r.dx, r.dy, r.U), inp.e)).sort((p, q) => p - q);
-    const as = this.rays.map((r) => (this.setInput(r.x, r.y, r.dx, r.dy, r.U), inp.a)).sort((p, q) => p - q);
-    const cs = this.rays.map((r) => (this.setInput(r.x, r.y, r.dx, r.dy, r.U), inp.c)).sort((p, q) => p - q);
+  private setDomain(m: SpeciesMap): void {
+    const es: number[] = [];
+    const as: number[] = [];
+    const cs: number[] = [];
+    for (const r of m.rays) {
+      this.setInput(m, r.x, r.y, r.dx, r.dy, r.U);
+      es.push(inp.e);
+      as.push(inp.a);
+      cs.push(inp.c);
+    }
+    const byValue = (p: number, q: number) => p - q;
+    es.sort(byValue);
+    as.sort(byValue);
+    cs.sort(byValue);
     const at = (xs: number[], q: number) => xs[Math.min(xs.length - 1, Math.max(0, Math.round(q * (xs.length - 1))))];
-    this.eLo = at(es, DOMAIN_QUANTILE);
-    this.eHi = at(es, 1 - DOMAIN_QUANTILE);
-    this.aHi = at(as, 1 - DOMAIN_QUANTILE);
-    this.cHi = at(cs, 1 - DOMAIN_QUANTILE);
+    m.eLo = at(es, DOMAIN_QUANTILE);
+    m.eHi = at(es, 1 - DOMAIN_QUANTILE);
+    m.aHi = at(as, 1 - DOMAIN_QUANTILE);
+    m.cHi = at(cs, 1 - DOMAIN_QUANTILE);
   }
 
-  private fit(): void {
-    const rays = this.rays;
+  private fit(m: SpeciesMap): void {
+    const rays = m.rays;
+    const n = rays.length;
+    if (n < 2 * TIME_TERMS) {
+      m.rays.length = 0;
+      return this.giveUp(m, `too few training rays came back out of the mirror (${n})`);
+    }
     let uLo = Infinity;
     let uHi = -Infinity;
-    let r2 = 0;
-    let d2 = 0;
+    let pd = 0;
+    let dd = 0;
     for (const r of rays) {
       uLo = Math.min(uLo, r.U);
       uHi = Math.max(uHi, r.U);
-      r2 = Math.max(r2, r.x * r.x + r.y * r.y);
+      pd += r.x * r.dx + r.y * r.dy;
+      dd += r.dx * r.dx + r.dy * r.dy;
+    }
+    m.virtualSource_m = dd > 0 ? pd / dd : 0;
+    let r2 = 0;
+    let d2 = 0;
+    for (const r of rays) {
+      r2 = Math.max(r2, (r.x - m.virtualSource_m * r.dx) ** 2 + (r.y - m.virtualSource_m * r.dy) ** 2);
       d2 = Math.max(d2, r.dx * r.dx + r.dy * r.dy);
     }
-    this.uMid = 0.5 * (uLo + uHi);
-    this.uHalf = uHi > uLo ? 0.5 * (uHi - uLo) : Math.max(1e-9 * Math.abs(this.uMid), 1e-12);
-    this.rMax = r2 > 0 ? Math.sqrt(r2) : 1e-9;
-    this.dMax = d2 > 0 ? Math.sqrt(d2) : 1e-12;
-    const n = rays.length;
+    m.uMid = 0.5 * (uLo + uHi);
+    m.uHalf = uHi > uLo ? 0.5 * (uHi - uLo) : Math.max(1e-9 * Math.abs(m.uMid), 1e-12);
+    m.rMax = r2 > 0 ? Math.sqrt(r2) : 1e-9;
+    m.dMax = d2 > 0 ? Math.sqrt(d2) : 1e-12;
     const A = new Float64Array(n * TIME_TERMS);
     const rhs = new Float64Array(n);
     const A2 = new Float64Array(2 * n * 2 * LINEAR_TERMS);
     const pos = new Float64Array(2 * n);
-    const A3 = new Float64Array(2 * n * 2 * LINEAR_TERMS);
     const dir = new Float64Array(2 * n);
     let timeScale = 0;
     for (const r of rays) timeScale += r.scaledTime / n;
     rays.forEach((r, i) => {
-      this.setInput(r.x, r.y, r.dx, r.dy, r.U);
+      this.setInput(m, r.x, r.y, r.dx, r.dy, r.U);
       basis(TIME_BASIS, inp, timeRow);
       A.set(timeRow, i * TIME_TERMS);
       rhs[i] = r.scaledTime / timeScale - 1; // fit the variation about the mean, for precision
       basis(LINEAR_BASIS, inp, linRow);
-      // Exit (x, y) = P·g + D·h: two rows per ray, g's coefficients then h's.
+      // Exit (x, y) = A·g + B·h: two rows per ray, g's coefficients then h's.
       for (let k = 0; k < LINEAR_TERMS; k++) {
         A2[2 * i * 2 * LINEAR_TERMS + k] = inp.px * linRow[k];
         A2[2 * i * 2 * LINEAR_TERMS + LINEAR_TERMS + k] = inp.dx * linRow[k];
@@ -288,28 +406,28 @@ export class SolvedMirrorMapper {
       dir[2 * i] = r.dxOut;
       dir[2 * i + 1] = r.dyOut;
     });
-    A3.set(A2);
-    const timeCoef = solveLeastSquares(A, n, TIME_TERMS, rhs, 1e-3);
+    const A3 = A2.slice();
+    const timeCoef = solveLeastSquares(A, n, TIME_TERMS, rhs, 1e-6);
     for (let k = 0; k < TIME_TERMS; k++) timeCoef[k] *= timeScale;
     timeCoef[0] += timeScale; // the basis' first term is the constant 1
-    this.timeCoef = timeCoef;
-    this.posCoef = solveLeastSquares(A2, 2 * n, 2 * LINEAR_TERMS, pos, 1e-3);
-    this.dirCoef = solveLeastSquares(A3, 2 * n, 2 * LINEAR_TERMS, dir, 1e-3);
-    this.setDomain();
-    this.rays.length = 0;
-    this.state = State.VALIDATING;
+    m.timeCoef = timeCoef;
+    m.posCoef = solveLeastSquares(A2, 2 * n, 2 * LINEAR_TERMS, pos, 1e-6);
+    m.dirCoef = solveLeastSquares(A3, 2 * n, 2 * LINEAR_TERMS, dir, 1e-6);
+    this.setDomain(m);
+    m.rays.length = 0;
+    m.state = State.VALIDATING;
   }
 
   /** Scaled time at the current input. */
-  private scaledTime(): number {
+  private scaledTime(m: SpeciesMap): number {
     basis(TIME_BASIS, inp, timeRow);
     let t = 0;
-    for (let k = 0; k < TIME_TERMS; k++) t += this.timeCoef[k] * timeRow[k];
+    for (let k = 0; k < TIME_TERMS; k++) t += m.timeCoef[k] * timeRow[k];
     return t;
   }
 
-  /** P·g + D·h at the current input, in metres (positions) or direction cosines. */
-  private transverseOut(coef: Float64Array, x: number, y: number, dx: number, dy: number): Float64Array {
+  /** A·g + B·h at the current input, in metres (positions) or direction cosines, into `out`. */
+  private transverseOut(m: SpeciesMap, coef: Float64Array, out: Float64Array): void {
     basis(LINEAR_BASIS, inp, linRow);
     let g = 0;
     let h = 0;
@@ -317,23 +435,20 @@ export class SolvedMirrorMapper {
       g += coef[k] * linRow[k];
       h += coef[LINEAR_TERMS + k] * linRow[k];
     }
-    // The fit used P/R and D/Dmax as prefactors.
-    out2[0] = (x / this.rMax) * g + (dx / this.dMax) * h;
-    out2[1] = (y / this.rMax) * g + (dy / this.dMax) * h;
-    return out2;
+    out[0] = inp.px * g + inp.dx * h;
+    out[1] = inp.py * g + inp.dy * h;
   }
 
-  private applyMap(st: IonState, k: number, speed: number, tLimit_s: number): boolean {
+  /** The map at the current input (set by inDomain, which also left the exit state in out2, dir2). */
+  private applyMap(m: SpeciesMap, st: IonState, k: number, speed: number, tLimit_s: number): boolean {
     const region = this.mirror.region;
     const x = ion.x;
     const y = ion.y;
-    const dx = ion.vx / speed;
-    const dy = ion.vy / speed;
-    ion.t = st.t + this.scaledTime() / Math.sqrt(k);
-    const pos = this.transverseOut(this.posCoef, x, y, dx, dy);
-    const xOut = pos[0];
-    const yOut = pos[1];
-    const dir = this.transverseOut(this.dirCoef, x, y, dx, dy);
+    ion.t = st.t + this.scaledTime(m) / Math.sqrt(k);
+    this.transverseOut(m, m.posCoef, out2);
+    this.transverseOut(m, m.dirCoef, dir2);
+    const xOut = out2[0];
+    const yOut = out2[1];
     // Exit speed from energy conservation between the entry and exit points on the entry plane.
     sampleField(region.map, Math.sqrt(x * x + y * y), region.entryZ_m, sample);
     const phiIn = sample.potential_V;
@@ -342,14 +457,12 @@ export class SolvedMirrorMapper {
     ion.x = xOut;
     ion.y = yOut;
     ion.z = region.entryZ_m;
-    ion.vx = speedOut * dir[0];
-    ion.vy = speedOut * dir[1];
+    ion.vx = speedOut * dir2[0];
+    ion.vy = speedOut * dir2[1];
     ion.vz = -Math.sqrt(Math.max(speedOut * speedOut - ion.vx * ion.vx - ion.vy * ion.vy, 0));
     return finish(st, ion.t <= tLimit_s ? SolvedExit.ENTRY : SolvedExit.TIME_LIMIT);
   }
 }
-
-const out2 = new Float64Array(2);
 
 /** The ion left the mirror (or did not): as solvedMirror.mirrorSolved. */
 function finish(st: IonState, exit: number): boolean {
@@ -372,4 +485,14 @@ function finish(st: IonState, exit: number): boolean {
       st.fate = Fate.TIMED_OUT;
       return false;
   }
+}
+
+/** One line per species for the text report: how its ions crossed the solved mirror. */
+export function formatMirrorMap(report: MirrorMapReport): string {
+  const lines = report.species.map((s) => {
+    const how = s.note === '' ? 'transfer map validated' : `traced directly: ${s.note}`;
+    const rms = s.validationTimeRms === null ? '' : `, validation rms time ${s.validationTimeRms.toExponential(1)}`;
+    return `  q/m ${s.qOverM_C_per_kg.toPrecision(6)} C/kg: ${s.mapped} ions mapped, ${s.traced} traced (${how}${rms})`;
+  });
+  return `Solved mirror: ${report.mapped} ions by the transfer map, ${report.traced} traced through the field\n${lines.join('\n')}\n`;
 }

@@ -172,7 +172,7 @@ const scratchState = createIonState();
 /** The run's transfer map of a solved mirror (src/physics/solvedMirrorMap.ts), or null to trace every ion directly. */
 export function createMirrorMap(model: AnalyserModel, ions: number): SolvedMirrorMapper | null {
   const solved = model.mirror?.solved;
-  if (!solved || model.forceIntegrator || model.mapSolvedMirror !== true || ions < MAP_MIN_IONS) return null;
+  if (!solved || model.forceIntegrator || model.mapSolvedMirror === false || ions < MAP_MIN_IONS) return null;
   return new SolvedMirrorMapper(solved, ions);
 }
 

@@ -2,6 +2,7 @@
  * The per-species report of a run: what the CLI prints and the app shows. Times in ns at this
  * boundary (names carry the unit).
  */
+import type { MirrorMapReport } from '../physics/solvedMirrorMap';
 import { arrivalStats } from '../analysis/arrivalStats';
 import { countFates, Fate, type FateCounts } from '../physics/fates';
 import { sToNs } from '../physics/units';
@@ -92,6 +93,8 @@ export interface RunReport {
   readonly focus: AnalysisSections['focus'];
   /** Shots, detector modes and space charge (src/simulation/ionLoad.ts); absent or null without a preset `ionLoad` section. */
   readonly ionLoad?: IonLoadReport | null;
+  /** How a solved mirror was crossed: ions carried by the run's transfer map, ions traced (src/physics/solvedMirrorMap.ts); absent without one. */
+  readonly solvedMirrorMap?: MirrorMapReport;
 }
 
 /** The report with the measurement sections (spectrum peaks, calibration, focus) filled in. */

@@ -8,7 +8,7 @@ import { allocateTraceResult, type Ensemble, type TraceResult } from '../ions/en
 import { samplePopulation } from '../ions/population';
 import { applyDetectorPlane, traceExact } from '../physics/exactEngine';
 import { needsIntegrator } from '../physics/analyser';
-import { traceMixed } from '../physics/tracer';
+import { lastMirrorMap, traceMixed } from '../physics/tracer';
 import { attachAnalysis, buildReport, type RunReport } from './report';
 import { buildAnalysisSections, type AnalysisSections } from './analysisReport';
 import { ionLoadSections, traceIonLoad, type IonLoadReport } from './ionLoad';
@@ -48,8 +48,10 @@ export function simulate(preset: Preset, options: RunOptions = {}): SimulationRe
   const ensemble = samplePopulation(population);
   const trace = allocateTraceResult(ensemble.count);
   // The closed form wherever the field allows it; the mixed tracer when some region needs integration.
-  if (needsIntegrator(compiled.model)) traceMixed(compiled.model, ensemble, trace);
+  const mixed = needsIntegrator(compiled.model);
+  if (mixed) traceMixed(compiled.model, ensemble, trace);
   else traceExact(compiled.model, ensemble, trace);
+  const mirrorMap = mixed ? lastMirrorMap : null;
   applyDetectorPlane(compiled.model, ensemble, trace);
   // With space charge on, the ions are retraced shot by shot (the headline then includes it).
   const load = traceIonLoad(preset, compiled.model, ensemble, trace, population.seed);
@@ -67,7 +69,7 @@ export function simulate(preset: Preset, options: RunOptions = {}): SimulationRe
           { withSpectrum: options.withSpectrum, peaksOnly: options.analysis === 'peaks' },
         );
   const ionLoad = load && options.analysis !== false ? ionLoadSections(preset, compiled.model, ensemble, trace, load, population.seed) : null;
-  return { compiled: { ...compiled, population }, ensemble, trace, report: { ...attachAnalysis(report, analysis), ...(ionLoad ? { ionLoad } : {}) }, analysis, ionLoad };
+  return { compiled: { ...compiled, population }, ensemble, trace, report: { ...attachAnalysis(report, analysis), ...(ionLoad ? { ionLoad } : {}), ...(mirrorMap ? { solvedMirrorMap: mirrorMap } : {}) }, analysis, ionLoad };
 }
 
 function noAnalysis(ensemble: Ensemble): AnalysisSections {
