@@ -28,11 +28,13 @@ import { pathToFileURL } from 'node:url';
 import { allocateTraceResult } from '../src/ions/ensemble';
 import { samplePopulation } from '../src/ions/population';
 import type { AnalyserModel } from '../src/physics/analyser';
-import { createExactPlan, createIonState, prepareExactPlan, type ExactPlan, type IonState } from '../src/physics/exactEngine';
 import { Fate } from '../src/physics/fates';
-import { SolvedExit, SolvedPrecision, createSolvedIonState, solvedCounters, traceSolvedRegion } from '../src/fields/solvedTracer';
-import { leftSolvedRegion, startTransverse, transverse, transverseX, transverseY } from '../src/physics/solvedMirror';
-import { lastMirrorMap, traceMixed, traceOneMixed } from '../src/physics/tracer';
+import { createIonState, startIonState } from '../src/physics/regions/contract';
+import { createFlight } from '../src/physics/regions/driver';
+import { tracedMirrorPass } from '../src/physics/regions/solvedKernels';
+import { SolvedPrecision, solvedCounters } from '../src/physics/regions/solvedTracer';
+import type { MirrorMapReport } from '../src/physics/solvedMirrorMap';
+import { traceMixed } from '../src/physics/tracer';
 import { compilePreset } from '../src/presets/compile';
 import { validatePreset } from '../src/presets/load';
 
@@ -52,51 +54,35 @@ export function benchFieldTrace(ions = 20000): Record<string, number> {
     const out = allocateTraceResult(ens.count);
     let best = Infinity;
     let cpu_s = Infinity;
+    let map: MirrorMapReport | null = null;
     for (let p = 0; p < passes; p++) {
       const cpu0 = process.cpuUsage();
       const t0 = performance.now();
-      traceMixed(model, ens, out);
+      map = traceMixed(model, ens, out);
       best = Math.min(best, (performance.now() - t0) / 1000);
       const cpu = process.cpuUsage(cpu0);
       cpu_s = Math.min(cpu_s, (cpu.user + cpu.system) / 1e6);
     }
-    return { out, wall_s: best, cpu_s };
+    return { out, wall_s: best, cpu_s, map };
   };
   traceMixed(directModel, samplePopulation({ ...compiled.population, totalIons: 500 }), allocateTraceResult(500)); // JIT warm-up
   solvedCounters.steps = solvedCounters.rejected = solvedCounters.evaluations = 0;
   const direct = time(directModel, 3);
   const counters = { steps: solvedCounters.steps / 3, rejected: solvedCounters.rejected / 3, evaluations: solvedCounters.evaluations / 3 };
   const user = time(userModel, 3);
-  const map = lastMirrorMap;
+  const map = user.map;
 
   // Reference: every 10th ion, the mirror traced at REFERENCE precision; its time inside recorded.
-  const ion = createSolvedIonState();
   let mirrorTime = 0; // set by each reference pass
-  const reference = {
-    pass(st: IonState, plan: ExactPlan, tLimit_s: number): boolean {
-      Object.assign(ion, { t: st.t, x: transverseX(st.t), y: transverseY(st.t), z: mirror.region.entryZ_m, vx: transverse.vxRef, vy: transverse.vyRef, vz: st.v });
-      const exit = traceSolvedRegion(ion, mirror.region, plan.qOverM, tLimit_s, SolvedPrecision.REFERENCE);
-      mirrorTime = ion.t - st.t;
-      st.t = ion.t;
-      leftSolvedRegion(ion);
-      if (exit !== SolvedExit.ENTRY) {
-        st.fate = Fate.STRUCK_ELECTRODE;
-        return false;
-      }
-      st.v = -ion.vz;
-      return true;
-    },
-  };
+  const reference = createFlight(directModel, { engine: 'mixed', mirrorMap: tracedMirrorPass(mirror, SolvedPrecision.REFERENCE, (inside_s) => (mirrorTime = inside_s)) });
   const st = createIonState();
-  const plan = createExactPlan();
   const err = { user: [0, 0], direct: [0, 0] };
   let count = 0;
   for (let s = 0; s < ens.species.length; s++) {
-    prepareExactPlan(plan, userModel, ens.species[s].mz);
+    reference.setMz(ens.species[s].mz);
     for (let i = ens.speciesStart[s]; i < ens.speciesStart[s + 1]; i += 10) {
-      Object.assign(st, { t: 0, z: ens.z0_m[i], v: ens.vz0_m_per_s[i], fate: Fate.UNSET, w: 1 });
-      startTransverse(ens.x0_m[i], ens.y0_m[i], ens.vx0_m_per_s[i], ens.vy0_m_per_s[i]);
-      traceOneMixed(st, plan, directModel, reference as never);
+      startIonState(st, ens.z0_m[i], ens.vz0_m_per_s[i], ens.x0_m[i], ens.y0_m[i], ens.vx0_m_per_s[i], ens.vy0_m_per_s[i]);
+      reference.fly(st);
       if (st.fate !== Fate.DETECTED || user.out.fate[i] !== Fate.DETECTED || direct.out.fate[i] !== Fate.DETECTED) continue;
       const eu = Math.abs(user.out.flightTime_s[i] - st.t) / mirrorTime;
       const ed = Math.abs(direct.out.flightTime_s[i] - st.t) / mirrorTime;
@@ -107,7 +93,6 @@ export function benchFieldTrace(ions = 20000): Record<string, number> {
       count++;
     }
   }
-  startTransverse(0, 0, 0, 0);
   let struck = 0;
   for (let i = 0; i < ens.count; i++) if (user.out.fate[i] === Fate.STRUCK_ELECTRODE) struck++;
   return {

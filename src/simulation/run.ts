@@ -8,7 +8,7 @@ import { allocateTraceResult, type Ensemble, type TraceResult } from '../ions/en
 import { samplePopulation } from '../ions/population';
 import { applyDetectorPlane, traceExact } from '../physics/exactEngine';
 import { needsIntegrator } from '../physics/analyser';
-import { lastMirrorMap, traceMixed } from '../physics/tracer';
+import { traceMixed } from '../physics/tracer';
 import { attachAnalysis, buildReport, type RunReport } from './report';
 import { buildAnalysisSections, type AnalysisSections } from './analysisReport';
 import { ionLoadSections, traceIonLoad, type IonLoadReport } from './ionLoad';
@@ -49,9 +49,8 @@ export function simulate(preset: Preset, options: RunOptions = {}): SimulationRe
   const trace = allocateTraceResult(ensemble.count);
   // The closed form wherever the field allows it; the mixed tracer when some region needs integration.
   const mixed = needsIntegrator(compiled.model);
-  if (mixed) traceMixed(compiled.model, ensemble, trace);
-  else traceExact(compiled.model, ensemble, trace);
-  const mirrorMap = mixed ? lastMirrorMap : null;
+  const mirrorMap = mixed ? traceMixed(compiled.model, ensemble, trace) : null;
+  if (!mixed) traceExact(compiled.model, ensemble, trace);
   applyDetectorPlane(compiled.model, ensemble, trace);
   // With space charge on, the ions are retraced shot by shot (the headline then includes it).
   const load = traceIonLoad(preset, compiled.model, ensemble, trace, population.seed);

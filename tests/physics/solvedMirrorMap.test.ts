@@ -8,13 +8,14 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { solveLeastSquares } from '../../src/fields/leastSquares';
-import { SolvedExit, SolvedPrecision, createSolvedIonState, traceSolvedRegion } from '../../src/fields/solvedTracer';
+import { SolvedPrecision } from '../../src/physics/regions/solvedTracer';
 import { SeededRandom } from '../../src/ions/random';
-import { createExactPlan, createIonState, prepareExactPlan, type ExactPlan, type IonState } from '../../src/physics/exactEngine';
 import { Fate } from '../../src/physics/fates';
-import { leftSolvedRegion, startTransverse, transverse, transverseX, transverseY } from '../../src/physics/solvedMirror';
+import { createIonState, startIonState } from '../../src/physics/regions/contract';
+import { createFlight } from '../../src/physics/regions/driver';
+import { tracedMirrorPass } from '../../src/physics/regions/solvedKernels';
 import { TIME_TOL_RMS } from '../../src/physics/solvedMirrorMap';
-import { lastMirrorMap, traceMixed, traceOneMixed } from '../../src/physics/tracer';
+import { traceMixed } from '../../src/physics/tracer';
 import { allocateTraceResult } from '../../src/ions/ensemble';
 import { samplePopulation } from '../../src/ions/population';
 import { compilePreset } from '../../src/presets/compile';
@@ -75,8 +76,7 @@ describe('transfer map of the gridless demo mirror', () => {
     const mirror = compiled.model.mirror!.solved!;
     const ens = samplePopulation({ ...compiled.population, totalIons: 6000 });
     const mapped = allocateTraceResult(ens.count);
-    traceMixed(compiled.model, ens, mapped);
-    const report = lastMirrorMap!;
+    const report = traceMixed(compiled.model, ens, mapped)!;
     expect(report.note).toBe('');
     expect(report.species).toHaveLength(2);
     for (const s of report.species) {
@@ -87,35 +87,20 @@ describe('transfer map of the gridless demo mirror', () => {
     }
     expect(report.mapped + report.traced).toBe(ens.count);
     const direct = allocateTraceResult(ens.count);
-    traceMixed({ ...compiled.model, mapSolvedMirror: false }, ens, direct);
-    expect(lastMirrorMap).toBeNull();
+    expect(traceMixed({ ...compiled.model, mapSolvedMirror: false }, ens, direct)).toBeNull();
     // Every 10th ion against a FINE trace of its mirror crossing (rtol 1e-9), the rest of the flight as in the run.
-    const ion = createSolvedIonState();
     let mirrorTime = 0;
-    const fine = {
-      pass(st: IonState, plan: ExactPlan, tLimit_s: number): boolean {
-        Object.assign(ion, { t: st.t, x: transverseX(st.t), y: transverseY(st.t), z: mirror.region.entryZ_m, vx: transverse.vxRef, vy: transverse.vyRef, vz: st.v });
-        const exit = traceSolvedRegion(ion, mirror.region, plan.qOverM, tLimit_s, SolvedPrecision.FINE);
-        mirrorTime = ion.t - st.t;
-        st.t = ion.t;
-        leftSolvedRegion(ion);
-        st.v = -ion.vz;
-        if (exit !== SolvedExit.ENTRY) st.fate = Fate.STRUCK_ELECTRODE;
-        return exit === SolvedExit.ENTRY;
-      },
-    };
+    const fine = createFlight(compiled.model, { engine: 'mixed', mirrorMap: tracedMirrorPass(mirror, SolvedPrecision.FINE, (inside_s) => (mirrorTime = inside_s)) });
     const st = createIonState();
-    const plan = createExactPlan();
     let sumMapped = 0;
     let sumDirect = 0;
     let count = 0;
     let mappedStruck = 0;
     for (let s = 0; s < ens.species.length; s++) {
-      prepareExactPlan(plan, compiled.model, ens.species[s].mz);
+      fine.setMz(ens.species[s].mz);
       for (let i = ens.speciesStart[s]; i < ens.speciesStart[s + 1]; i += 10) {
-        Object.assign(st, { t: 0, z: ens.z0_m[i], v: ens.vz0_m_per_s[i], fate: Fate.UNSET, w: 1 });
-        startTransverse(ens.x0_m[i], ens.y0_m[i], ens.vx0_m_per_s[i], ens.vy0_m_per_s[i]);
-        traceOneMixed(st, plan, compiled.model, fine as never);
+        startIonState(st, ens.z0_m[i], ens.vz0_m_per_s[i], ens.x0_m[i], ens.y0_m[i], ens.vx0_m_per_s[i], ens.vy0_m_per_s[i]);
+        fine.fly(st);
         // Same fate as the direct trace (the map never carries an ion that would strike).
         if (st.fate !== direct.fate[i] || st.fate !== mapped.fate[i]) mappedStruck++;
         if (st.fate !== Fate.DETECTED || mapped.fate[i] !== Fate.DETECTED) continue;
@@ -124,7 +109,6 @@ describe('transfer map of the gridless demo mirror', () => {
         count++;
       }
     }
-    startTransverse(0, 0, 0, 0);
     expect(count).toBeGreaterThan(500);
     expect(mappedStruck).toBe(0);
     const rmsMapped = Math.sqrt(sumMapped / count);
