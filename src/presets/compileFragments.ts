@@ -60,6 +60,10 @@ export function checkFragments(preset: Preset): PresetIssue[] {
       issues.push({ path: at, message: 'decay in flight is not modelled together with solved-field regions (mirror.type "solved" or source.solved); use ideal grids' });
       return;
     }
+    if (preset.ionLoad?.spaceCharge) {
+      issues.push({ path: at, message: 'decay in flight is not modelled together with ionLoad.spaceCharge (the products would fly without the sheets); remove one of them' });
+      return;
+    }
     if (decay.law.kind === 'fraction' && (decay.law.region === 'mirror' || decay.law.region === 'returnDrift') && preset.mirror.type === 'none') {
       issues.push({ path: `${at}.law.region`, message: `"${decay.law.region}" needs a mirror; in linear mode use "source" or "drift"` });
     }

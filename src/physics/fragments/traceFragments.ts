@@ -17,6 +17,9 @@ import { SeededRandom } from '../../ions/random';
 import { LEG_COUNT, Leg, type BlockDecayModel, type DecayProduct, type FragmentModel } from './decayModel';
 import { lifetimeDecayTime_s, pickChannel, releaseVelocity } from './decaySampling';
 import { copyFlightState, createFlightState, fly, Flight, startFlight, type FlightState } from './flight';
+import { createIonState, startIonState, type IonState as RegionIonState, type SectionCode } from '../regions/contract';
+import { createFlight } from '../regions/driver';
+import { chargeToMassIn } from '../regions/plan';
 
 /** Random streams of the decays are offset from the population's (one per species block there). */
 const DECAY_STREAM_OFFSET = 0x16_0000;
@@ -58,6 +61,13 @@ const scratchPlan = createExactPlan();
 const precursorState = createFlightState();
 const productState = createFlightState();
 const kick = new Float64Array(3);
+
+function mirrorDepth_m(plan: ExactPlan, model: AnalyserModel): number {
+  if (model.mirror?.profile) return model.mirror.profile.depth_m;
+  let depth = 0;
+  for (let j = 0; j < plan.mirrorStageCount; j++) depth += plan.mirrorLength_m[j];
+  return depth;
+}
 
 function planFor(model: AnalyserModel, product: DecayProduct): ExactPlan {
   // A neutral has no charge-to-mass ratio: every field leaves it alone (m/z = ∞ gives q/m = 0).
@@ -163,6 +173,11 @@ function traceProducts(
   const decayTime_s = new Float64Array(count);
   const decayLeg = new Uint8Array(count);
   const plan = planFor(model, product);
+  // The product flies on through the rest of the analyser by the engine's own driver (regions/driver.ts),
+  // from the section and state of the decay; only the path behind the back plate is walked here.
+  const flight = createFlight(model, { ions: count });
+  flight.setChargeToMass(product.charge === 0 ? 0 : chargeToMassIn(model, product.mz));
+  const ion: RegionIonState = createIonState();
   // Product 2 takes −(m1/m2) of product 1's release velocity (momentum conservation).
   const share = role === 'fragment' ? 1 : -ch.fragment.mass_u / ch.complement.mass_u;
   const aperture = model.detectorAperture;
@@ -183,7 +198,24 @@ function traceProducts(
     st.fate = Fate.UNSET;
     st.legEntry_s.fill(NaN);
     const tDecay = st.t;
-    fly(st, plan, model, behind, Infinity);
+    if (st.leg !== Leg.BEHIND) {
+      startIonState(ion, st.z, st.v);
+      ion.t = st.t;
+      ion.w = st.w;
+      flight.fly(ion, st.leg as SectionCode);
+      st.t = ion.t;
+      st.z = ion.z;
+      st.v = ion.v;
+      st.w = ion.w;
+      st.fate = ion.fate;
+      if (ion.fate === Fate.PASSED_THROUGH_MIRROR) {
+        // Through the back plate: straight on to the detector behind the mirror, if there is one.
+        st.fate = Fate.UNSET;
+        st.leg = Leg.BEHIND;
+        st.z = mirrorDepth_m(plan, model); // on the back plate
+        fly(st, plan, model, behind, Infinity);
+      }
+    } else fly(st, plan, model, behind, Infinity);
     const vx = ens.vx0_m_per_s[i] + share * scratch.kick[3 * k + 1];
     const vy = ens.vy0_m_per_s[i] + share * scratch.kick[3 * k + 2];
     const x = ens.x0_m[i] + ens.vx0_m_per_s[i] * tDecay + vx * (st.t - tDecay);
