@@ -17,6 +17,7 @@ import type { SpectrumSection } from './simulation/analysisReport';
 import { compareWithIdeal, formatIdealComparison } from './simulation/idealComparison';
 import { isMeasuredCommand, MEASURED_USAGE, runMeasuredCommand } from './cli/measuredCommand';
 import { isToleranceCommand, runToleranceCommand, TOLERANCE_USAGE, type ToleranceCliOptions } from './cli/toleranceCommand';
+import { FRAGMENT_USAGE, formatFragmentTable, isSteppingCommand, runSteppingCommand } from './cli/fragmentCommand';
 import { applyIonLoadArgs, formatIonLoad, ION_LOAD_USAGE, takeIonLoadArg, type IonLoadArgs } from './cli/ionLoadArgs';
 
 export const USAGE = `Usage: npm run sim -- <preset.json> [--json | --csv] [--ions N] [--seed S]
@@ -37,7 +38,8 @@ ${ION_LOAD_USAGE}
 ${TUNING_USAGE}
 
 ${MEASURED_USAGE}
-${TOLERANCE_USAGE}`;
+${TOLERANCE_USAGE}
+${FRAGMENT_USAGE}`;
 
 export interface CliArgs {
   presetPath: string;
@@ -129,6 +131,7 @@ export function main(argv: readonly string[], io: CliIo = processIo, options: Tu
   if (isMeasuredCommand(argv) && !argv.includes('--help')) return runMeasuredCommand(argv, io, (rest, plainIo) => main(rest, plainIo, options));
   if (isToleranceCommand(argv) && !argv.includes('--help')) return runToleranceCommand(argv, io, options);
   if (isTuningCommand(argv)) return runTuningCommand(argv, io, options);
+  if (isSteppingCommand(argv) && !argv.includes('--help')) return runSteppingCommand(argv, io);
   const parsed = parseArgs(argv);
   if (!parsed.ok) {
     if (parsed.help) {
@@ -200,6 +203,7 @@ export function main(argv: readonly string[], io: CliIo = processIo, options: Tu
     if (comparison) io.err(formatIdealComparison(comparison)); // keeps stdout a clean CSV
   } else {
     io.out(formatTable(preset, result));
+    if (result.fragments) io.out(formatFragmentTable(result.fragments.report));
     if (comparison) io.out(formatIdealComparison(comparison));
     if (result.ionLoad) io.out(formatIonLoad(result.ionLoad));
   }
