@@ -29,6 +29,7 @@ import { demo } from './presets/demos';
 import { PresetsView } from './presets/presetsView';
 import { focusLines, focusSummary } from './results/focusSummary';
 import { paintSwatches, renderFates, renderPeakTable, runSummary } from './results/resultsView';
+import { renderFragmentTable } from './results/fragmentTable';
 import { buildRunView, type RunView } from './results/runView';
 import { peakTableCsv } from './results/peakCsv';
 import { AnalyserScene } from './scene/analyserScene';
@@ -206,6 +207,7 @@ export async function startApp(): Promise<void> {
     const view = buildRunView(output, colours, job.preset.acquisition?.sampleInterval_ns ?? null);
     renderPeakTable(resultsTable, view.rows, view.calibrationNote, view.calibrationFreedom);
     renderFates(byId('fate-list'), report.fates, report.ions);
+    renderFragmentTable(byId('fragment-results'), report);
     byId('run-summary').textContent = runSummary(report, output.elapsed_ms) + (job.kind === 'live' ? ' (quick preview)' : '');
     spectrum.setRun(view.spectrum);
     const labels = report.species.map((s) => s.label);
