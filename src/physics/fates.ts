@@ -62,3 +62,29 @@ export function countFates(fates: Uint8Array, from = 0, to = fates.length): Fate
   FATE_KEYS.forEach((key, code) => (counts[key] = tally[code]));
   return counts;
 }
+
+/**
+ * How an ion left a region, or one crossing inside it: the one exit vocabulary of the engine. A
+ * kernel or a crossing returns either one of these (the ion is still in flight) or a `Fate` code
+ * other than UNSET and DETECTED (the ion is lost there, and that is its fate). The codes do not
+ * overlap the fates, so one number says both. The older names (uniformField `Crossing`,
+ * numericRegions `Exit`, the solved tracer's `SolvedExit`) are views of these codes.
+ */
+export const Exit = {
+  /** Through the far plane (for a whole section: on to the next section of the unfolded flight). */
+  FAR: 16,
+  /** Back through the entry plane. */
+  ENTRY: 17,
+  /** Still inside at the end time of the call (a waveform breakpoint, a settle time or the time limit). */
+  PAUSED: 18,
+} as const;
+
+export type ExitCode = (typeof Exit)[keyof typeof Exit];
+
+/** A region's outcome: an exit while in flight, or the fate of an ion lost in it. */
+export type RegionExit = ExitCode | FateCode;
+
+/** True for the fate codes (ion lost or decided), false for the in-flight exits. */
+export function isFateCode(code: number): code is FateCode {
+  return code < Exit.FAR;
+}
