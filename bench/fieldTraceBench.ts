@@ -29,7 +29,7 @@ import { pathToFileURL } from 'node:url';
 import { chargeToMass_C_per_kg } from '../src/physics/constants';
 import { createExactPlan, createIonState, prepareExactPlan } from '../src/physics/exactEngine';
 import { Fate } from '../src/physics/fates';
-import { SolvedExit, SolvedPrecision, createSolvedIonState, solvedCounters, traceSolvedRegion } from '../src/fields/solvedTracer';
+import { SolvedExit, SolvedPrecision, createSolvedIonState, solvedCounters, traceSolvedRegion } from '../src/physics/regions/solvedTracer';
 import type { IonState } from '../src/physics/exactEngine';
 import { mirrorSolved, startTransverse, transverse, transverseX, transverseY } from '../src/physics/solvedMirror';
 import { SolvedMirrorMapper } from '../src/physics/solvedMirrorMap';

@@ -4,8 +4,7 @@
  * src/presets/compile.ts; read by the engines. Positions along the axis are measured from the
  * repeller; the mirror is unfolded, so "path" lengths after the source add up along the flight.
  */
-import type { SolvedMirrorModel } from './solvedMirror';
-import type { SolvedSourceModel } from './solvedSource';
+import type { SolvedMirrorModel, SolvedSourceModel } from './regions/solvedKernels';
 
 /** Potential of one electrode plane: `hold_V` until `switch_s`, then `final_V` (an ideal step). */
 export interface ElectrodeDrive {
@@ -40,7 +39,7 @@ export interface SourceModel {
   /** Transmission of each plane (index as `planes`; the repeller's entry is unused), 1 = fully open. */
   readonly planeTransmission: readonly number[];
   readonly rise: RiseModel;
-  /** Plates with apertures and a solved field instead of the ideal grids (src/physics/solvedSource.ts). */
+  /** Plates with apertures and a solved field instead of the ideal grids (src/physics/regions/solvedKernels.ts). */
   readonly solved?: SolvedSourceModel | null;
 }
 
@@ -67,7 +66,7 @@ export interface MirrorModel {
   /** Transmission of the grid closing each stage except the last (the back plate), then of the entrance grid. */
   readonly entranceGridTransmission: number;
   readonly innerGridTransmission: readonly number[];
-  /** Gridless mirror with a solved field (src/physics/solvedMirror.ts); stages and profile are then unused. */
+  /** Gridless mirror with a solved field (src/physics/regions/solvedKernels.ts); stages and profile are then unused. */
   readonly solved?: SolvedMirrorModel | null;
 }
 

@@ -20,7 +20,8 @@
  * cross-check under run.engine = "integrator".
  */
 import type { SourceModel, WaveformTable } from './analyser';
-import { Exit, type NumericState } from './numericRegions';
+import { Exit } from './fates';
+import type { NumericState } from './regions/axialIntegrator';
 
 /** Coefficients of one segment, in the ion's own segment clock s = t − t0. One reused instance. */
 class PulseSegment {
@@ -251,7 +252,8 @@ function collectCuts(S: number): number {
 
 /**
  * Cross source stage `stage` (between absolute planes lo and hi) in closed form up to tEnd, from
- * the state in `st`; same contract and exit codes as numericRegions.crossSourceStageNumeric.
+ * the state in `st`; same contract and exit codes as AxialIntegrator.crossSourceStage
+ * (src/physics/regions/axialIntegrator.ts): Exit.FAR through hi, Exit.ENTRY through lo, Exit.PAUSED at tEnd.
  */
 export function crossSourceStageClosed(st: NumericState, source: SourceModel, qOverM: number, stage: number, lo: number, hi: number, tEnd: number): number {
   const gap = hi - lo;
@@ -277,12 +279,12 @@ export function crossSourceStageClosed(st: NumericState, source: SourceModel, qO
       st.t += s;
       st.z = plane; // snapped onto the plane it crossed, as the integrator does
       st.v = seg.v;
-      return plane === hi ? Exit.HIGH : Exit.LOW;
+      return plane === hi ? Exit.FAR : Exit.ENTRY;
     }
     seg.evaluate(S);
     st.z = seg.z;
     st.v = seg.v;
     st.t = segEnd;
   }
-  return Exit.TIME_LIMIT;
+  return Exit.PAUSED;
 }

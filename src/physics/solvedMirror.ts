@@ -1,27 +1,18 @@
 /**
- * The mixed tracer's solved-field mirror: the ion leaves the ideal regions on the mirror's entry
- * plane, is traced in 3-D through the solved field (src/fields/solvedTracer.ts) and comes back
- * out through the same plane onto the (unfolded) return path.
- *
- * Ideal regions leave the transverse velocity unchanged, so the transverse position at the entry
- * plane is x0 + vx0·t. The solved field changes it; the state where the ion left the solved region
- * is kept here, and the detector-plane position is x_exit + vx_exit·(t_det − t_exit).
- * One module-level transverse record is reused: no allocation per ion.
+ * Compatibility entry points of the solved-field mirror (the kernel is in
+ * src/physics/regions/solvedKernels.ts): single crossings for tests and benchmarks, and the
+ * transverse record that the solved-mirror transfer map (src/physics/solvedMirrorMap.ts) reads.
+ * In the engine the transverse state travels in each ion's IonState; the driver hands it to this
+ * record and back around each pass of the map, and nothing else in the engine reads it.
  */
-import type { UnitFieldSet } from '../fields/unitSolutions';
-import { SolvedExit, createSolvedIonState, traceSolvedRegion, type SolvedRegion } from '../fields/solvedTracer';
-import type { ExactPlan, IonState } from './exactEngine';
-import { Fate } from './fates';
+import { createIonState, type AxialState } from './regions/contract';
+import type { FlightPlan } from './regions/plan';
+import { crossSolvedMirror, type SolvedMirrorModel } from './regions/solvedKernels';
+import { SolvedFieldTracer, createSolvedIonState } from './regions/solvedTracer';
+import { legacyTally } from './regions/legacyTally';
+import { Exit } from './fates';
 
-/** A mirror whose field is solved rather than ideal; see src/presets/compileFields.ts. */
-export interface SolvedMirrorModel {
-  readonly region: SolvedRegion;
-  /** Unit fields (cached per geometry) and the drive voltages (relative to the drift potential) of `region.map`. */
-  readonly unitFields: UnitFieldSet;
-  readonly driveVoltages_V: Float64Array;
-  /** Drift potential added to the solved (relative) potential for display. */
-  readonly referencePotential_V: number;
-}
+export type { SolvedMirrorModel };
 
 /** Transverse state of the ion being traced: its start, and where it last left a solved region. */
 export interface TransverseRecord {
@@ -65,39 +56,30 @@ export function transverseY(t: number): number {
   return transverse.yRef + transverse.vyRef * (t - transverse.tRef);
 }
 
+const tracer = new SolvedFieldTracer(legacyTally);
 const ion = createSolvedIonState();
+const full = createIonState();
 
 /**
  * Through the solved mirror, from its entry plane (the ion's axial state: time t, speed v > 0)
- * and back out. Returns false with the fate set when the ion does not come back out.
+ * and back out, with the transverse state of the record above. Returns false with the fate set
+ * when the ion does not come back out.
  */
-export function mirrorSolved(st: IonState, plan: ExactPlan, mirror: SolvedMirrorModel, tLimit_s: number): boolean {
-  const region = mirror.region;
-  ion.t = st.t;
-  ion.x = transverseX(st.t);
-  ion.y = transverseY(st.t);
-  ion.z = region.entryZ_m;
-  ion.vx = transverse.vxRef;
-  ion.vy = transverse.vyRef;
-  ion.vz = st.v;
-  const exit = traceSolvedRegion(ion, region, plan.qOverM, tLimit_s);
-  st.t = ion.t;
+export function mirrorSolved(st: AxialState, plan: FlightPlan, mirror: SolvedMirrorModel, tLimit_s: number): boolean {
+  full.t = st.t;
+  full.z = 0;
+  full.v = st.v;
+  full.fate = st.fate;
+  full.w = st.w;
+  full.tRef = transverse.tRef;
+  full.xRef = transverse.xRef;
+  full.yRef = transverse.yRef;
+  full.vxRef = transverse.vxRef;
+  full.vyRef = transverse.vyRef;
+  const exit = crossSolvedMirror(full, plan, mirror, tLimit_s, tracer, ion);
+  st.t = full.t;
+  st.v = full.v;
+  st.fate = full.fate;
   leftSolvedRegion(ion);
-  switch (exit) {
-    case SolvedExit.ENTRY:
-      st.v = -ion.vz; // speed along the unfolded return path
-      return true;
-    case SolvedExit.STRUCK:
-      st.fate = Fate.STRUCK_ELECTRODE;
-      return false;
-    case SolvedExit.FAR:
-      st.fate = Fate.PASSED_THROUGH_MIRROR;
-      return false;
-    case SolvedExit.FAILED:
-      st.fate = Fate.INTEGRATION_FAILED;
-      return false;
-    default:
-      st.fate = Fate.TIMED_OUT;
-      return false;
-  }
+  return exit === Exit.FAR;
 }

@@ -34,7 +34,7 @@
  */
 import { createFieldSample, sampleField } from '../fields/interpolate';
 import { solveLeastSquares } from '../fields/leastSquares';
-import { SolvedExit, SolvedPrecision, createSolvedIonState, traceSolvedRegion } from '../fields/solvedTracer';
+import { SolvedExit, SolvedPrecision, createSolvedIonState, traceSolvedRegion } from './regions/solvedTracer';
 import type { ExactPlan, IonState } from './exactEngine';
 import { Fate } from './fates';
 import { leftSolvedRegion, transverse, transverseX, transverseY, type SolvedMirrorModel } from './solvedMirror';

@@ -1,15 +1,20 @@
 /**
  * Axial trajectory of one ion through the analyser, as a list of uniform-acceleration segments, for
- * drawing paths and animating packets. It follows the exact engine stage by stage with the same
- * closed-form kernels (src/physics/uniformField.ts), so its flight time and fate are the engine's.
+ * drawing paths and animating packets. The segments are what the region kernels report to a
+ * `SegmentObserver` as they fly the ion (src/physics/regions/), so its flight time and fate are the
+ * engine's; `TrajectoryRecorder` turns them into this drawing frame and can be handed to the
+ * driver (traceEnsemble / Flight.fly) to record paths with any kernel choice.
  *
  * Positions are in the folded analyser frame: x is measured from the repeller along the axis
  * towards the drift tube and mirror; after the mirror turn the ion moves back (negative velocity)
  * down the return leg. Within segment k, x(t) = x0[k] + v0[k]·τ + a[k]·τ²/2 with τ = t − t0[k].
  */
-import type { ExactPlan } from './exactEngine';
 import { Fate } from './fates';
-import { createMotion, crossForward, Crossing, enterStage, firstExit } from './uniformField';
+import { Section, createIonState, type IonState, type SectionCode, type SegmentObserver } from './regions/contract';
+import { flySections } from './regions/driver';
+import { FieldFreeKernel, PostGapKernel, StageMirrorKernel, StaticSourceKernel } from './regions/uniformStages';
+import type { RegionKernel } from './regions/contract';
+import type { FlightPlan } from './regions/plan';
 
 /** Which part of the analyser a segment lies in. */
 export const Region = {
@@ -75,157 +80,124 @@ function push(tr: Trajectory, region: RegionCode, stage: number, t0: number, dt:
   tr.a_m_per_s2[k] = a;
 }
 
-const motion = createMotion();
-/** Hold-phase grid crossings drawn before the path is given up (an ion pinned at a grid; see exactEngine). */
-const MAX_DRAWN_HOLD_CROSSINGS = 10_000;
-
 /**
- * Fill `tr` with the path of an ion of the plan's m/z starting at z0 (m from the repeller) with
- * axial velocity v0 (m/s) at t = 0. Mirrors `traceOneExact` step by step, including its time sums.
+ * Records the segments the kernels report into a `Trajectory`, in the folded drawing frame: the
+ * source from the repeller, the drift from the ground grid, the mirror from its entrance grid
+ * (in, then out again time-reversed), the return leg and the post-acceleration gap back towards
+ * the detector. Mirror and return positions are summed here in flight order from the frame's
+ * origin, so a path is the same to the bit whichever kernel reported it.
  */
-export function traceTrajectory(tr: Trajectory, plan: ExactPlan, z0: number, v0: number): Trajectory {
-  tr.count = 0;
-  tr.fate = Fate.UNSET;
-  tr.sourceExit_s = NaN;
-  tr.driftSpeed_m_per_s = 0;
-  let t = 0;
-  let z = z0;
-  let v = v0;
-  const finish = (fate: number): Trajectory => {
-    tr.fate = fate;
-    tr.flightTime_s = t;
-    if (fate === Fate.TIMED_OUT || !(t <= plan.maxFlightTime_s)) {
-      tr.fate = Fate.TIMED_OUT;
-      tr.flightTime_s = plan.maxFlightTime_s;
-    }
-    return tr;
-  };
+export class TrajectoryRecorder implements SegmentObserver {
+  private plan: FlightPlan | null = null;
+  private driftStart = 0;
+  private mirrorEntrance = 0;
+  private depth = 0;
+  private lastIn = -1;
+  private mirrored = false;
 
-  // Hold phase of delayed extraction, stage by stage in the hold fields (exactEngine.holdExactUntil).
-  if (plan.delay_s > 0) {
-    const last = plan.sourceStageCount - 1;
-    let j = 0;
-    for (let crossing = 0; ; crossing++) {
-      const duration = plan.delay_s - t;
-      if (duration <= 0) break;
-      const lo = plan.sourcePlane_m[j];
-      const hi = plan.sourcePlane_m[j + 1];
-      const a = plan.sourceHoldAcceleration[j];
-      const side = firstExit(motion, z, v, a, lo, hi);
-      if (side === 0 || motion.dt > duration) {
-        push(tr, Region.HOLD, j, t, duration, z, v, a);
-        z += v * duration + 0.5 * a * duration * duration;
-        v += a * duration;
-        t = plan.delay_s;
-        break;
-      }
-      if (crossing >= MAX_DRAWN_HOLD_CROSSINGS) return finish(Fate.TIMED_OUT);
-      push(tr, Region.HOLD, j, t, motion.dt, z, v, a);
-      t += motion.dt;
-      v = motion.v;
-      z = side < 0 ? lo : hi;
-      if (side < 0 && j === 0) return finish(Fate.STRUCK_REPELLER);
-      if (side > 0 && j === last) return finish(Fate.LEFT_SOURCE_DURING_DELAY);
-      j += side;
-    }
+  constructor(public tr: Trajectory) {}
+
+  /** Start recording an ion of `plan` (call before flying it). */
+  reset(plan: FlightPlan): void {
+    this.plan = plan;
+    const tr = this.tr;
+    tr.count = 0;
+    tr.fate = Fate.UNSET;
+    tr.sourceExit_s = NaN;
+    tr.driftSpeed_m_per_s = 0;
+    tr.flightTime_s = 0;
+    this.driftStart = plan.sourcePlane_m[plan.sourceStageCount];
+    this.mirrorEntrance = this.driftStart + plan.driftLength_m;
+    this.depth = this.mirrorEntrance;
+    this.lastIn = -1;
+    this.mirrored = false;
   }
 
-  // Source stages (exactEngine.extractExact).
-  for (let j = 0; j < plan.sourceStageCount; j++) {
-    const start = plan.sourcePlane_m[j];
-    const end = plan.sourcePlane_m[j + 1];
-    if (z >= end && v >= 0) continue;
-    const a = plan.sourceAcceleration[j];
-    const crossing = crossForward(motion, v, a, end - z, z - start);
-    if (crossing !== Crossing.FORWARD) {
-      if (crossing === Crossing.NEVER) return finish(Fate.TIMED_OUT);
-      // Drawn until it leaves the stage backwards; the engine's time stays at the stage entry.
-      const side = firstExit(motion, z, v, a, start, end);
-      if (side !== 0 && Number.isFinite(motion.dt)) push(tr, Region.SOURCE, j, t, motion.dt, z, v, a);
-      return finish(j === 0 ? Fate.STRUCK_REPELLER : Fate.TURNED_BACK);
-    }
-    push(tr, Region.SOURCE, j, t, motion.dt, z, v, a);
-    t += motion.dt;
-    v = motion.v;
-    z = end;
+  enter(section: SectionCode, st: Readonly<IonState>): void {
+    if (section === Section.DRIFT) {
+      this.tr.sourceExit_s = st.t;
+      this.tr.driftSpeed_m_per_s = st.v;
+    } else if (section === Section.MIRROR) this.mirrored = true;
   }
-  tr.sourceExit_s = t;
-  tr.driftSpeed_m_per_s = v;
 
-  // Drift (exactEngine.driftExact).
-  const driftStart = z;
-  if (plan.driftLength_m > 0) {
-    if (!(v > 0)) {
-      t = Infinity;
-      return finish(Fate.TIMED_OUT);
-    }
-    const dt = plan.driftLength_m / v;
-    push(tr, Region.DRIFT, 0, t, dt, z, v, 0);
-    t += dt;
-    z += plan.driftLength_m;
-  }
-  const mirrorEntrance = driftStart + plan.driftLength_m;
-
-  let direction = 1;
-  if (plan.mirrorStageCount > 0) {
-    // Mirror (exactEngine.mirrorExact): in, turned, out with the entry speed.
-    const tIn = t;
-    let speed = v;
-    let elapsed = 0;
-    let depth = mirrorEntrance;
-    let turned = false;
-    for (let j = 0; j < plan.mirrorStageCount; j++) {
-      const a = plan.mirrorAcceleration[j];
-      const through = enterStage(motion, speed, a, plan.mirrorLength_m[j]);
-      if (!through) {
-        // Turning point inside stage j: half the in-and-out time each way; the way back starts at rest.
-        const half = motion.dt / 2;
-        push(tr, Region.MIRROR_IN, j, tIn + elapsed, half, depth, speed, a);
-        push(tr, Region.MIRROR_OUT, j, tIn + elapsed + half, half, depth + (speed * speed) / (-2 * a), 0, a);
-        // Way out: the stages crossed on the way in, in reverse, time-reversed.
-        const tTurnEnd = tIn + elapsed + motion.dt;
-        let tOut = tTurnEnd;
-        for (let k = j - 1; k >= 0; k--) {
-          const kIn = findSegment(tr, Region.MIRROR_IN, k);
+  segment(section: SectionCode, stage: number, t0: number, dt: number, z0: number, v0: number, a: number): void {
+    const tr = this.tr;
+    const plan = this.plan!;
+    switch (section) {
+      case Section.SOURCE:
+        push(tr, t0 < plan.delay_s ? Region.HOLD : Region.SOURCE, stage, t0, dt, z0, v0, a);
+        return;
+      case Section.DRIFT:
+        push(tr, Region.DRIFT, 0, t0, dt, this.driftStart + z0, v0, 0);
+        return;
+      case Section.MIRROR:
+        if (v0 > 0) {
+          this.lastIn = tr.count;
+          push(tr, Region.MIRROR_IN, stage, t0, dt, this.depth, v0, a);
+          this.depth += plan.mirrorLength_m[stage];
+        } else if (v0 === 0 && this.lastIn >= 0) {
+          // The turning point: the way back starts at rest at the depth where the ion stopped.
+          const k = this.lastIn;
+          push(tr, Region.MIRROR_OUT, stage, t0, dt, tr.x0_m[k] + (tr.v0_m_per_s[k] * tr.v0_m_per_s[k]) / (-2 * a), 0, a);
+        } else {
+          // Way out through stage `stage`: its way in, time-reversed.
+          const kIn = findSegment(tr, Region.MIRROR_IN, stage);
           const dtk = tr.dt_s[kIn];
           const vEnd = tr.v0_m_per_s[kIn] + tr.a_m_per_s2[kIn] * dtk;
           const xEnd = tr.x0_m[kIn] + tr.v0_m_per_s[kIn] * dtk + 0.5 * tr.a_m_per_s2[kIn] * dtk * dtk;
-          push(tr, Region.MIRROR_OUT, k, tOut, dtk, xEnd, -vEnd, tr.a_m_per_s2[kIn]);
-          tOut += dtk;
+          push(tr, Region.MIRROR_OUT, stage, t0, dtk, xEnd, -vEnd, tr.a_m_per_s2[kIn]);
         }
-        t = tIn + (2 * elapsed + motion.dt); // same sum as the engine
-        turned = true;
-        break;
+        return;
+      case Section.RETURN:
+        push(tr, Region.RETURN, 0, t0, dt, this.mirrorEntrance - z0, -v0, 0);
+        return;
+      case Section.POST: {
+        const origin = this.mirrored ? (plan.returnLength_m > 0 ? this.mirrorEntrance - plan.returnLength_m : this.mirrorEntrance) : this.mirrorEntrance;
+        const direction = this.mirrored ? -1 : 1;
+        push(tr, Region.POST, 0, t0, dt, origin + direction * z0, direction * v0, direction * a);
+        return;
       }
-      push(tr, Region.MIRROR_IN, j, tIn + elapsed, motion.dt, depth, speed, a);
-      elapsed += motion.dt;
-      depth += plan.mirrorLength_m[j];
-      speed = motion.v;
-    }
-    if (!turned) {
-      t += elapsed;
-      return finish(Fate.PASSED_THROUGH_MIRROR);
-    }
-    direction = -1;
-    z = mirrorEntrance;
-    // Return drift (speed unchanged by the static mirror).
-    if (plan.returnLength_m > 0) {
-      const dt = plan.returnLength_m / v;
-      push(tr, Region.RETURN, 0, t, dt, z, -v, 0);
-      t += dt;
-      z -= plan.returnLength_m;
     }
   }
 
-  // Post-acceleration gap (exactEngine.postAccelerateExact), along the current direction.
-  if (plan.postGap_m > 0) {
-    const a = plan.postAcceleration;
-    const crossing = crossForward(motion, v, a, plan.postGap_m, 0);
-    if (crossing !== Crossing.FORWARD) return finish(crossing === Crossing.NEVER ? Fate.TIMED_OUT : Fate.TURNED_BACK);
-    push(tr, Region.POST, 0, t, motion.dt, z, direction * v, direction * a);
-    t += motion.dt;
+  end(_ion: number, st: Readonly<IonState>): void {
+    this.tr.fate = st.fate;
+    this.tr.flightTime_s = st.t;
   }
-  return finish(Fate.DETECTED);
+}
+
+/** The ideal-grid kernels a drawn path follows (a solved region is drawn as its ideal-grid equivalent, as before). */
+class DrawnKernels {
+  private readonly kernels: (RegionKernel | null)[] = [new StaticSourceKernel(), new FieldFreeKernel(Section.DRIFT), new StageMirrorKernel(), new FieldFreeKernel(Section.RETURN), new PostGapKernel()];
+  private readonly view: (RegionKernel | null)[] = this.kernels.slice();
+  for(plan: FlightPlan): readonly (RegionKernel | null)[] {
+    const mirror = plan.mirrorStageCount > 0;
+    this.view[Section.MIRROR] = mirror ? this.kernels[Section.MIRROR] : null;
+    this.view[Section.RETURN] = mirror ? this.kernels[Section.RETURN] : null;
+    return this.view;
+  }
+}
+
+const drawn = new DrawnKernels();
+const state = createIonState();
+const recorder = new TrajectoryRecorder(createTrajectory());
+
+/**
+ * Fill `tr` with the path of an ion of the plan's m/z starting at z0 (m from the repeller) with
+ * axial velocity v0 (m/s) at t = 0, flown by the closed-form kernels.
+ */
+export function traceTrajectory(tr: Trajectory, plan: FlightPlan, z0: number, v0: number): Trajectory {
+  recorder.tr = tr;
+  recorder.reset(plan);
+  state.t = 0;
+  state.z = z0;
+  state.v = v0;
+  state.fate = Fate.UNSET;
+  state.w = 1;
+  state.tRef = state.xRef = state.yRef = state.vxRef = state.vyRef = 0;
+  flySections(drawn.for(plan), state, plan, Section.SOURCE, plan.maxFlightTime_s, recorder);
+  recorder.end(0, state);
+  return tr;
 }
 
 function findSegment(tr: Trajectory, region: RegionCode, stage: number): number {

@@ -6,6 +6,7 @@
  * Forms are chosen to avoid cancellation: the forward crossing time is written as
  * 2Δ/(v + sqrt(v² + 2aΔ)) when v ≥ 0, which is exact for a → 0 as well.
  */
+import { Exit, Fate } from './fates';
 
 export interface Motion {
   /** Time taken by the last operation (s). */
@@ -18,8 +19,12 @@ export function createMotion(): Motion {
   return { dt: 0, v: 0 };
 }
 
-/** Outcome of `crossForward`. */
-export const Crossing = { FORWARD: 1, BACKWARD: -1, NEVER: 0 } as const;
+/**
+ * Outcome of `crossForward` under its older names: views of the one exit vocabulary
+ * (src/physics/fates.ts): through the exit plane, back through the entry plane, or never (at rest
+ * in a field-free stage: the ion's fate is then "timed out").
+ */
+export const Crossing = { FORWARD: Exit.FAR, BACKWARD: Exit.ENTRY, NEVER: Fate.TIMED_OUT } as const;
 
 /**
  * Cross a stage forward: start `ahead` metres before its exit plane and `behind` metres after its
@@ -28,7 +33,7 @@ export const Crossing = { FORWARD: 1, BACKWARD: -1, NEVER: 0 } as const;
  * leaves back through the entry plane (it turns around, or starts moving back and never returns);
  * NEVER when it rests in a field-free stage.
  */
-export function crossForward(out: Motion, v: number, a: number, ahead: number, behind: number): number {
+export function crossForward(out: Motion, v: number, a: number, ahead: number, behind: number): typeof Exit.FAR | typeof Exit.ENTRY | typeof Fate.TIMED_OUT {
   if (ahead <= 0) {
     if (v < 0) return Crossing.BACKWARD;
     out.dt = 0;

@@ -17,7 +17,7 @@ import { dividerFractions } from '../fields/electrodes';
 import { friendlyNodeCount } from '../fields/mesh';
 import type { MeshSpec } from '../fields/mesh';
 import { createFieldMap } from '../fields/interpolate';
-import { makeSolvedRegion } from '../fields/solvedTracer';
+import { makeSolvedRegion } from '../fields/solvedRegion';
 import { cachedUnitFields } from '../fields/unitFieldCache';
 import { superpose } from '../fields/unitSolutions';
 import type { SourceModel } from '../physics/analyser';

@@ -2,7 +2,7 @@ import { createFieldMap } from '../../src/fields/interpolate';
 import { describe, expect, it } from 'vitest';
 import type { ElectrodeSpec } from '../../src/fields/electrodes';
 import { meshFromSpecs } from '../../src/fields/rasterize';
-import { SolvedExit, createSolvedIonState, makeSolvedRegion, traceSolvedRegion } from '../../src/fields/solvedTracer';
+import { SolvedExit, createSolvedIonState, makeSolvedRegion, traceSolvedRegion } from '../../src/physics/regions/solvedTracer';
 import { solveUnitFields, superpose } from '../../src/fields/unitSolutions';
 import { chargeToMass_C_per_kg } from '../../src/physics/constants';
 import { createExactPlan, createIonState, mirrorExact } from '../../src/physics/exactEngine';

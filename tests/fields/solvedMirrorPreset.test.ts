@@ -1,7 +1,7 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { main } from '../../src/cli';
-import { solvedCounters } from '../../src/fields/solvedTracer';
+import { solvedCounters } from '../../src/physics/regions/solvedTracer';
 import { fieldCacheStats } from '../../src/fields/unitFieldCache';
 import { Fate } from '../../src/physics/fates';
 import { idealGridEquivalent } from '../../src/presets/compileFields';

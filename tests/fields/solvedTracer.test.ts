@@ -3,7 +3,7 @@ import { describe, expect, it } from 'vitest';
 import type { ElectrodeSpec } from '../../src/fields/electrodes';
 import type { FieldMesh, MeshSpec } from '../../src/fields/mesh';
 import { meshFromSpecs } from '../../src/fields/rasterize';
-import { SolvedExit, createSolvedIonState, makeSolvedRegion, traceSolvedRegion, type SolvedRegion } from '../../src/fields/solvedTracer';
+import { SolvedExit, createSolvedIonState, makeSolvedRegion, traceSolvedRegion, type SolvedRegion } from '../../src/physics/regions/solvedTracer';
 import { solveUnitFields, superpose } from '../../src/fields/unitSolutions';
 import { chargeToMass_C_per_kg } from '../../src/physics/constants';
 import { createExactPlan, createIonState, mirrorExact } from '../../src/physics/exactEngine';

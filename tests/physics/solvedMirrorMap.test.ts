@@ -8,7 +8,7 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { solveLeastSquares } from '../../src/fields/leastSquares';
-import { SolvedExit, SolvedPrecision, createSolvedIonState, traceSolvedRegion } from '../../src/fields/solvedTracer';
+import { SolvedExit, SolvedPrecision, createSolvedIonState, traceSolvedRegion } from '../../src/physics/regions/solvedTracer';
 import { SeededRandom } from '../../src/ions/random';
 import { chargeToMass_C_per_kg } from '../../src/physics/constants';
 import { createExactPlan, createIonState, prepareExactPlan } from '../../src/physics/exactEngine';

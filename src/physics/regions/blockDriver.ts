@@ -1,30 +1,43 @@
 /**
- * The exact engine region by region: each region's closed form runs over all ions of a species
- * in one tight loop over struct-of-arrays state (time, velocity, weight and fate live in the
- * output arrays, position in one reused scratch array), instead of one ion at a time through every
- * region. Each ion sees the same operations in the same order as exactEngine.traceOneExact, so the
- * numbers are identical to the bit; only the loop nesting changes, which lets the JIT keep each
- * kernel's constants in registers. Ideal-grid analysers only: solved regions go ion by ion.
+ * The closed-form kernels region by region over blocks of ions: each region's closed form runs over
+ * a block of ions of one species in one tight loop over struct-of-arrays state (time, velocity,
+ * weight and fate live in the output arrays, position in the block's scratch array), instead of
+ * one ion at a time through every region. Each ion sees the same operations in the same order as
+ * the section kernels (closedForm.ts) flown ion by ion, so the numbers are identical to the bit;
+ * only the loop nesting changes, which lets the JIT keep each kernel's constants in registers.
+ * The driver takes this path for ideal-grid analysers whose regions all have a closed form, when
+ * no observer wants the paths. The scratch belongs to the driver's call.
  */
-import { holdExactUntil, type ExactPlan, type IonState } from './exactEngine';
-import { Fate } from './fates';
-import { createMotion, crossForward, Crossing, enterStage } from './uniformField';
-import type { Ensemble, TraceResult } from '../ions/ensemble';
+import { Fate } from '../fates';
+import { createMotion, crossForward, Crossing, enterStage, type Motion } from '../uniformField';
+import type { Ensemble, TraceResult } from '../../ions/ensemble';
+import { holdUntil } from './closedForm';
+import { createIonState, type IonState } from './contract';
+import type { FlightPlan } from './plan';
 
-const motion = createMotion();
-let zScratch = new Float64Array(0);
+/** Scratch of one block trace: created per driver call. */
+export interface BlockScratch {
+  readonly motion: Motion;
+  z: Float64Array;
+  readonly hold: IonState;
+}
+
+export function createBlockScratch(): BlockScratch {
+  return { motion: createMotion(), z: new Float64Array(0), hold: createIonState() };
+}
 
 /** Ions per block: every region runs over one block while its state is still in the cache. */
 const BLOCK = 2048;
 
 /** Trace ions [from, to) of one species (plan prepared for it) into `out`. */
-export function traceSpeciesBatch(plan: ExactPlan, ens: Ensemble, out: TraceResult, from: number, to: number): void {
-  for (let start = from; start < to; start += BLOCK) traceBlock(plan, ens, out, start, Math.min(to, start + BLOCK));
+export function traceSpeciesBlocks(plan: FlightPlan, ens: Ensemble, out: TraceResult, from: number, to: number, scratch: BlockScratch): void {
+  for (let start = from; start < to; start += BLOCK) traceBlock(plan, ens, out, start, Math.min(to, start + BLOCK), scratch);
 }
 
-function traceBlock(plan: ExactPlan, ens: Ensemble, out: TraceResult, from: number, to: number): void {
-  if (zScratch.length < to - from) zScratch = new Float64Array(to - from);
-  const z = zScratch;
+function traceBlock(plan: FlightPlan, ens: Ensemble, out: TraceResult, from: number, to: number, scratch: BlockScratch): void {
+  if (scratch.z.length < to - from) scratch.z = new Float64Array(to - from);
+  const z = scratch.z;
+  const motion = scratch.motion;
   const { flightTime_s: t, finalSpeed_m_per_s: v, weight: w, fate } = out;
   const z0 = ens.z0_m;
   const v0 = ens.vz0_m_per_s;
@@ -35,14 +48,14 @@ function traceBlock(plan: ExactPlan, ens: Ensemble, out: TraceResult, from: numb
     w[i] = 1;
     fate[i] = Fate.UNSET;
   }
-  if (plan.delay_s > 0) holdKernel(plan, t, z, v, w, fate, from, to);
-  for (let j = 0; j < plan.sourceStageCount; j++) stageKernel(plan, j, t, z, v, w, fate, from, to);
+  if (plan.delay_s > 0) holdKernel(plan, t, z, v, w, fate, from, to, scratch);
+  for (let j = 0; j < plan.sourceStageCount; j++) stageKernel(plan, j, t, z, v, w, fate, from, to, motion);
   driftKernel(plan.driftLength_m, t, v, fate, from, to);
   if (plan.mirrorStageCount > 0) {
-    mirrorKernel(plan, t, v, w, fate, from, to);
+    mirrorKernel(plan, t, v, w, fate, from, to, motion);
     driftKernel(plan.returnLength_m, t, v, fate, from, to);
   }
-  if (plan.postGap_m > 0) postKernel(plan, t, v, w, fate, from, to);
+  if (plan.postGap_m > 0) postKernel(plan, t, v, w, fate, from, to, motion);
   const tMax = plan.maxFlightTime_s;
   for (let i = from; i < to; i++) {
     let f = fate[i];
@@ -56,10 +69,9 @@ function traceBlock(plan: ExactPlan, ens: Ensemble, out: TraceResult, from: numb
   }
 }
 
-/** exactEngine.holdExactUntil(delay) for every ion: each source stage in its static hold field until the delay ends. */
-const holdState: IonState = { t: 0, z: 0, v: 0, fate: Fate.UNSET, w: 1 };
-function holdKernel(plan: ExactPlan, t: Float64Array, z: Float64Array, v: Float64Array, w: Float64Array, fate: Uint8Array, from: number, to: number): void {
-  const st = holdState;
+/** closedForm.holdUntil(delay) for every ion: each source stage in its static hold field until the delay ends. */
+function holdKernel(plan: FlightPlan, t: Float64Array, z: Float64Array, v: Float64Array, w: Float64Array, fate: Uint8Array, from: number, to: number, scratch: BlockScratch): void {
+  const st = scratch.hold;
   for (let i = from; i < to; i++) {
     const k = i - from;
     st.t = t[i];
@@ -67,7 +79,7 @@ function holdKernel(plan: ExactPlan, t: Float64Array, z: Float64Array, v: Float6
     st.v = v[i];
     st.w = w[i];
     st.fate = Fate.UNSET;
-    holdExactUntil(st, plan, plan.delay_s);
+    holdUntil(st, plan, plan.delay_s, scratch.motion, null);
     t[i] = st.t;
     z[k] = st.z;
     v[i] = st.v;
@@ -76,8 +88,8 @@ function holdKernel(plan: ExactPlan, t: Float64Array, z: Float64Array, v: Float6
   }
 }
 
-/** exactEngine.extractExact's crossing of source stage j, for every ion still in flight. */
-function stageKernel(plan: ExactPlan, j: number, t: Float64Array, z: Float64Array, v: Float64Array, w: Float64Array, fate: Uint8Array, from: number, to: number): void {
+/** closedForm.extract's crossing of source stage j, for every ion still in flight. */
+function stageKernel(plan: FlightPlan, j: number, t: Float64Array, z: Float64Array, v: Float64Array, w: Float64Array, fate: Uint8Array, from: number, to: number, motion: Motion): void {
   const start = plan.sourcePlane_m[j];
   const end = plan.sourcePlane_m[j + 1];
   const a = plan.sourceAcceleration[j];
@@ -88,7 +100,7 @@ function stageKernel(plan: ExactPlan, j: number, t: Float64Array, z: Float64Arra
     if (fate[i] !== Fate.UNSET) continue;
     const k = i - from;
     const zi = z[k];
-    // Already past this stage's exit plane (the skip at the start of extractExact).
+    // Already past this stage's exit plane (the skip at the start of extract).
     const vi = v[i];
     if (!last && (zi > end || (zi === end && vi >= 0))) continue;
     const ahead = end - zi;
@@ -117,7 +129,7 @@ function stageKernel(plan: ExactPlan, j: number, t: Float64Array, z: Float64Arra
   }
 }
 
-/** exactEngine.driftExact for every ion still in flight. */
+/** closedForm.fieldFree for every ion still in flight (each enters at z = 0). */
 function driftKernel(length: number, t: Float64Array, v: Float64Array, fate: Uint8Array, from: number, to: number): void {
   if (length <= 0) return;
   for (let i = from; i < to; i++) {
@@ -132,8 +144,8 @@ function driftKernel(length: number, t: Float64Array, v: Float64Array, fate: Uin
   }
 }
 
-/** exactEngine.mirrorExact for every ion still in flight. */
-function mirrorKernel(plan: ExactPlan, t: Float64Array, v: Float64Array, w: Float64Array, fate: Uint8Array, from: number, to: number): void {
+/** closedForm.stageMirror for every ion still in flight. */
+function mirrorKernel(plan: FlightPlan, t: Float64Array, v: Float64Array, w: Float64Array, fate: Uint8Array, from: number, to: number, motion: Motion): void {
   const n = plan.mirrorStageCount;
   for (let i = from; i < to; i++) {
     if (fate[i] !== Fate.UNSET) continue;
@@ -160,8 +172,8 @@ function mirrorKernel(plan: ExactPlan, t: Float64Array, v: Float64Array, w: Floa
   }
 }
 
-/** exactEngine.postAccelerateExact for every ion still in flight. */
-function postKernel(plan: ExactPlan, t: Float64Array, v: Float64Array, w: Float64Array, fate: Uint8Array, from: number, to: number): void {
+/** closedForm.postGap for every ion still in flight. */
+function postKernel(plan: FlightPlan, t: Float64Array, v: Float64Array, w: Float64Array, fate: Uint8Array, from: number, to: number, motion: Motion): void {
   const a = plan.postAcceleration;
   const gap = plan.postGap_m;
   const transmission = plan.postGridTransmission;

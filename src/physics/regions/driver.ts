@@ -1,0 +1,240 @@
+/**
+ * The one ensemble driver and the kernel choice. `createFlight` picks one kernel per section of the
+ * model (closed form where the field allows it; integration where it does not, or everywhere when
+ * the model forces the integrator; 3-D tracing through solved fields, by the run's transfer map
+ * where the model asks for one) and flies single ions from any section; `traceEnsemble` flies an
+ * ensemble, over blocks of ions region by region (blockDriver.ts) when every region is closed-form
+ * and no observer wants the paths, else ion by ion. All scratch (motion, integrator workspaces,
+ * transfer map) belongs to the call.
+ */
+import type { Ensemble, TraceResult } from '../../ions/ensemble';
+import { hasSolvedRegion, needsIntegrator, type AnalyserModel } from '../analyser';
+import { Exit, Fate, type FateCode } from '../fates';
+import { MAP_MIN_IONS, SolvedMirrorMapper } from '../solvedMirrorMap';
+import { transverse } from '../solvedMirror';
+import { AxialIntegrator } from './axialIntegrator';
+import { createBlockScratch, traceSpeciesBlocks } from './blockDriver';
+import {
+  SECTION_COUNT,
+  Section,
+  createIonState,
+  startIonState,
+  transverseXAt,
+  transverseYAt,
+  type Flight,
+  type FlightOptions,
+  type IonState,
+  type RegionKernel,
+  type SectionCode,
+  type SegmentObserver,
+  type TraceOptions,
+} from './contract';
+import { sharedFirstStep } from './firstStepMemory';
+import { chargeToMassIn, createFlightPlan, prepareFlightPlan, type FlightPlan } from './plan';
+import { ProfileMirrorKernel } from './profileMirror';
+import { NumericFieldFreeKernel, NumericPostGapKernel, NumericStageMirrorKernel } from './numericRegion';
+import { SolvedMirrorKernel, SolvedSourceKernel, type MirrorMap } from './solvedKernels';
+import { SolvedFieldTracer } from './solvedTracer';
+import { FieldFreeKernel, PostGapKernel, PulsedSourceKernel, StageMirrorKernel, StaticSourceKernel } from './uniformStages';
+
+/** Options of createFlight beyond the contract's: whether a transfer map may be used (default: as the model asks). */
+export interface FlightChoice extends FlightOptions {
+  readonly transferMap?: boolean;
+}
+
+/**
+ * The run's transfer map of a solved mirror behind the kernel's interface. The map module keeps
+ * its ion's transverse state in its own record (src/physics/solvedMirror.ts), so the state is
+ * handed over to it and back around each pass.
+ */
+class TransferMap implements MirrorMap {
+  constructor(readonly mapper: SolvedMirrorMapper) {}
+  passIon(st: IonState, plan: FlightPlan, tLimit_s: number): boolean {
+    transverse.tRef = st.tRef;
+    transverse.xRef = st.xRef;
+    transverse.yRef = st.yRef;
+    transverse.vxRef = st.vxRef;
+    transverse.vyRef = st.vyRef;
+    const through = this.mapper.pass(st, plan, tLimit_s);
+    st.tRef = transverse.tRef;
+    st.xRef = transverse.xRef;
+    st.yRef = transverse.yRef;
+    st.vxRef = transverse.vxRef;
+    st.vyRef = transverse.vyRef;
+    return through;
+  }
+}
+
+/** The run's transfer map of a solved mirror, or null to trace every ion directly. */
+function transferMapFor(model: AnalyserModel, ions: number | undefined, allowed: boolean): TransferMap | null {
+  const solved = model.mirror?.solved;
+  if (!allowed || !solved || model.forceIntegrator || model.mapSolvedMirror !== true || ions === undefined || ions < MAP_MIN_IONS) return null;
+  return new TransferMap(new SolvedMirrorMapper(solved, ions));
+}
+
+/** One kernel per section present in the model. */
+function chooseKernels(model: AnalyserModel, integrator: AxialIntegrator, tracer: SolvedFieldTracer, map: MirrorMap | null): (RegionKernel | null)[] {
+  const kernels: (RegionKernel | null)[] = new Array<RegionKernel | null>(SECTION_COUNT).fill(null);
+  const forced = model.forceIntegrator;
+  const tLimit = model.maxFlightTime_s;
+  const src = model.source;
+  if (src.solved) kernels[Section.SOURCE] = new SolvedSourceKernel(src.solved, tLimit, tracer);
+  else if (forced || src.rise.kind !== 'step') kernels[Section.SOURCE] = new PulsedSourceKernel(model, integrator);
+  else kernels[Section.SOURCE] = new StaticSourceKernel();
+  kernels[Section.DRIFT] = forced ? new NumericFieldFreeKernel(Section.DRIFT, integrator, tLimit) : new FieldFreeKernel(Section.DRIFT);
+  const mirror = model.mirror;
+  if (mirror) {
+    if (mirror.solved) kernels[Section.MIRROR] = new SolvedMirrorKernel(mirror.solved, tLimit, tracer, map);
+    else if (mirror.profile) kernels[Section.MIRROR] = new ProfileMirrorKernel(mirror.profile, mirror.entranceGridTransmission, integrator, tLimit);
+    else kernels[Section.MIRROR] = forced ? new NumericStageMirrorKernel(integrator, tLimit) : new StageMirrorKernel();
+    kernels[Section.RETURN] = forced ? new NumericFieldFreeKernel(Section.RETURN, integrator, tLimit) : new FieldFreeKernel(Section.RETURN);
+  }
+  if (model.postAcceleration) kernels[Section.POST] = forced ? new NumericPostGapKernel(integrator, tLimit) : new PostGapKernel();
+  return kernels;
+}
+
+class ModelFlight implements Flight {
+  readonly plan = createFlightPlan();
+  readonly kernels: readonly (RegionKernel | null)[];
+  readonly map: TransferMap | null;
+  private qOverM = NaN;
+
+  constructor(
+    readonly model: AnalyserModel,
+    options: FlightChoice,
+  ) {
+    const counters = options.counters ?? null;
+    // The first-step memory is still the process-wide one, as before the region model (see firstStepMemory.ts).
+    const integrator = new AxialIntegrator(counters, sharedFirstStep);
+    const tracer = new SolvedFieldTracer(counters);
+    this.map = transferMapFor(model, options.ions, options.transferMap !== false);
+    this.kernels = chooseKernels(model, integrator, tracer, this.map);
+  }
+
+  setChargeToMass(qOverM_C_per_kg: number): void {
+    if (qOverM_C_per_kg === this.qOverM) return;
+    prepareFlightPlan(this.plan, this.model, qOverM_C_per_kg);
+    this.qOverM = qOverM_C_per_kg;
+  }
+
+  setMz(mz: number): void {
+    this.setChargeToMass(chargeToMassIn(this.model, mz));
+  }
+
+  fly(st: IonState, start: SectionCode = Section.SOURCE, observer: SegmentObserver | null = null): FateCode {
+    return flySections(this.kernels, st, this.plan, start, this.model.maxFlightTime_s, observer);
+  }
+}
+
+/**
+ * The walk of one ion through the sections from `start`: each present section's kernel in flight
+ * order (z = 0 at each section entered), then the fate: detected when it got through them all;
+ * a time beyond the limit is "timed out" at the limit.
+ */
+export function flySections(
+  kernels: readonly (RegionKernel | null)[],
+  st: IonState,
+  plan: FlightPlan,
+  start: SectionCode,
+  tLimit_s: number,
+  observer: SegmentObserver | null,
+): FateCode {
+  let alive = true;
+  for (let s = start; s < SECTION_COUNT; s++) {
+    const kernel = kernels[s];
+    if (kernel === null) continue;
+    if (s !== start) st.z = 0;
+    if (observer !== null && observer.enter) observer.enter(s as SectionCode, st);
+    if (kernel.cross(st, plan, observer) !== Exit.FAR) {
+      alive = false;
+      break;
+    }
+  }
+  if (alive) st.fate = Fate.DETECTED;
+  if (st.fate === Fate.TIMED_OUT || !(st.t <= tLimit_s)) {
+    st.fate = Fate.TIMED_OUT;
+    st.t = tLimit_s;
+  }
+  if (!Number.isFinite(st.v)) st.v = 0;
+  return st.fate as FateCode;
+}
+
+/**
+ * The closed-form kernels a plan alone describes (ideal grids, static fields; solved regions traced
+ * on `tracer`), for callers that hold a plan but no model. Reused: one set per caller.
+ */
+export class PlanKernels {
+  private readonly staticSource = new StaticSourceKernel();
+  private readonly drift = new FieldFreeKernel(Section.DRIFT);
+  private readonly stageMirror = new StageMirrorKernel();
+  private readonly returnLeg = new FieldFreeKernel(Section.RETURN);
+  private readonly post = new PostGapKernel();
+  private readonly kernels: (RegionKernel | null)[] = new Array<RegionKernel | null>(SECTION_COUNT).fill(null);
+  constructor(private readonly tracer: SolvedFieldTracer) {}
+
+  for(plan: FlightPlan): readonly (RegionKernel | null)[] {
+    const k = this.kernels;
+    k[Section.SOURCE] = plan.solvedSource === null ? this.staticSource : new SolvedSourceKernel(plan.solvedSource, plan.maxFlightTime_s, this.tracer);
+    k[Section.DRIFT] = this.drift;
+    const mirror = plan.mirrorStageCount > 0 || plan.solvedMirror !== null;
+    k[Section.MIRROR] = !mirror ? null : plan.solvedMirror === null ? this.stageMirror : new SolvedMirrorKernel(plan.solvedMirror, plan.maxFlightTime_s, this.tracer, null);
+    k[Section.RETURN] = mirror ? this.returnLeg : null;
+    k[Section.POST] = this.post;
+    return k;
+  }
+}
+
+export function createFlight(model: AnalyserModel, options: FlightChoice = {}): Flight {
+  return new ModelFlight(model, options);
+}
+
+/** True when the driver takes the block path: every region closed-form, no solved field, no observer. */
+function blockPath(model: AnalyserModel, options: TraceOptions): boolean {
+  return (options.engine ?? 'auto') === 'auto' && !needsIntegrator(model) && !hasSolvedRegion(model) && (options.observer ?? null) === null;
+}
+
+/**
+ * The one ensemble driver (signature in contract.ts): ions [from, to) of `ensemble` through `model`
+ * into `out`.
+ */
+export function traceEnsemble(model: AnalyserModel, ensemble: Ensemble, out: TraceResult, options: TraceOptions & FlightChoice = {}): void {
+  const from = options.from ?? 0;
+  const to = options.to ?? ensemble.count;
+  if (blockPath(model, options)) {
+    const plan = createFlightPlan();
+    const scratch = createBlockScratch();
+    for (let s = 0; s < ensemble.species.length; s++) {
+      const a = Math.max(from, ensemble.speciesStart[s]);
+      const b = Math.min(to, ensemble.speciesStart[s + 1]);
+      if (a >= b) continue;
+      prepareFlightPlan(plan, model, chargeToMassIn(model, ensemble.species[s].mz));
+      traceSpeciesBlocks(plan, ensemble, out, a, b, scratch);
+    }
+    return;
+  }
+  const flight = createFlight(model, { ...options, ions: options.ions ?? to - from });
+  const observer = options.observer ?? null;
+  const st = createIonState();
+  // Solved regions bend transverse paths: the detector-plane position comes from where the ion left them.
+  const solved = hasSolvedRegion(model);
+  for (let s = 0; s < ensemble.species.length; s++) {
+    const a = Math.max(from, ensemble.speciesStart[s]);
+    const b = Math.min(to, ensemble.speciesStart[s + 1]);
+    if (a >= b) continue;
+    flight.setMz(ensemble.species[s].mz);
+    for (let i = a; i < b; i++) {
+      startIonState(st, ensemble.z0_m[i], ensemble.vz0_m_per_s[i], ensemble.x0_m[i], ensemble.y0_m[i], ensemble.vx0_m_per_s[i], ensemble.vy0_m_per_s[i]);
+      if (observer !== null && observer.begin) observer.begin(i);
+      flight.fly(st, Section.SOURCE, observer);
+      if (observer !== null && observer.end) observer.end(i, st);
+      if (solved) {
+        out.detectorX_m[i] = transverseXAt(st, st.t);
+        out.detectorY_m[i] = transverseYAt(st, st.t);
+      }
+      out.flightTime_s[i] = st.t;
+      out.fate[i] = st.fate;
+      out.finalSpeed_m_per_s[i] = st.fate === Fate.DETECTED ? Math.abs(st.v) : 0;
+      out.weight[i] = st.w;
+    }
+  }
+}
