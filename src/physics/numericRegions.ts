@@ -7,7 +7,6 @@ import type { PolynomialProfile, SourceModel } from './analyser';
 import { Exit as RegionExitCode, Fate } from './fates';
 import { AxialIntegrator, type NumericState } from './regions/axialIntegrator';
 import { legacyTally } from './regions/legacyTally';
-import { sharedFirstStep } from './regions/firstStepMemory';
 
 export type { NumericState };
 
@@ -42,7 +41,7 @@ export const counters: IntegrationCounters = {
   },
 };
 
-const shared = new AxialIntegrator(legacyTally, sharedFirstStep);
+const shared = new AxialIntegrator(legacyTally);
 
 /** Cross [lo, hi] with constant acceleration a. */
 export function crossUniformNumeric(st: NumericState, a: number, lo: number, hi: number, tEnd: number): number {

@@ -29,6 +29,7 @@ export function traceOneMixed(st: IonState, plan: FlightPlan, model: AnalyserMod
     single.model = model;
   }
   const flight = single.flight;
+  flight.forgetFirstSteps(); // each ion on its own: no memory of the one before
   flight.setChargeToMass(plan.qOverM);
   full.t = st.t;
   full.z = st.z;

@@ -148,8 +148,8 @@ function pulseOptions(): SolveOptions {
   return createSolveOptions({ rtol: 1e-7, atol: Float64Array.of(1e-16, 1e-11), maxSteps: 200_000 });
 }
 
-/** Number of force laws: the length of a first-step memory. */
-export const FORCE_LAWS = 3;
+/** Number of force laws: the length of the first-step memory. */
+const FORCE_LAWS = 3;
 
 export class AxialIntegrator {
   private readonly force = new RegionForce();
@@ -162,14 +162,19 @@ export class AxialIntegrator {
   private readonly rootReport = createRootReport();
 
   /**
-   * @param counters where the effort is summed (none when null)
-   * @param lastFirstStep first step of the previous solve of each force law: successive ions are
-   *   alike, so it is a good start for the next one (length FORCE_LAWS, zeros at first)
+   * First step of the previous solve of each force law: successive ions are alike, so it is a good
+   * start for the next one. It belongs to this integrator (one per driver call), so a run's
+   * numbers do not depend on what the process traced before.
    */
-  constructor(
-    public counters: TraceCounters | null = null,
-    private readonly lastFirstStep: Float64Array = new Float64Array(FORCE_LAWS),
-  ) {}
+  private readonly lastFirstStep = new Float64Array(FORCE_LAWS);
+
+  /** @param counters where the effort is summed (none when null) */
+  constructor(public counters: TraceCounters | null = null) {}
+
+  /** Start without a first-step memory, as a fresh integrator does (for single ions traced one by one). */
+  forgetFirstSteps(): void {
+    this.lastFirstStep.fill(0);
+  }
 
   private run(st: NumericState, tEnd: number): RegionExit {
     const ctx = this.force;

@@ -29,7 +29,6 @@ import {
   type SegmentObserver,
   type TraceOptions,
 } from './contract';
-import { sharedFirstStep } from './firstStepMemory';
 import { chargeToMassIn, createFlightPlan, prepareFlightPlan, type FlightPlan } from './plan';
 import { ProfileMirrorKernel } from './profileMirror';
 import { NumericFieldFreeKernel, NumericPostGapKernel, NumericStageMirrorKernel } from './numericRegion';
@@ -93,10 +92,11 @@ function chooseKernels(model: AnalyserModel, integrator: AxialIntegrator, tracer
   return kernels;
 }
 
-class ModelFlight implements Flight {
+export class ModelFlight implements Flight {
   readonly plan = createFlightPlan();
   readonly kernels: readonly (RegionKernel | null)[];
   readonly map: TransferMap | null;
+  private readonly integrator: AxialIntegrator;
   private qOverM = NaN;
 
   constructor(
@@ -104,11 +104,16 @@ class ModelFlight implements Flight {
     options: FlightChoice,
   ) {
     const counters = options.counters ?? null;
-    // The first-step memory is still the process-wide one, as before the region model (see firstStepMemory.ts).
-    const integrator = new AxialIntegrator(counters, sharedFirstStep);
+    const integrator = new AxialIntegrator(counters);
     const tracer = new SolvedFieldTracer(counters);
+    this.integrator = integrator;
     this.map = transferMapFor(model, options.ions, options.transferMap !== false);
     this.kernels = chooseKernels(model, integrator, tracer, this.map);
+  }
+
+  /** Forget the integrator's first steps, so the next ion's numbers depend on it alone. */
+  forgetFirstSteps(): void {
+    this.integrator.forgetFirstSteps();
   }
 
   setChargeToMass(qOverM_C_per_kg: number): void {
@@ -184,7 +189,7 @@ export class PlanKernels {
   }
 }
 
-export function createFlight(model: AnalyserModel, options: FlightChoice = {}): Flight {
+export function createFlight(model: AnalyserModel, options: FlightChoice = {}): ModelFlight {
   return new ModelFlight(model, options);
 }
 
