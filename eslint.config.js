@@ -14,6 +14,59 @@ export default tseslint.config(
     },
   },
   {
+    // Import boundaries: the core (every folder of src/ but src/ui) and the workers never reach into
+    // the page's code or its UI-only libraries, so the worker and the CLI can run them.
+    files: ['src/**/*.ts', 'workers/**/*.ts'],
+    ignores: ['src/ui/**'],
+    rules: {
+      '@typescript-eslint/no-restricted-imports': [
+        'error',
+        {
+          patterns: [
+            { group: ['**/ui', '**/ui/**'], message: 'The core and the workers must not import src/ui (the page).' },
+            { group: ['three', 'three/*', 'lil-gui', 'uplot', 'uplot/*', 'idb'], message: 'UI-only library: keep it in src/ui.' },
+          ],
+        },
+      ],
+    },
+  },
+  {
+    // The page draws and reports what the worker computed: it runs no engine (types and the fate and
+    // section vocabularies are fine).
+    files: ['src/ui/**/*.ts'],
+    // Still tracing on the page on this branch; moved into the worker by the app split (issue 11, items 3-4).
+    ignores: ['src/ui/scene/paths.ts', 'src/ui/scene/layout.ts', 'src/ui/results/focusSummary.ts'],
+    rules: {
+      '@typescript-eslint/no-restricted-imports': [
+        'error',
+        {
+          patterns: [
+            {
+              group: [
+                '**/physics/exactEngine',
+                '**/physics/tracer',
+                '**/physics/numericRegions',
+                '**/physics/pulsedStage',
+                '**/physics/solvedMirrorMap',
+                '**/physics/integrator',
+                '**/physics/integrator/*',
+                '**/physics/spaceCharge/*',
+                '**/physics/regions/*',
+                '!**/physics/regions/contract',
+                '**/simulation/run',
+                '**/simulation/singleIon',
+              ],
+              allowTypeImports: true,
+              message: 'The page runs no engine: ask the worker (src/tuning/workerClient.ts) for the run.',
+            },
+            { group: ['**/physics/trajectory'], importNames: ['traceTrajectory'], message: 'Paths are traced in the worker: ask for them with the run.' },
+            { group: ['**/simulation/pulseReach'], importNames: ['pulseReach'], message: 'The hold-phase count is computed in the worker.' },
+          ],
+        },
+      ],
+    },
+  },
+  {
     // Tests build malformed documents on purpose.
     files: ['tests/**/*.ts'],
     rules: { '@typescript-eslint/no-explicit-any': 'off' },
