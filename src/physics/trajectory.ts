@@ -120,7 +120,7 @@ export class TrajectoryRecorder implements SegmentObserver {
     } else if (section === Section.MIRROR) this.mirrored = true;
   }
 
-  segment(section: SectionCode, stage: number, t0: number, dt: number, z0: number, v0: number, a: number): void {
+  segment(section: SectionCode, stage: number, t0: number, dt: number, z0: number, v0: number, a: number, _kind?: number): void {
     const tr = this.tr;
     const plan = this.plan!;
     switch (section) {
