@@ -33,9 +33,8 @@ export default tseslint.config(
   {
     // The page draws and reports what the worker computed: it runs no engine (types and the fate and
     // section vocabularies are fine).
+    // (tests/ui/noEngineOnPage.test.ts checks the page's imports more strictly still.)
     files: ['src/ui/**/*.ts'],
-    // Still tracing on the page on this branch; moved into the worker by the app split (issue 11, items 3-4).
-    ignores: ['src/ui/scene/paths.ts', 'src/ui/scene/layout.ts', 'src/ui/results/focusSummary.ts'],
     rules: {
       '@typescript-eslint/no-restricted-imports': [
         'error',
@@ -55,6 +54,10 @@ export default tseslint.config(
                 '!**/physics/regions/contract',
                 '**/simulation/run',
                 '**/simulation/singleIon',
+                '**/simulation/scene/drawnPaths',
+                '**/simulation/scene/layout',
+                '**/simulation/scene/runScene',
+                '**/analysis/focusScan',
               ],
               allowTypeImports: true,
               message: 'The page runs no engine: ask the worker (src/tuning/workerClient.ts) for the run.',

@@ -1,7 +1,7 @@
 /**
  * The engine in a Web Worker, exposed with comlink: run / scan / optimise (EngineApi) and the pool
  * tasks that EngineWorkerClient (src/tuning/workerClient.ts) spreads over several of these workers.
- * Run results carry typed arrays; their buffers are transferred, not copied.
+ * Run results (with the 3D view's scene when asked for) carry typed arrays; their buffers are transferred, not copied.
  * Imports nothing that touches the DOM.
  */
 import * as Comlink from 'comlink';

@@ -23,7 +23,9 @@ export const TUNING_USAGE = `Scans, auto-tune and merging shards:
   --objective       ${OBJECTIVE_NAMES.join(' | ')}
   --target-mz M     species the objective looks at (max-r-at-mz, min-fwhm)
   --range A:B       m/z range whose least R is maximised (max-min-r-over-range)
-  --min-transmission F  tune constraint, 0..1 (default: 99 % of the transmission at the current settings)
+  --keep-transmission F  tune constraint: every species keeps at least this share (0..1) of its
+                    transmission at the preset's settings (the default, also in the app: 0.99)
+  --min-transmission F  tune constraint instead: every species keeps a transmission of at least F (0..1)
   --allow-worse     give the search's best even when the preset's own settings score better (default: keep the preset's)
   --write <file>    save the tuned preset (tune) or the scan / merged scan as JSON; never replaces
                     an existing file, the input included, unless --force is given
@@ -52,6 +54,7 @@ export interface TuningArgs {
   readonly targetMz?: number;
   readonly range?: readonly [number, number];
   readonly minTransmission?: number;
+  readonly keepTransmission?: number;
   readonly write?: string;
   readonly force: boolean;
   readonly allowWorse?: boolean;
@@ -126,6 +129,7 @@ export function parseTuningArgs(argv: readonly string[]): TuningArgsResult {
   let targetMz: number | undefined;
   let range: [number, number] | undefined;
   let minTransmission: number | undefined;
+  let keepTransmission: number | undefined;
   let write: string | undefined;
   let force = false;
   let allowWorse = false;
@@ -139,7 +143,7 @@ export function parseTuningArgs(argv: readonly string[]): TuningArgsResult {
 
   for (let i = 0; i < rest.length; i++) {
     const arg = rest[i];
-    const takesValue = ['--scan', '--tune', '--objective', '--target-mz', '--range', '--min-transmission', '--write', '--shard', '--ions', '--seed'].includes(arg);
+    const takesValue = ['--scan', '--tune', '--objective', '--target-mz', '--range', '--min-transmission', '--keep-transmission', '--write', '--shard', '--ions', '--seed'].includes(arg);
     const value = takesValue ? rest[++i] : undefined;
     if (takesValue && given.has(arg) && !REPEATABLE.has(arg)) {
       bad(arg, 'is given twice: give it once');
@@ -209,6 +213,12 @@ export function parseTuningArgs(argv: readonly string[]): TuningArgsResult {
         else minTransmission = f;
         break;
       }
+      case '--keep-transmission': {
+        const f = num(value!);
+        if (!(f >= 0 && f <= 1)) bad('--keep-transmission', `must be a fraction from 0 to 1 of each species' current transmission (got "${value}")`);
+        else keepTransmission = f;
+        break;
+      }
       case '--write': {
         const problem = checkOutputFileName(value!);
         if (problem) bad('--write', problem);
@@ -240,7 +250,7 @@ export function parseTuningArgs(argv: readonly string[]): TuningArgsResult {
   const mode: TuningArgs['mode'] = merge ? 'merge' : tuneGiven ? 'tune' : 'scan';
   if (merge) {
     if (files.length === 0) bad('merge', 'give the scan files to merge');
-    for (const flag of ['--scan', '--tune', '--objective', '--target-mz', '--range', '--shard', '--ions', '--seed', '--min-transmission', '--allow-worse']) {
+    for (const flag of ['--scan', '--tune', '--objective', '--target-mz', '--range', '--shard', '--ions', '--seed', '--min-transmission', '--keep-transmission', '--allow-worse']) {
       if (rest.includes(flag)) bad(flag, 'does not apply to merge');
     }
   } else {
@@ -250,6 +260,8 @@ export function parseTuningArgs(argv: readonly string[]): TuningArgsResult {
     if (mode === 'scan' && axes.length > 2) bad('--scan', 'at most two --scan axes (a 1-D or 2-D scan)');
     if (mode === 'tune' && shard) bad('--shard', 'applies to scans only');
     if (mode === 'scan' && minTransmission !== undefined) bad('--min-transmission', 'applies to --tune only');
+    if (mode === 'scan' && keepTransmission !== undefined) bad('--keep-transmission', 'applies to --tune only');
+    if (given.has('--min-transmission') && given.has('--keep-transmission')) bad('--keep-transmission', 'give either --min-transmission (an absolute floor) or --keep-transmission (a share of the current transmission), not both');
     if (mode === 'scan' && allowWorse) bad('--allow-worse', 'applies to --tune only');
     // Infer the objective from a lone target or range; a tune needs one. A flag that was given with a
     // bad value already has its message, so nothing is inferred from or required of it here.
@@ -269,6 +281,6 @@ export function parseTuningArgs(argv: readonly string[]): TuningArgsResult {
   if (issues.length) return { ok: false, issues };
   return {
     ok: true,
-    args: { mode, presetPath: merge ? undefined : files[0], files, format, axes, axisTexts, tune, objective, targetMz, range, minTransmission, write, force, allowWorse, shard, ions, seed, idealR },
+    args: { mode, presetPath: merge ? undefined : files[0], files, format, axes, axisTexts, tune, objective, targetMz, range, minTransmission, keepTransmission, write, force, allowWorse, shard, ions, seed, idealR },
   };
 }

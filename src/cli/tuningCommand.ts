@@ -174,11 +174,12 @@ function tuneParameters(args: TuningArgs, preset: Preset): TuneParameter[] {
 async function runTune(args: TuningArgs, loaded: LoadedPreset, io: TuningIo, options: TuningCliOptions): Promise<number> {
   const parameters = tuneParameters(args, loaded.preset);
   const objective = objectiveOf(args)!;
-  const request: TuneRequest = { preset: loaded.preset, parameters, objective, ions: args.ions, seed: args.seed, minTransmission: args.minTransmission, allowWorse: args.allowWorse, ...(args.idealR ? { criterion: 'ideal' as const } : {}) };
+  const request: TuneRequest = { preset: loaded.preset, parameters, objective, ions: args.ions, seed: args.seed, minTransmission: args.minTransmission, keepTransmission: args.keepTransmission, allowWorse: args.allowWorse, ...(args.idealR ? { criterion: 'ideal' as const } : {}) };
   const labels: TuneLabels = {
     parameter: (i) => `--tune ${parameters[i]?.path ?? ''}`.trim(),
     objective: CLI_OBJECTIVE_LABELS,
     minTransmission: '--min-transmission',
+    keepTransmission: '--keep-transmission',
     ions: '--ions',
     seed: '--seed',
     measure: 'measure',
@@ -208,7 +209,7 @@ async function runTune(args: TuningArgs, loaded: LoadedPreset, io: TuningIo, opt
       criterion: result.criterion ?? 'ideal',
       parameters: parameters.map((p, i) => ({ ...p, before: result.start[i], applied: result.best[i] })),
       result: result.objective,
-      note: `auto-tune (CLI), ${result.evaluations} evaluations; start: ${(result.startSource ?? []).join('; ') || 'current settings'}`,
+      note: `auto-tune (CLI), ${result.evaluations} evaluations; start: ${(result.startSource ?? []).join('; ') || 'current settings'}${result.transmissionConstraint ? `; transmission: ${result.transmissionConstraint}` : ''}`,
     }).method!;
     writeOut(args, io, tunedPresetText(loaded, parameters, result.best, { ...result.tunedPreset, method: entry }, entry));
   }

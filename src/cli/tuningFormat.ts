@@ -1,4 +1,5 @@
 /** Plain-text and CSV renderings of scans and tunes (CLI output). */
+import { transmissionFindings } from '../tuning/transmissionConstraint';
 import { HV_CAUTION } from '../simulation/format';
 import type { Objective, ScanSpeciesPoint, TuneResult } from '../tuning/api';
 import type { ScanDocument } from '../tuning/scanDocument';
@@ -90,6 +91,7 @@ export function formatTuneTable(presetName: string, ions: number, seed: number, 
     pct(result.presetSpecies?.[k]),
     pct(result.startSpecies?.[k]),
     pct(s),
+    result.transmissionFloors?.[k] ? `${(result.transmissionFloors[k] * 100).toFixed(1)} %` : '—',
     fmt(s.flightTime_ns, 2),
     fmt(s.fwhm_ns, 3),
     fmtR(s.resolvingPower),
@@ -112,15 +114,13 @@ export function formatTuneTable(presetName: string, ions: number, seed: number, 
     '',
     ...table(['parameter', 'preset', 'start', keptPreset ? 'recommended (preset)' : 'tuned', 'objective within 10 % of best over'], rows, 1),
     '',
-    ...(result.feasible === false
-      ? [`WARNING: no setting tried kept the transmission ≥ ${((result.minTransmission ?? 0) * 100).toFixed(1)} %; the values below only come closest to it.`]
-      : []),
+    ...transmissionFindings({ violated: result.transmissionViolated ?? [], binding: result.transmissionBinding ?? null }),
     `objective: ${fmtObjective(objective, result.presetObjective ?? null)} with the preset's settings, ${fmtObjective(objective, result.startObjective ?? null)} at the start, ` +
       `${fmtObjective(objective, result.objective)} ${keptPreset ? 'recommended (the preset\'s)' : 'tuned'}`,
     ...verdict,
-    `${result.evaluations} evaluations; transmission kept ≥ ${((result.minTransmission ?? 0) * 100).toFixed(1)} %`,
+    `${result.evaluations} evaluations; transmission constraint: ${result.transmissionConstraint ?? 'none'}`,
     '',
-    ...table(['species', 'm/z', 'transm. preset', 'start', keptPreset ? 'recommended' : 'tuned', 'flight time/ns', 'FWHM/ns', 'R (FWHM)', 'R (76% width)'], speciesRows, 1),
+    ...table(['species', 'm/z', 'transm. preset', 'start', keptPreset ? 'recommended' : 'tuned', 'floor', 'flight time/ns', 'FWHM/ns', 'R (FWHM)', 'R (76% width)'], speciesRows, 1),
     `(flight time, FWHM and R per species at the ${keptPreset ? 'recommended' : 'tuned'} setting, from the ion arrival times)`,
     '',
     HV_CAUTION,

@@ -16,7 +16,7 @@
  * pieces on which z(s) is monotone and convex or concave; a piece whose end lies beyond a plane
  * brackets exactly one crossing, located by Newton's method safeguarded by bisection inside the
  * bracket. Bracketing before iterating is what guarantees that no crossing (a brief excursion
- * through a grid and back) is missed. The integrator (src/physics/numericRegions.ts) stays as the
+ * through a grid and back) is missed. The integrator (src/physics/regions/axialIntegrator.ts) stays as the
  * cross-check under run.engine = "integrator".
  */
 import type { SourceModel, WaveformTable } from './analyser';

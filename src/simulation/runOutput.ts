@@ -1,24 +1,31 @@
-/** Turns a simulation result into the engine service's `RunOutput` (shared by the worker and in-process callers). */
-import type { RunOutput, RunRequest } from '../tuning/api';
+/** Turns a simulation result into the run contract's `RunOutput` (shared by the worker and in-process callers). */
+import { focusScan } from '../analysis/focusScan';
+import type { RunOutput, RunRequest } from './runContract';
 import { pulseReach } from './pulseReach';
 import { simulate } from './run';
 import { speciesIonStart } from './report';
+import { runScene } from './scene/runScene';
+import { sceneTransferables } from './scene/sceneData';
 
 export function runRequest(request: RunRequest, now: () => number = () => performance.now()): RunOutput {
   const start = now();
   const result = simulate(request.preset, { ions: request.ions, seed: request.seed, analysis: request.analysis });
+  const elapsed_ms = now() - start;
   return {
     report: result.report,
     flightTime_s: result.trace.flightTime_s,
     fate: result.trace.fate,
     // Per reported species (a species' isotope peaks together), matching report.species.
     speciesStart: speciesIonStart(result.ensemble),
-    elapsed_ms: now() - start,
+    // The engine's time for the run itself (the status line's figure); the extras below are not in it.
+    elapsed_ms,
     ...(request.pulseReach ? { pulseReach: pulseReach(request.preset, { ions: request.ions, seed: request.seed }) } : {}),
+    ...(request.focusScan ? { focusScan: focusScan(result.compiled.model, request.preset) } : {}),
+    ...(request.scene ? { scene: runScene(request.preset, result.compiled, request.scene) } : {}),
   };
 }
 
 /** Buffers of a RunOutput, for zero-copy transfer out of a worker. */
 export function runOutputTransferables(out: RunOutput): ArrayBuffer[] {
-  return [out.flightTime_s.buffer, out.fate.buffer, out.speciesStart.buffer] as ArrayBuffer[];
+  return [out.flightTime_s.buffer, out.fate.buffer, out.speciesStart.buffer, ...(out.scene ? sceneTransferables(out.scene) : [])] as ArrayBuffer[];
 }

@@ -1,37 +1,18 @@
 /**
  * The engine's service contract, as the comlink worker (workers/engine.worker.ts) exposes it and as
- * the CLI calls it in-process. Presets cross this boundary as validated `Preset` objects (plain
+ * the CLI calls it in-process: runs (contract in src/simulation/runContract.ts), scans and tunes. Presets cross this boundary as validated `Preset` objects (plain
  * JSON data); results carry typed arrays that the worker transfers rather than copies.
  */
 import type { Preset } from '../presets/schema';
-import type { RunReport } from '../simulation/report';
+import type { RunOutput, RunRequest } from '../simulation/runContract';
 import type { ResolvingPowerCriterion } from '../simulation/headline';
+import type { SpeciesMargin } from './transmissionConstraint';
 
 export type { ResolvingPowerCriterion } from '../simulation/headline';
 
-export interface RunRequest {
-  readonly preset: Preset;
-  /** Override of the preset's ion count (e.g. a light rerun while a slider is dragged). */
-  readonly ions?: number;
-  readonly seed?: number;
-  /** Build the spectrum, peak, calibration and focus sections (default true); off for quick previews. */
-  readonly analysis?: boolean;
-  /** Also count the ions that cross the extraction grid during the delay (src/simulation/pulseReach.ts). */
-  readonly pulseReach?: boolean;
-}
-
-export interface RunOutput {
-  readonly report: RunReport;
-  /** Per-ion flight times (s) and fate codes, same order as the ensemble (species blocks). */
-  readonly flightTime_s: Float64Array;
-  readonly fate: Uint8Array;
-  /** Ion index boundaries per reported species (all of its isotope peaks), length species + 1. */
-  readonly speciesStart: Int32Array;
-  /** Wall-clock time the run took inside the engine (ms), for the app's status line. */
-  readonly elapsed_ms: number;
-  /** When asked for (RunRequest.pulseReach): ions in the source at the pulse, and those past its first stage. */
-  readonly pulseReach?: { readonly inSource: number; readonly pastFirstStage: number };
-}
+// The run contract lives with the simulation; re-exported here so that code written against the
+// old place (branches in flight) still compiles. New code imports src/simulation/runContract.ts.
+export type { RunOutput, RunRequest } from '../simulation/runContract';
 
 /** One scanned parameter, addressed by its dotted path in the preset (e.g. `source.extraction.delay_ns`). */
 export interface ScanAxis {
@@ -126,10 +107,13 @@ export interface TuneRequest {
   readonly parameters: readonly TuneParameter[];
   readonly objective: Objective;
   /**
-   * Optional constraint: minimum transmission (0..1) of the objective's species. When omitted, 99 % of
-   * their transmission at the preset's current settings (so a tune cannot narrow a peak by losing ions).
+   * Transmission constraint, per species (./transmissionConstraint): `minTransmission` is an absolute
+   * floor (0..1) every species must keep; `keepTransmission` the share (0..1) of its transmission at the
+   * preset's settings every species must keep. At most one; when both are omitted, every species keeps
+   * 99 % of its current transmission (so a tune cannot narrow a peak by losing ions of any species).
    */
   readonly minTransmission?: number;
+  readonly keepTransmission?: number;
   readonly ions?: number;
   readonly seed?: number;
   /** Width the optimiser minimises (default 'sd'). */
@@ -163,8 +147,13 @@ export interface TuneResult {
   readonly measure?: WidthMeasure;
   /** False when no evaluated setting met the constraints (the values shown then only reduce the violation). */
   readonly feasible?: boolean;
-  /** Transmission constraint the tune respected (given, or the default). */
-  readonly minTransmission?: number;
+  /** The transmission constraint the tune respected (given, or the default), in words and as a floor per species. */
+  readonly transmissionConstraint?: string;
+  readonly transmissionFloors?: readonly number[];
+  /** Species below their floor at the recommended setting (only when no setting met the constraint). */
+  readonly transmissionViolated?: readonly SpeciesMargin[];
+  /** The species closest to its floor when within 1 percentage point of it: the constraint then limits the tune. */
+  readonly transmissionBinding?: SpeciesMargin | null;
   /** Per-species figures at the recommended setting. */
   readonly species?: readonly ScanSpeciesPoint[];
   /** The preset's own values of the tuned parameters, the objective's figure and the per-species figures there. */

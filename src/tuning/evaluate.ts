@@ -18,7 +18,8 @@ export interface PointSettings {
   readonly seed?: number;
   readonly objective: ResolvedObjective | null;
   readonly measure: WidthMeasure;
-  readonly minTransmission?: number;
+  /** Per-species transmission floors (see ./transmissionConstraint); none: unconstrained. */
+  readonly transmissionFloors?: readonly number[];
   /** Which R the objective reads (resolved: never undefined here). */
   readonly criterion: ResolvingPowerCriterion;
 }
@@ -36,7 +37,7 @@ export function evaluateAt(settings: PointSettings, values: readonly number[]): 
   // peaks; the calibration and focus sections are skipped.
   const analysis = modified.value.acquisition ? 'peaks' : false;
   const { report } = simulate(modified.value, { ions: settings.ions, seed: settings.seed, analysis });
-  const cost = settings.objective ? objectiveCost(settings.objective, report, settings.measure, settings.minTransmission, settings.criterion) : 0;
+  const cost = settings.objective ? objectiveCost(settings.objective, report, settings.measure, settings.transmissionFloors, settings.criterion) : 0;
   return { report, cost };
 }
 

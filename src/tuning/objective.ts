@@ -8,6 +8,7 @@ import type { RunReport, SpeciesReport } from '../simulation/report';
 import type { Objective, ObjectiveName, ResolvingPowerCriterion, WidthMeasure } from './api';
 import { CRITERIA } from '../simulation/headline';
 import { TuningInputError } from './errors';
+import { transmissionShortfall } from './transmissionConstraint';
 
 export const OBJECTIVE_NAMES: readonly ObjectiveName[] = ['max-r-at-mz', 'max-min-r-over-range', 'min-fwhm'];
 export const WIDTH_MEASURES: readonly WidthMeasure[] = ['sd', 'shortest', 'fwhm'];
@@ -128,19 +129,19 @@ export function resolvingPowerBy(s: SpeciesReport, measure: WidthMeasure): numbe
 
 /**
  * The cost the optimiser minimises (lower is better): −R or the width by `measure`. Points that
- * detect nothing, or whose transmission is below `minTransmission`, cost more than any real point,
+ * detect nothing, or where any species' transmission is below its floor (`transmissionFloors`,
+ * indexed as the report's species; see ./transmissionConstraint), cost more than any real point,
  * more so the further they are from feasible, so a search is led back.
  */
 export function objectiveCost(
   resolved: ResolvedObjective,
   report: RunReport,
   measure: WidthMeasure,
-  minTransmission = 0,
+  transmissionFloors?: readonly number[],
   criterion: ResolvingPowerCriterion = 'ideal',
 ): number {
-  let worstTransmission = 1;
-  for (const s of resolved.species) worstTransmission = Math.min(worstTransmission, report.species[s].transmission);
-  if (worstTransmission < minTransmission) return INFEASIBLE_COST * (1 + (minTransmission - worstTransmission));
+  const shortfall = transmissionShortfall(transmissionFloors, (i) => report.species[i].transmission);
+  if (shortfall > 0) return INFEASIBLE_COST * (1 + shortfall);
   if (criterion === 'spectrum') {
     // The spectrum is a sum of smooth single-ion pulses, so its peak width is smooth in the settings
     // (with common random numbers) and needs no smoothed stand-in.

@@ -2,7 +2,8 @@
  * The engine service (EngineApi) over a task pool: scans and tunes are scheduled on the pool's lanes;
  * `run` is passed in, because its clock and transfer handling differ between a worker and the CLI.
  */
-import type { EngineApi, RunOutput, RunRequest } from './api';
+import type { RunOutput, RunRequest } from '../simulation/runContract';
+import type { EngineApi } from './api';
 import type { TaskPool } from './pool';
 import { scanWith } from './scan';
 import { optimiseWith } from './tune';

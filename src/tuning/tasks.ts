@@ -19,7 +19,8 @@ export interface TaskContext {
   readonly seed?: number;
   readonly objective: Objective | null;
   readonly measure: WidthMeasure;
-  readonly minTransmission?: number;
+  /** Per-species transmission floors (see ./transmissionConstraint); none: unconstrained. */
+  readonly transmissionFloors?: readonly number[];
   /** Which R the objective reads; resolved from the preset when absent (see resolveCriterion). */
   readonly criterion?: ResolvingPowerCriterion;
 }
@@ -84,7 +85,7 @@ function settingsOf(task: TaskContext): PointSettings {
     seed: task.seed,
     objective: task.objective ? resolveObjective(task.objective, task.preset) : null,
     measure: task.measure,
-    minTransmission: task.minTransmission,
+    transmissionFloors: task.transmissionFloors,
     criterion: resolveCriterion(task.preset, task.criterion),
   };
 }

@@ -21,6 +21,7 @@ import { runInOrder, type TaskPool } from './pool';
 import { checkIons, checkMeasure, checkSeed } from './requestChecks';
 import { checkPath, checkValue } from './scanPlan';
 import type { FlatnessTask, SearchTask, SearchTaskResult, TaskContext } from './tasks';
+import { checkTransmission, constraintOf, describeConstraint, transmissionFloors, type TransmissionConstraint } from './transmissionConstraint';
 
 export const MAX_TUNE_PARAMETERS = 8;
 const DEFAULT_RESTARTS = 3;
@@ -30,13 +31,13 @@ const MAX_POLISH_ROUNDS = 4;
 const GRID_INTERVALS = 16;
 /** Fraction of the best R a point must keep to lie in the flatness interval. */
 export const FLATNESS_FRACTION = 0.9;
-/** Default transmission constraint: this share of the transmission at the preset's current settings. */
-export const DEFAULT_TRANSMISSION_SHARE = 0.99;
+export { DEFAULT_TRANSMISSION_SHARE } from './transmissionConstraint';
 
 export interface TuneLabels {
   readonly parameter: (i: number) => string;
   readonly objective: ObjectiveLabels;
   readonly minTransmission: string;
+  readonly keepTransmission: string;
   readonly ions: string;
   readonly seed: string;
   readonly measure: string;
@@ -47,6 +48,7 @@ export const TUNE_REQUEST_LABELS: TuneLabels = {
   parameter: (i) => `parameters[${i}]`,
   objective: REQUEST_LABELS,
   minTransmission: 'minTransmission',
+  keepTransmission: 'keepTransmission',
   ions: 'ions',
   seed: 'seed',
   measure: 'measure',
@@ -56,6 +58,7 @@ export const TUNE_REQUEST_LABELS: TuneLabels = {
 export interface CheckedTune {
   readonly objective: ResolvedObjective;
   readonly current: number[];
+  readonly transmission: TransmissionConstraint;
 }
 
 /** Every check of a tune request, before any work: throws TuningInputError naming the argument. */
@@ -75,8 +78,7 @@ export function checkTuneRequest(request: TuneRequest, labels: TuneLabels = TUNE
     return value;
   });
   const objective = resolveObjective(request.objective, preset, labels.objective);
-  const minT = request.minTransmission;
-  if (minT !== undefined && !(minT >= 0 && minT <= 1)) throw new TuningInputError(labels.minTransmission, `must be a fraction from 0 to 1 (got ${minT})`);
+  const transmission = constraintOf(request, labels);
   checkIons(request.ions, labels.ions);
   checkSeed(request.seed, labels.seed);
   checkMeasure(request.measure, labels.measure);
@@ -85,7 +87,7 @@ export function checkTuneRequest(request: TuneRequest, labels: TuneLabels = TUNE
   if (restarts !== undefined && !(Number.isInteger(restarts) && restarts >= 0 && restarts <= 64)) {
     throw new TuningInputError(labels.restarts, `must be a whole number from 0 to 64 (got ${restarts})`);
   }
-  return { objective, current };
+  return { objective, current, transmission };
 }
 
 const labelsFor = (parameters: readonly TuneParameter[]): string => parameters.map((_, i) => TUNE_REQUEST_LABELS.parameter(i)).join(', ');
@@ -109,18 +111,18 @@ export async function optimiseWith(pool: TaskPool, request: TuneRequest, onProgr
   const paths = parameters.map((p) => p.path);
   const criterion = resolveCriterion(preset, request.criterion);
 
-  // Without an explicit constraint, a tune may not buy width by losing ions (a narrow peak of a
-  // few survivors): it must keep DEFAULT_TRANSMISSION_SHARE (99 %) of the transmission at the current settings.
-  let minTransmission = request.minTransmission;
-  if (minTransmission === undefined) {
+  // A tune may not buy width by losing ions (a narrow peak of a few survivors) of any species: each
+  // species has a floor, by default a share of its transmission at the preset's settings.
+  let current: readonly number[] = preset.ions.species.map(() => 0);
+  if (checked.transmission.kind === 'share') {
     const [now] = await runInOrder(lanes, [{ preset, paths, ions: request.ions, seed: request.seed, objective: null, measure, criterion, points: [{ index: 0, values: checked.current }] }], (lane, task) =>
       lane.evaluatePoints(task),
     );
     evaluations++;
-    const species = now.points[0].species;
-    minTransmission = DEFAULT_TRANSMISSION_SHARE * Math.min(...checked.objective.species.map((s) => species[s].transmission));
+    current = now.points[0].species.map((s) => s.transmission);
   }
-  const context: TaskContext = { preset, paths, ions: request.ions, seed: request.seed, objective: request.objective, measure, minTransmission, criterion };
+  const floors = transmissionFloors(checked.transmission, current, preset.ions.species.map((s) => s.abundance));
+  const context: TaskContext = { preset, paths, ions: request.ions, seed: request.seed, objective: request.objective, measure, transmissionFloors: floors, criterion };
 
   const start =
     request.useAnalyticStart === false
@@ -233,6 +235,8 @@ export async function optimiseWith(pool: TaskPool, request: TuneRequest, onProgr
   for (const e of edgeResults) evaluations += e.evaluations;
 
   const figure = (cost: number): number | null => figureOfCost(checked.objective, cost);
+  const recommendedSpecies = verdict.keepPreset ? atPreset.species : atSearch.species;
+  const transmissionCheck = checkTransmission(floors, recommendedSpecies);
   report('done', 1, 1);
   return {
     start: start.values,
@@ -245,8 +249,11 @@ export async function optimiseWith(pool: TaskPool, request: TuneRequest, onProgr
     startSource: start.sources,
     measure,
     feasible: bestCost < INFEASIBLE_COST,
-    minTransmission,
-    species: verdict.keepPreset ? atPreset.species : atSearch.species,
+    transmissionConstraint: describeConstraint(checked.transmission),
+    transmissionFloors: floors,
+    transmissionViolated: transmissionCheck.violated,
+    transmissionBinding: transmissionCheck.binding,
+    species: recommendedSpecies,
     presetValues: [...checked.current],
     presetObjective: figure(presetCost),
     presetSpecies: atPreset.species,

@@ -40,7 +40,9 @@ const WIDTH_WORDS: Record<WidthMeasure, string> = {
 /** One line naming the figure a tune optimised and reports, in the words of both the CLI and the app. */
 export function describeFigure(objective: Objective, measure: WidthMeasure): string {
   const width = WIDTH_WORDS[measure];
-  if (objective.name === 'min-fwhm') return `peak width (ns) at m/z ${objective.targetMz}, ${width}`;
-  if (objective.name === 'max-min-r-over-range') return `least R = t/(2·width) over m/z ${objective.range?.[0]}–${objective.range?.[1]}, ${width}`;
-  return `R = t/(2·width) at m/z ${objective.targetMz}, ${width}`;
+  // m/z in words to 4 decimals at most (a computed m/z carries 13 digits; the request keeps them).
+  const mz = (x: number | undefined): string => (x === undefined ? '?' : String(Number(x.toFixed(4))));
+  if (objective.name === 'min-fwhm') return `peak width (ns) at m/z ${mz(objective.targetMz)}, ${width}`;
+  if (objective.name === 'max-min-r-over-range') return `least R = t/(2·width) over m/z ${mz(objective.range?.[0])}–${mz(objective.range?.[1])}, ${width}`;
+  return `R = t/(2·width) at m/z ${mz(objective.targetMz)}, ${width}`;
 }

@@ -3,7 +3,8 @@
  * worker's own thread) plus the pool tasks, so that a client can spread one scan or tune over many
  * workers. Shared by the browser worker (workers/engine.worker.ts) and the Node worker thread.
  */
-import type { EngineApi, RunOutput, RunRequest } from './api';
+import type { RunOutput, RunRequest } from '../simulation/runContract';
+import type { EngineApi } from './api';
 import { inProcessPool } from './pool';
 import { createEngineService } from './service';
 import { engineTasks, type EngineTasks } from './tasks';

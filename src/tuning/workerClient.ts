@@ -10,7 +10,8 @@
  */
 import * as Comlink from 'comlink';
 import type { Endpoint } from 'comlink';
-import type { Progress, RunOutput, RunRequest, ScanRequest, ScanResult, TuneRequest, TuneResult } from './api';
+import type { RunOutput, RunRequest } from '../simulation/runContract';
+import type { Progress, ScanRequest, ScanResult, TuneRequest, TuneResult } from './api';
 import { CancelledError } from './errors';
 import type { TaskLane, TaskPool } from './pool';
 import { scanWith } from './scan';

@@ -5,9 +5,9 @@ import { idealGridEquivalent } from '../../src/presets/compileFields';
 import { validatePreset } from '../../src/presets/load';
 import type { Preset } from '../../src/presets/schema';
 import { simulate } from '../../src/simulation/run';
-import { buildLayout } from '../../src/ui/scene/layout';
-import { drawableModel } from '../../src/ui/scene/drawableModel';
-import { MAX_EQUIPOTENTIAL_SEGMENTS, fillEquipotentials } from '../../src/ui/scene/equipotentials';
+import { buildLayout } from '../../src/simulation/scene/layout';
+import { drawableModel } from '../../src/simulation/scene/drawableModel';
+import { MAX_EQUIPOTENTIAL_SEGMENTS, fillEquipotentials } from '../../src/simulation/scene/equipotentials';
 
 const text = readFileSync(new URL('../../presets/demo-aperture-source.json', import.meta.url), 'utf8');
 const doc = () => JSON.parse(text) as Record<string, any>;

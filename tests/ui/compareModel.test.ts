@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { validatePreset } from '../../src/presets/load';
 import { emptyFateCounts } from '../../src/physics/fates';
 import type { RunReport, SpeciesReport } from '../../src/simulation/report';
-import { describeSetup, diffSpecies, otherMode, runFigures } from '../../src/ui/compare/compareModel';
+import { describeSetup, diffSpecies, otherMode, runFigures, shownValue } from '../../src/ui/compare/compareModel';
 import { demoPreset } from './helpers';
 
 function species(mz: number, t: number, fwhm: number, transmission = 1, charge = 1): SpeciesReport {
@@ -44,6 +44,15 @@ describe('compare mode', () => {
     expect(validatePreset(back).ok).toBe(true);
     const delay = dual.source.extraction.mode === 'delayed' ? dual.source.extraction.delay_ns : NaN;
     expect(describeSetup(back)).toBe(`two-stage source, delay ${delay} ns; linear, drift 1800 mm`);
+  });
+
+  it('shows a tuned delay with six significant digits on screen while the preset keeps every digit', () => {
+    const linear = demoPreset('demo-linear-delayed');
+    const tuned = { ...linear, source: { ...linear.source, extraction: { mode: 'delayed' as const, delay_ns: 262.2413452345123 } } };
+    expect(describeSetup(tuned)).toBe('two-stage source, delay 262.241 ns; linear, drift 1200 mm');
+    expect(tuned.source.extraction.delay_ns).toBe(262.2413452345123);
+    expect(shownValue(0.000123456789)).toBe('0.000123457');
+    expect(shownValue(228)).toBe('228');
   });
 
   it('matches species by m/z and charge and reports B − A', () => {

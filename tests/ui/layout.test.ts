@@ -3,8 +3,9 @@ import { createExactPlan, prepareExactPlan } from '../../src/physics/exactEngine
 import { createTrajectory, Region, traceTrajectory } from '../../src/physics/trajectory';
 import { compilePreset } from '../../src/presets/compile';
 import { mzRampPositions, potentialRgb, rampRgb, rgbToCss } from '../../src/ui/colors';
-import { buildLayout, mirrorPenetration_m } from '../../src/ui/scene/layout';
-import { createDrawnIons, fillPaths, pathVertexBudget, positionAt, traceDrawnIons } from '../../src/ui/scene/paths';
+import { buildLayout, mirrorPenetration_m } from '../../src/simulation/scene/layout';
+import { traceDrawnPaths } from '../../src/simulation/scene/drawnPaths';
+import { createDrawnIons, fillPaths, pathVertexBudget, positionAt, unpackDrawnIons } from '../../src/ui/scene/paths';
 import { demoPreset } from './helpers';
 
 describe('3D layout', () => {
@@ -50,7 +51,7 @@ describe('3D layout', () => {
   it('drawn paths fit their vertex budget and packets sit on the paths', () => {
     const compiled = compilePreset(demoPreset('demo-reflectron-dual'));
     const layout = buildLayout(compiled.model);
-    const ions = traceDrawnIons(createDrawnIons(), compiled);
+    const ions = unpackDrawnIons(createDrawnIons(), traceDrawnPaths(compiled, compiled.model));
     expect(ions.count).toBe(4 * 160);
     const budget = pathVertexBudget(ions);
     const positions = new Float32Array(3 * budget);

@@ -1,6 +1,6 @@
 /**
  * Motion in space, r'' = a(t, r), with DOPRI5 between two planes across the z axis and a strike
- * guard: the hot path of the solved-field tracer (src/fields/solvedTracer.ts). This is `solve`
+ * guard: the hot path of the solved-field tracer (src/physics/regions/solvedTracer.ts). This is `solve`
  * (rungeKutta.ts) with the DOPRI5 tableau and the state (x, y, z, vx, vy, vz) written out, and its
  * three terminal events built in:
  *

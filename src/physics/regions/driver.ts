@@ -27,6 +27,7 @@ import {
   type RegionKernel,
   type SectionCode,
   type SegmentObserver,
+  type TraceEnsemble,
   type TraceOptions,
 } from './contract';
 import { chargeToMassIn, createFlightPlan, prepareFlightPlan, type FlightPlan } from './plan';
@@ -144,24 +145,56 @@ export function flySections(
   tLimit_s: number,
   observer: SegmentObserver | null,
 ): FateCode {
+  // One call site per section (not one in a loop), with the kernels in locals: each site then sees
+  // one or two kernel classes and the JIT inlines the crossing; a loop over the array measured ~35 %
+  // slower ion by ion on an all-closed-form model.
+  const source = kernels[0];
+  const drift = kernels[1];
+  const mirror = kernels[2];
+  const returnLeg = kernels[3];
+  const post = kernels[4];
   let alive = true;
-  for (let s = start; s < SECTION_COUNT; s++) {
-    const kernel = kernels[s];
-    if (kernel === null) continue;
-    if (s !== start) st.z = 0;
-    if (observer !== null && observer.enter) observer.enter(s as SectionCode, st);
-    if (kernel.cross(st, plan, observer) !== Exit.FAR) {
-      alive = false;
-      break;
-    }
+  if (start === 0 && source !== null) {
+    if (observer !== null) enterSection(observer, 0, st);
+    alive = source.cross(st, plan, observer) === FAR;
   }
-  if (alive) st.fate = Fate.DETECTED;
-  if (st.fate === Fate.TIMED_OUT || !(st.t <= tLimit_s)) {
-    st.fate = Fate.TIMED_OUT;
+  if (alive && start <= 1 && drift !== null) {
+    if (start !== 1) st.z = 0;
+    if (observer !== null) enterSection(observer, 1, st);
+    alive = drift.cross(st, plan, observer) === FAR;
+  }
+  if (alive && start <= 2 && mirror !== null) {
+    if (start !== 2) st.z = 0;
+    if (observer !== null) enterSection(observer, 2, st);
+    alive = mirror.cross(st, plan, observer) === FAR;
+  }
+  if (alive && start <= 3 && returnLeg !== null) {
+    if (start !== 3) st.z = 0;
+    if (observer !== null) enterSection(observer, 3, st);
+    alive = returnLeg.cross(st, plan, observer) === FAR;
+  }
+  if (alive && post !== null) {
+    if (start !== 4) st.z = 0;
+    if (observer !== null) enterSection(observer, 4, st);
+    alive = post.cross(st, plan, observer) === FAR;
+  }
+  if (alive) st.fate = DETECTED;
+  if (st.fate === TIMED_OUT || !(st.t <= tLimit_s)) {
+    st.fate = TIMED_OUT;
     st.t = tLimit_s;
   }
   if (!Number.isFinite(st.v)) st.v = 0;
   return st.fate as FateCode;
+}
+
+// The codes flySections compares with, as plain constants (the section codes are written as
+// numbers there: SOURCE 0, DRIFT 1, MIRROR 2, RETURN 3, POST 4).
+const FAR = Exit.FAR;
+const DETECTED = Fate.DETECTED;
+const TIMED_OUT = Fate.TIMED_OUT;
+
+function enterSection(observer: SegmentObserver, section: SectionCode, st: IonState): void {
+  if (observer.enter) observer.enter(section, st);
 }
 
 /**
@@ -193,6 +226,15 @@ export function createFlight(model: AnalyserModel, options: FlightChoice = {}): 
   return new ModelFlight(model, options);
 }
 
+/** Reset the axial state only (the transverse reference stays zero: no solved region reads it). */
+function startAxial(st: IonState, z0: number, v0: number): void {
+  st.t = 0;
+  st.z = z0;
+  st.v = v0;
+  st.fate = Fate.UNSET;
+  st.w = 1;
+}
+
 /** True when the driver takes the block path: every region closed-form, no solved field, no observer. */
 function blockPath(model: AnalyserModel, options: TraceOptions): boolean {
   return (options.engine ?? 'auto') === 'auto' && !needsIntegrator(model) && !hasSolvedRegion(model) && (options.observer ?? null) === null;
@@ -218,6 +260,9 @@ export function traceEnsemble(model: AnalyserModel, ensemble: Ensemble, out: Tra
     return;
   }
   const flight = createFlight(model, { ...options, ions: options.ions ?? to - from });
+  const kernels = flight.kernels;
+  const plan = flight.plan;
+  const tLimit = model.maxFlightTime_s;
   const observer = options.observer ?? null;
   const st = createIonState();
   // Solved regions bend transverse paths: the detector-plane position comes from where the ion left them.
@@ -228,9 +273,11 @@ export function traceEnsemble(model: AnalyserModel, ensemble: Ensemble, out: Tra
     if (a >= b) continue;
     flight.setMz(ensemble.species[s].mz);
     for (let i = a; i < b; i++) {
-      startIonState(st, ensemble.z0_m[i], ensemble.vz0_m_per_s[i], ensemble.x0_m[i], ensemble.y0_m[i], ensemble.vx0_m_per_s[i], ensemble.vy0_m_per_s[i]);
+      // Only solved regions read the transverse state (elsewhere applyDetectorPlane uses the ensemble's).
+      if (solved) startIonState(st, ensemble.z0_m[i], ensemble.vz0_m_per_s[i], ensemble.x0_m[i], ensemble.y0_m[i], ensemble.vx0_m_per_s[i], ensemble.vy0_m_per_s[i]);
+      else startAxial(st, ensemble.z0_m[i], ensemble.vz0_m_per_s[i]);
       if (observer !== null && observer.begin) observer.begin(i);
-      flight.fly(st, Section.SOURCE, observer);
+      flySections(kernels, st, plan, Section.SOURCE, tLimit, observer);
       if (observer !== null && observer.end) observer.end(i, st);
       if (solved) {
         out.detectorX_m[i] = transverseXAt(st, st.t);
@@ -243,3 +290,7 @@ export function traceEnsemble(model: AnalyserModel, ensemble: Ensemble, out: Tra
     }
   }
 }
+
+/** traceEnsemble keeps the contract's signature. */
+const _keepsContract: TraceEnsemble = traceEnsemble;
+void _keepsContract;

@@ -87,6 +87,14 @@ export function runFigures(report: RunReport, sampleInterval_ns: number | null =
   };
 }
 
+/**
+ * A setting as shown on screen: six significant digits, trailing zeros dropped (a tuned delay of
+ * 262.2413452345 ns shows as 262.241); saved presets keep every digit.
+ */
+export function shownValue(x: number): string {
+  return Number(x.toPrecision(6)).toString();
+}
+
 /** A short description of the analyser of a setup. */
 export function describeSetup(preset: Preset): string {
   const source = preset.source.extractionGrid
@@ -94,7 +102,7 @@ export function describeSetup(preset: Preset): string {
       ? 'two-stage source with aperture plates (solved field)'
       : 'two-stage source'
     : 'single-stage source';
-  const timing = preset.source.extraction.mode === 'delayed' ? `delay ${preset.source.extraction.delay_ns} ns` : 'static extraction';
+  const timing = preset.source.extraction.mode === 'delayed' ? `delay ${shownValue(preset.source.extraction.delay_ns)} ns` : 'static extraction';
   const m = preset.mirror;
   const kind: Record<Preset['mirror']['type'], string> = {
     none: 'linear',
@@ -103,6 +111,6 @@ export function describeSetup(preset: Preset): string {
     profile: 'shaped-field reflectron',
     solved: 'gridless ring-stack reflectron (solved field)',
   };
-  const flight = m.type === 'none' ? `linear, drift ${preset.drift.length_mm} mm` : `${kind[m.type]}, ${preset.drift.length_mm} + ${m.returnLength_mm} mm`;
+  const flight = m.type === 'none' ? `linear, drift ${shownValue(preset.drift.length_mm)} mm` : `${kind[m.type]}, ${shownValue(preset.drift.length_mm)} + ${shownValue(m.returnLength_mm)} mm`;
   return `${source}, ${timing}; ${flight}`;
 }

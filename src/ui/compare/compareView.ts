@@ -7,7 +7,7 @@ import { Fate } from '../../physics/fates';
 import { idealGridEquivalent } from '../../presets/compileFields';
 import { pulseReachNote } from '../../simulation/pulseReach';
 import type { Preset } from '../../presets/schema';
-import type { RunOutput } from '../../tuning/api';
+import type { RunOutput } from '../../simulation/runContract';
 import type { AppContext } from '../appContext';
 import { accumulate, binCentres, binsForWidth, detectedExtent, paddedRange } from '../charts/binning';
 import { axis, chartSize, fitChart, followSize, withAlpha } from '../charts/theme';
@@ -32,6 +32,10 @@ export class CompareView {
   private chart: uPlot | null = null;
   private snapshot: Preset | null = null;
   private generation = 0;
+  /** The setup A the shown results were run for (JSON), and whether the last edit was refused. */
+  private shownFor: string | null = null;
+  private refused = false;
+  private shownStatus = '';
 
   constructor(private readonly app: AppContext) {
     followSize(this.chartHost, () => this.chart);
@@ -138,12 +142,39 @@ export class CompareView {
       // Why solved fields and their ideal grids can disagree, when it applies (the same note as --compare-ideal).
       const note = idealOfA && runB.pulseReach ? pulseReachNote(runB.pulseReach) : null;
       this.status.textContent = `${ions.toLocaleString('en')} ions each, same seed.${note ? ` Why they differ: ${note}` : ''}`;
+      this.shownStatus = this.status.textContent;
+      this.shownFor = JSON.stringify(a);
+      this.refused = false;
+      this.showStaleness();
       document.body.dataset.compare = 'done';
     } catch (err) {
       if (generation !== this.generation) return;
       this.status.textContent = `Comparison failed: ${(err as Error).message}`;
       document.body.dataset.compare = 'error';
     }
+  }
+
+  /**
+   * Call on every edit of the working setup: 'refused' when the panel refused a changed setting (the
+   * working setup then still holds the last valid one), 'valid' otherwise. Shown results that no
+   * longer describe what the panel shows are marked stale, never left looking current.
+   */
+  settingsChanged(state: 'valid' | 'refused'): void {
+    this.refused = state === 'refused';
+    this.showStaleness();
+  }
+
+  private showStaleness(): void {
+    if (this.shownFor === null) return;
+    const reason = this.refused
+      ? 'a changed setting was refused (see the panel), so these results are for the last valid setup'
+      : this.shownFor !== JSON.stringify(this.app.working())
+        ? 'the setup has changed since this comparison'
+        : null;
+    byId('pane-compare').classList.toggle('stale', reason !== null);
+    document.body.dataset.compareStale = reason === null ? 'no' : 'yes';
+    this.status.textContent = reason === null ? this.shownStatus : `STALE: ${reason}; press Compare to update. (${this.shownStatus})`;
+    this.status.classList.toggle('stale-note', reason !== null);
   }
 
   private render(a: Preset, runA: RunOutput, b: Preset, runB: RunOutput): void {

@@ -3,7 +3,8 @@
  * a cancel that works at once. Backed by the worker pool client (src/tuning/workerClient.ts,
  * workers/pool.ts), which terminates and respawns its workers on cancel and rejects what was pending.
  */
-import type { Progress, RunOutput, RunRequest, ScanRequest, ScanResult, TuneRequest, TuneResult } from '../../tuning/api';
+import type { RunOutput, RunRequest } from '../../simulation/runContract';
+import type { Progress, ScanRequest, ScanResult, TuneRequest, TuneResult } from '../../tuning/api';
 import { CancelledError } from '../../tuning/errors';
 import type { EngineWorkerClient } from '../../tuning/workerClient';
 import type { ToleranceRequest, ToleranceResult } from '../../tolerance/analysis';

@@ -1,10 +1,36 @@
 /**
  * What the parameter panel edits: one descriptor per control, grouped by physical part, each tied
- * to the preset path it changes. Units sit in every label; hard limits come from the preset
- * schema's LIMITS; the slider window is only a convenient span inside them (typed values may go
- * beyond it and are then validated like anything else). No DOM here, so it is testable in Node.
+ * to the preset path it changes, typed from the preset schema (src/presets/presetPaths.ts: a path
+ * the schema does not have is a type error). Units sit in every label; hard limits come from the
+ * preset schema's LIMITS; the slider window is only a convenient span inside them (typed values may
+ * go beyond it and are then validated like anything else). What a switched-on mode starts from, and
+ * what an omitted value means, come from the preset layer (src/presets/modeDefaults.ts). Other
+ * modules add groups of controls with `registerFields` (./fieldRegistry.ts). No DOM here, so it is
+ * testable in Node.
  */
 import { FIELD_LIMITS } from '../../presets/fieldsSchema';
+import {
+  acquisitionDefaults,
+  ACTIVE_DIAMETER_DEFAULT_mm,
+  extractionFor,
+  extractionGridFor,
+  extractionGridHoldDefault_V,
+  harmonicProfileFor,
+  mirrorFor,
+  NOMINAL_DRIFT_mm,
+  NOMINAL_REPELLER_V,
+  OMITTED_GRID_TRANSMISSION,
+  OMITTED_RISE_SHAPE,
+  OMITTED_TRANSVERSE_KIND,
+  postAccelerationFor,
+  repellerHoldDefault_V,
+  riseFor,
+  startPositionFor,
+  startVelocityFor,
+  transverseVelocityFor,
+} from '../../presets/modeDefaults';
+import type { PresetPath, SpeciesBase } from '../../presets/presetPaths';
+import type { Preset } from '../../presets/schema';
 import { LIMITS } from '../../presets/schema';
 import { numberBoundsAt } from '../../presets/pathBounds';
 import { boundsWords } from '../../presets/rangeWords';
@@ -35,7 +61,7 @@ interface FieldBase {
   readonly group: GroupId;
   readonly label: string;
   /** The preset path this control edits (where validation issues for it are reported). */
-  readonly path: string;
+  readonly path: PresetPath;
   readonly visible?: (doc: unknown) => boolean;
 }
 
@@ -73,21 +99,20 @@ export interface TextField extends FieldBase {
 
 export type FieldSpec = NumberField | ChoiceField | SwitchField | TextField;
 
-const num = (doc: unknown, path: string, fallback = 0): number => {
+const num = (doc: unknown, path: PresetPath, fallback = 0): number => {
   const v = getAt(doc, path);
   return typeof v === 'number' ? v : fallback;
 };
-const str = (doc: unknown, path: string): string => String(getAt(doc, path) ?? '');
-const has = (doc: unknown, path: string): boolean => getAt(doc, path) !== undefined;
-const is = (path: string, value: string) => (doc: unknown) => getAt(doc, path) === value;
-const round = (x: number, step: number): number => Math.round(x / step) * step;
+const str = (doc: unknown, path: PresetPath): string => String(getAt(doc, path) ?? '');
+const has = (doc: unknown, path: PresetPath): boolean => getAt(doc, path) !== undefined;
+const is = (path: PresetPath, value: string) => (doc: unknown) => getAt(doc, path) === value;
 
-/** A plain number at a path. */
-function numberAt(
+/** A plain number at a path (exported so that other modules can build controls to register). */
+export function numberAt(
   key: string,
   group: GroupId,
   label: string,
-  path: string,
+  path: PresetPath,
   limits: { min: number; max: number },
   step: number,
   window?: readonly [number, number],
@@ -111,13 +136,13 @@ function numberAt(
 }
 
 /** "allowed: > 1 and ≤ 50000 (mm)": the bounds the validator enforces at `path` (the field's limits if it reports none). */
-export function allowedHint(path: string, label: string, limits: { readonly min: number; readonly max: number }, doc?: unknown): string {
+export function allowedHint(path: PresetPath, label: string, limits: { readonly min: number; readonly max: number }, doc?: unknown): string {
   const unit = /\(([^)]*)\)\s*$/.exec(label)?.[1];
   return `allowed: ${boundsWords(numberBoundsAt(path, doc) ?? limits)}${unit ? ` (${unit})` : ''}`;
 }
 
 /** Switch a sub-object between modes, keeping the one switched away from. */
-function swapMode(doc: unknown, memory: ModeMemory, path: string, memoryPrefix: string, fromMode: string, next: unknown): void {
+function swapMode(doc: unknown, memory: ModeMemory, path: PresetPath, memoryPrefix: string, fromMode: string, next: unknown): void {
   const current = getAt(doc, path);
   if (current !== undefined) memory.set(`${memoryPrefix}:${fromMode}`, current);
   if (next === undefined) deleteAt(doc, path);
@@ -128,8 +153,8 @@ function recall(memory: ModeMemory, key: string, fallback: () => unknown): unkno
   return memory.has(key) ? JSON.parse(JSON.stringify(memory.get(key))) : fallback();
 }
 
-const repeller = (doc: unknown): number => num(doc, 'source.repeller.potential_V', 20_000);
-const polaritySign = (doc: unknown): number => (getAt(doc, 'polarity') === 'negative' ? -1 : 1);
+const repeller = (doc: unknown): number => num(doc, 'source.repeller.potential_V', NOMINAL_REPELLER_V);
+const polarity = (doc: unknown): Preset['polarity'] => (getAt(doc, 'polarity') === 'negative' ? 'negative' : 'positive');
 const firstGap = (doc: unknown): number =>
   has(doc, 'source.extractionGrid') ? num(doc, 'source.extractionGrid.gap_mm', 3) : num(doc, 'source.groundGrid.gap_mm', 10);
 
@@ -166,7 +191,7 @@ export const FIELDS: readonly FieldSpec[] = [
     set: (doc, on, memory) => {
       if (on === twoStage(doc)) return;
       if (on) {
-        const grid = recall(memory, 'extractionGrid:on', () => ({ gap_mm: 3, potential_V: round(0.94 * repeller(doc), 10) }));
+        const grid = recall(memory, 'extractionGrid:on', () => extractionGridFor(repeller(doc)));
         setAt(doc, 'source.extractionGrid', grid);
       } else {
         swapMode(doc, memory, 'source.extractionGrid', 'extractionGrid', 'on', undefined);
@@ -208,9 +233,9 @@ export const FIELDS: readonly FieldSpec[] = [
     0.01,
     [0.01, 1],
     (doc) => twoStage(doc) && !apertureSource(doc),
-    () => 1,
+    () => OMITTED_GRID_TRANSMISSION,
   ),
-  numberAt('groundTransmission', 'source', 'ground grid transmission (0–1)', 'source.groundGrid.transmission', LIMITS.transmission, 0.01, [0.01, 1], (doc) => !apertureSource(doc), () => 1),
+  numberAt('groundTransmission', 'source', 'ground grid transmission (0–1)', 'source.groundGrid.transmission', LIMITS.transmission, 0.01, [0.01, 1], (doc) => !apertureSource(doc), () => OMITTED_GRID_TRANSMISSION),
 
   // Timing
   {
@@ -224,13 +249,16 @@ export const FIELDS: readonly FieldSpec[] = [
     set: (doc, mode, memory) => {
       const from = str(doc, 'source.extraction.mode');
       if (mode === from) return;
-      const next = mode === 'delayed' ? recall(memory, 'extraction:delayed', () => ({ mode: 'delayed', delay_ns: 150 })) : { mode: 'static' };
+      const next = mode === 'delayed' ? recall(memory, 'extraction:delayed', () => extractionFor('delayed')) : extractionFor('static');
       swapMode(doc, memory, 'source.extraction', 'extraction', from, next);
     },
   },
   numberAt('delay_ns', 'timing', 'extraction delay (ns)', 'source.extraction.delay_ns', LIMITS.delay_ns, 1, [0, 2000], delayed),
   numberAt('repellerHold_V', 'timing', 'repeller during delay (V)', 'source.repeller.hold_V', LIMITS.potential_V, 10, POTENTIAL_WINDOW, delayed, (doc) =>
-    twoStage(doc) ? num(doc, 'source.extractionGrid.hold_V', num(doc, 'source.extractionGrid.potential_V')) : num(doc, 'drift.potential_V'),
+    repellerHoldDefault_V(
+      twoStage(doc) ? { potential_V: num(doc, 'source.extractionGrid.potential_V'), hold_V: has(doc, 'source.extractionGrid.hold_V') ? num(doc, 'source.extractionGrid.hold_V') : undefined } : null,
+      num(doc, 'drift.potential_V'),
+    ),
   ),
   numberAt(
     'gridHold_V',
@@ -241,7 +269,7 @@ export const FIELDS: readonly FieldSpec[] = [
     10,
     POTENTIAL_WINDOW,
     (doc) => delayed(doc) && twoStage(doc),
-    (doc) => num(doc, 'source.extractionGrid.potential_V'),
+    (doc) => extractionGridHoldDefault_V(num(doc, 'source.extractionGrid.potential_V')),
   ),
 
   {
@@ -252,14 +280,14 @@ export const FIELDS: readonly FieldSpec[] = [
     path: 'source.extraction.rise.shape',
     options: { 'ideal step': 'step', 'linear ramp': 'linear', 'exponential (RC)': 'exponential', 'tabulated (from file)': 'table' },
     visible: delayed,
-    get: (doc) => str(doc, 'source.extraction.rise.shape') || 'step',
+    get: (doc) => str(doc, 'source.extraction.rise.shape') || OMITTED_RISE_SHAPE,
     set: (doc, shape, memory) => {
-      const from = str(doc, 'source.extraction.rise.shape') || 'step';
+      const from = str(doc, 'source.extraction.rise.shape') || OMITTED_RISE_SHAPE;
       if (shape === from) return;
       const defaults: Record<string, () => unknown> = {
-        step: () => undefined,
-        linear: () => ({ shape: 'linear', riseTime_ns: 20 }),
-        exponential: () => ({ shape: 'exponential', timeConstant_ns: 10 }),
+        step: () => riseFor('step'),
+        linear: () => riseFor('linear'),
+        exponential: () => riseFor('exponential'),
         // A table cannot be typed here: keep a remembered one, else stay with the current edge.
         table: () => getAt(doc, 'source.extraction.rise'),
       };
@@ -301,38 +329,12 @@ export const FIELDS: readonly FieldSpec[] = [
     set: (doc, type, memory) => {
       const from = str(doc, 'mirror.type');
       if (type === from) return;
-      const rep = repeller(doc);
-      const back = (doc2: unknown): number => num(doc2, 'drift.length_mm', 1000);
-      const defaults: Record<string, () => unknown> = {
-        none: () => ({ type: 'none' }),
-        single: () => ({ type: 'single', depth_mm: 300, backPlate_V: round(1.12 * rep, 10), returnLength_mm: round(0.8 * back(doc), 1) }),
-        dual: () => ({
-          type: 'dual',
-          deceleratingLength_mm: 30,
-          intermediateGrid_V: round(0.69 * rep, 10),
-          reflectingLength_mm: 100,
-          backPlate_V: round(1.06 * rep, 10),
-          returnLength_mm: round(0.8 * back(doc), 1),
-        }),
-        profile: () => ({
-          type: 'profile',
-          depth_mm: 300,
-          profile: { kind: 'harmonic', backPlate_V: round(1.3 * rep, 10) },
-          returnLength_mm: round(0.8 * back(doc), 1),
-        }),
-        // Ring-stack geometry of the gridless demo (invented), its back plate scaled to this source
-        // as in the demo (1.12 × the repeller's potential above the drift tube).
-        solved: () => {
-          const drift = num(doc, 'drift.potential_V');
-          const m = structuredClone(demo('gridless').mirror);
-          if (m.type === 'solved') {
-            m.backPlate.potential_V = round(drift + 1.12 * (rep - drift), 10);
-            m.returnLength_mm = round(0.8 * back(doc), 1);
-          }
-          return m;
-        },
-      };
-      swapMode(doc, memory, 'mirror', 'mirror', from, recall(memory, `mirror:${type}`, defaults[type] ?? defaults.none));
+      const known = ['none', 'single', 'dual', 'profile', 'solved'] as const;
+      const kind = known.find((k) => k === type) ?? 'none';
+      // A gridless mirror takes the ring-stack geometry of the gridless demo (invented).
+      const scale = { repeller_V: repeller(doc), driftLength_mm: num(doc, 'drift.length_mm', NOMINAL_DRIFT_mm), driftPotential_V: num(doc, 'drift.potential_V') };
+      const fresh = (): unknown => mirrorFor(kind, scale, kind === 'solved' ? demo('gridless').mirror : undefined);
+      swapMode(doc, memory, 'mirror', 'mirror', from, recall(memory, `mirror:${type}`, fresh));
     },
   },
   numberAt('mirrorDepth_mm', 'mirror', 'mirror depth (mm)', 'mirror.depth_mm', LIMITS.mirrorStage_mm, 0.5, [1, 1000], (doc) =>
@@ -350,7 +352,7 @@ export const FIELDS: readonly FieldSpec[] = [
     set: (doc, kind, memory) => {
       const from = str(doc, 'mirror.profile.kind');
       if (kind === from) return;
-      const harmonic = () => ({ kind: 'harmonic', backPlate_V: round(1.3 * repeller(doc), 10) });
+      const harmonic = () => harmonicProfileFor(repeller(doc));
       // Coefficient lists and tables are edited in the preset file; here only a remembered one comes back.
       const next = recall(memory, `profile:${kind}`, kind === 'harmonic' ? harmonic : () => getAt(doc, 'mirror.profile'));
       swapMode(doc, memory, 'mirror.profile', 'profile', from, next);
@@ -385,7 +387,7 @@ export const FIELDS: readonly FieldSpec[] = [
     0.01,
     [0.01, 1],
     griddedMirror,
-    () => 1,
+    () => OMITTED_GRID_TRANSMISSION,
   ),
 
   // Detector and acquisition
@@ -399,7 +401,7 @@ export const FIELDS: readonly FieldSpec[] = [
     set: (doc, on, memory) => {
       if (on === has(doc, 'detector.postAcceleration')) return;
       if (on) {
-        const gap = recall(memory, 'post:on', () => ({ gap_mm: 5, potential_V: -5000 * polaritySign(doc) }));
+        const gap = recall(memory, 'post:on', () => postAccelerationFor(polarity(doc)));
         setAt(doc, 'detector.postAcceleration', gap);
       } else swapMode(doc, memory, 'detector.postAcceleration', 'post', 'on', undefined);
     },
@@ -419,7 +421,7 @@ export const FIELDS: readonly FieldSpec[] = [
     get: (doc) => has(doc, 'detector.activeDiameter_mm'),
     set: (doc, on, memory) => {
       if (on === has(doc, 'detector.activeDiameter_mm')) return;
-      if (on) setAt(doc, 'detector.activeDiameter_mm', recall(memory, 'activeArea:on', () => 40));
+      if (on) setAt(doc, 'detector.activeDiameter_mm', recall(memory, 'activeArea:on', () => ACTIVE_DIAMETER_DEFAULT_mm));
       else swapMode(doc, memory, 'detector.activeDiameter_mm', 'activeArea', 'on', undefined);
     },
   },
@@ -437,7 +439,7 @@ export const FIELDS: readonly FieldSpec[] = [
     set: (doc, on, memory) => {
       if (on === has(doc, 'acquisition')) return;
       if (on) {
-        const settings = recall(memory, 'acquisition:on', () => ({ pulseWidth_ns: 1, detectorJitter_ns: 0.1, triggerJitter_ns: 0.1, shots: 200, sampleInterval_ns: 0.25 }));
+        const settings = recall(memory, 'acquisition:on', acquisitionDefaults);
         setAt(doc, 'acquisition', settings);
       } else swapMode(doc, memory, 'acquisition', 'acquisition', 'on', undefined);
     },
@@ -473,13 +475,8 @@ export const FIELDS: readonly FieldSpec[] = [
     set: (doc, kind, memory) => {
       const from = str(doc, 'ions.startPosition.kind');
       if (kind === from) return;
-      const gap = firstGap(doc);
-      const defaults: Record<string, () => unknown> = {
-        surface: () => ({ kind: 'surface', position_mm: 0 }),
-        uniform: () => ({ kind: 'uniform', from_mm: 0, to_mm: round(0.2 * gap, 0.01) }),
-        gaussian: () => ({ kind: 'gaussian', mean_mm: round(0.5 * gap, 0.01), sd_mm: round(0.05 * gap, 0.01) }),
-      };
-      swapMode(doc, memory, 'ions.startPosition', 'startPosition', from, recall(memory, `startPosition:${kind}`, defaults[kind] ?? defaults.surface));
+      const law = kind === 'uniform' || kind === 'gaussian' ? kind : 'surface';
+      swapMode(doc, memory, 'ions.startPosition', 'startPosition', from, recall(memory, `startPosition:${kind}`, () => startPositionFor(law, firstGap(doc))));
     },
   },
   numberAt('position_mm', 'ions', 'start position (mm from repeller)', 'ions.startPosition.position_mm', LIMITS.position_mm, 0.01, [0, 30], is('ions.startPosition.kind', 'surface')),
@@ -498,12 +495,8 @@ export const FIELDS: readonly FieldSpec[] = [
     set: (doc, kind, memory) => {
       const from = str(doc, 'ions.startVelocity.kind');
       if (kind === from) return;
-      const defaults: Record<string, () => unknown> = {
-        normal: () => ({ kind: 'normal', mean_m_per_s: 400, sd_m_per_s: 150, minimum_m_per_s: 0 }),
-        energy: () => ({ kind: 'energy', mean_eV: 1, sd_eV: 0.5 }),
-        thermal: () => ({ kind: 'thermal', temperature_K: 300 }),
-      };
-      swapMode(doc, memory, 'ions.startVelocity', 'startVelocity', from, recall(memory, `startVelocity:${kind}`, defaults[kind] ?? defaults.normal));
+      const law = kind === 'energy' || kind === 'thermal' ? kind : 'normal';
+      swapMode(doc, memory, 'ions.startVelocity', 'startVelocity', from, recall(memory, `startVelocity:${kind}`, () => startVelocityFor(law)));
     },
   },
   numberAt('vMean', 'ions', 'mean velocity (m/s)', 'ions.startVelocity.mean_m_per_s', LIMITS.velocity_m_per_s, 1, [-2000, 2000], is('ions.startVelocity.kind', 'normal')),
@@ -520,17 +513,12 @@ export const FIELDS: readonly FieldSpec[] = [
     label: 'sideways velocity',
     path: 'ions.transverse.velocity.kind',
     options: { none: 'none', 'normal (m/s)': 'normal', 'angular (mrad)': 'angular', 'thermal (K)': 'thermal' },
-    get: (doc) => str(doc, 'ions.transverse.velocity.kind') || 'none',
+    get: (doc) => str(doc, 'ions.transverse.velocity.kind') || OMITTED_TRANSVERSE_KIND,
     set: (doc, kind, memory) => {
-      const from = str(doc, 'ions.transverse.velocity.kind') || 'none';
+      const from = str(doc, 'ions.transverse.velocity.kind') || OMITTED_TRANSVERSE_KIND;
       if (kind === from) return;
-      const defaults: Record<string, () => unknown> = {
-        none: () => ({ kind: 'none' }),
-        normal: () => ({ kind: 'normal', sd_m_per_s: 100 }),
-        angular: () => ({ kind: 'angular', sd_mrad: 5 }),
-        thermal: () => ({ kind: 'thermal', temperature_K: 300 }),
-      };
-      swapMode(doc, memory, 'ions.transverse.velocity', 'transverse', from, recall(memory, `transverse:${kind}`, defaults[kind] ?? defaults.none));
+      const law = kind === 'normal' || kind === 'angular' || kind === 'thermal' ? kind : 'none';
+      swapMode(doc, memory, 'ions.transverse.velocity', 'transverse', from, recall(memory, `transverse:${kind}`, () => transverseVelocityFor(law)));
     },
   },
   numberAt('transverseSd', 'ions', 'sideways velocity sd (m/s)', 'ions.transverse.velocity.sd_m_per_s', LIMITS.velocitySd_m_per_s, 1, [0, 1000], is('ions.transverse.velocity.kind', 'normal')),
@@ -567,7 +555,7 @@ export const FIELDS: readonly FieldSpec[] = [
  * anyway), so that clearing the formula leaves the species at the m/z it had. Unknown formulas
  * are left to validation, which reports them on the formula control.
  */
-function syncChemistryMz(doc: unknown, base: string): void {
+function syncChemistryMz(doc: unknown, base: SpeciesBase): void {
   const formula = getAt(doc, `${base}.formula`);
   if (typeof formula !== 'string') return;
   const before = getAt(doc, `${base}.mz`);
@@ -591,7 +579,7 @@ function followCalibrant(doc: unknown, before: unknown, after: number): void {
 }
 
 export function speciesFields(i: number): FieldSpec[] {
-  const base = `ions.species[${i}]`;
+  const base: SpeciesBase = `ions.species[${i}]`;
   return [
     {
       kind: 'text',

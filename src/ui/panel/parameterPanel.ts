@@ -8,7 +8,10 @@ import GUI, { type Controller, type NumberController } from 'lil-gui';
 import type { PresetIssue } from '../../presets/issues';
 import type { Preset } from '../../presets/schema';
 import { cloneJson, getAt, setAt } from './presetPath';
-import { fieldForIssue, FIELDS, GROUPS, nextSpecies, sliderSpan, speciesFields, type FieldSpec, type GroupId, type ModeMemory, type NumberField } from './fields';
+import { fieldForIssue, GROUPS, nextSpecies, sliderSpan, speciesFields, type FieldSpec, type GroupId, type ModeMemory, type NumberField } from './fields';
+import { panelFields } from './fieldRegistry';
+// Registers the detector and acquisition (ion-load) controls with the panel.
+import './acquisitionFields';
 
 export type EditPhase = 'live' | 'final';
 
@@ -48,7 +51,7 @@ export class ParameterPanel {
   ) {
     this.gui = new GUI({ container: host, injectStyles: false, title: 'Parameters', touchStyles: 0 });
     for (const g of GROUPS) this.folders.set(g.id, this.gui.addFolder(g.title));
-    for (const field of FIELDS) this.bound.set(field.key, this.bind(field, this.folders.get(field.group)!));
+    for (const field of panelFields()) this.bound.set(field.key, this.bind(field, this.folders.get(field.group)!));
     const runFolder = this.folders.get('run')!;
     runFolder
       .add(this.settings, 'liveIons', 100, 50_000, 100)

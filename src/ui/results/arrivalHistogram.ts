@@ -3,7 +3,7 @@
  * not the digitized spectrum (the CLI's --report draws that one), so the page says which it shows.
  */
 import { Fate } from '../../physics/fates';
-import type { RunOutput } from '../../tuning/api';
+import type { RunOutput } from '../../simulation/runContract';
 import type { ReportSeries } from '../../simulation/htmlReport';
 
 /** Most bins (the page thins to its width anyway). */

@@ -6,7 +6,7 @@
  */
 import { fitCalibration, mzFromTime, type CalibrationCoefficients } from '../../analysis/calibration';
 import { Fate } from '../../physics/fates';
-import type { RunOutput } from '../../tuning/api';
+import type { RunOutput } from '../../simulation/runContract';
 import type { SpeciesReport } from '../../simulation/report';
 import { headlineFigures, type HeadlineFigures } from '../../simulation/headline';
 import type { SpectrumPeak, SpectrumRun } from '../charts/spectrumChart';

@@ -30,9 +30,9 @@ import {
 import { OrbitControls } from 'three/addons/controls/OrbitControls.js';
 import { Fate } from '../../physics/fates';
 import { potentialRgb } from '../colors';
-import { MAX_EQUIPOTENTIAL_SEGMENTS } from './equipotentials';
-import { MAX_MIRROR_RINGS, type FrameBox, type SceneLayout } from './layout';
+import { MAX_EQUIPOTENTIAL_SEGMENTS, MAX_MIRROR_RINGS, type FrameBox, type SceneLayout } from '../../simulation/scene/sceneData';
 import { fillPaths, MAX_DRAWN_IONS, positionAt, type DrawnIons } from './paths';
+import { displayLanes, laneShift_mm, type DisplayLanes } from './displayLanes';
 
 const MAX_PATH_VERTICES = 60_000;
 const MAX_PLATES = 4;
@@ -94,6 +94,10 @@ export class AnalyserScene {
   private readonly resizeObserver: ResizeObserver;
   private layout: SceneLayout | null = null;
   private ions: DrawnIons | null = null;
+  /** Linear mode: species fanned out into lanes for display (see displayLanes). */
+  private lanes: DisplayLanes | null = null;
+  /** Which drawn ions take part in one species' fillPaths call (allocated once). */
+  private readonly laneMask = new Uint8Array(MAX_DRAWN_IONS);
   private time_s = 0;
   private playing = false;
   private speed = 1;
@@ -264,7 +268,8 @@ export class AnalyserScene {
     this.ions = ions;
     const pos = this.pathGeometry.getAttribute('position') as BufferAttribute;
     const col = this.pathGeometry.getAttribute('color') as BufferAttribute;
-    const n = fillPaths(ions, this.layout, pos.array as Float32Array, col.array as Float32Array, MAX_PATH_VERTICES);
+    this.lanes = displayLanes(this.layout, ions.speciesCount);
+    const n = this.lanes.spacing_mm > 0 ? this.fillLanes(ions, pos.array as Float32Array, col.array as Float32Array) : fillPaths(ions, this.layout, pos.array as Float32Array, col.array as Float32Array, MAX_PATH_VERTICES);
     pos.needsUpdate = true;
     col.needsUpdate = true;
     this.pathGeometry.setDrawRange(0, n);
@@ -273,6 +278,22 @@ export class AnalyserScene {
     this.updatePackets();
     this.onTime(this.time_s, ions.endTime_s);
     this.requestRender();
+  }
+
+  /** Paths species by species (so each vertex's species is known), each shifted into its display lane. */
+  private fillLanes(ions: DrawnIons, positions: Float32Array, colours: Float32Array): number {
+    const layout = this.layout!;
+    const lanes = this.lanes!;
+    this.laneMask.set(ions.drawPath.subarray(0, ions.count));
+    let v = 0;
+    for (let s = 0; s < ions.speciesCount && v < MAX_PATH_VERTICES; s++) {
+      for (let k = 0; k < ions.count; k++) ions.drawPath[k] = this.laneMask[k] && ions.species[k] === s ? 1 : 0;
+      const written = fillPaths(ions, layout, positions.subarray(3 * v), colours.subarray(3 * v), MAX_PATH_VERTICES - v);
+      for (let i = v; i < v + written; i++) positions[3 * i + 1] += laneShift_mm(lanes, s, positions[3 * i]);
+      v += written;
+    }
+    ions.drawPath.set(this.laneMask.subarray(0, ions.count));
+    return v;
   }
 
   get endTime_s(): number {
@@ -297,6 +318,7 @@ export class AnalyserScene {
     const t = this.time_s;
     for (let k = 0; k < ions.count; k++) {
       positionAt(ions, layout, k, t, this.packetPositions, 3 * k);
+      if (this.lanes) this.packetPositions[3 * k + 1] += laneShift_mm(this.lanes, ions.species[k], this.packetPositions[3 * k]);
       const tr = ions.pool[k];
       const end = tr.count ? tr.t0_s[tr.count - 1] + tr.dt_s[tr.count - 1] : 0;
       // Ions lost before t fade; arrived ones stay bright on the detector.

@@ -1,27 +1,21 @@
 /**
- * The ions drawn in the 3D view: a small sample of the setup's population, each with its exact
- * trajectory (src/physics/trajectory.ts), turned into scene positions (mm) at any time. Trajectory
- * objects come from a pool allocated once; per-frame position updates allocate nothing.
+ * The ions drawn in the 3D view, as the run's worker computed them (RunOutput.scene.paths,
+ * src/simulation/scene/drawnPaths.ts), unpacked into a pool of path records allocated once, and
+ * turned into scene positions (mm) at any time. Nothing here traces an ion; per-frame position
+ * updates allocate nothing.
  */
-import type { CompiledPreset } from '../../presets/compile';
-import { samplePopulation } from '../../ions/population';
-import { createExactPlan, prepareExactPlan } from '../../physics/exactEngine';
 import { Fate } from '../../physics/fates';
-import { createTrajectory, pathEnd_s, Region, segmentAt, traceTrajectory, type Trajectory } from '../../physics/trajectory';
+import type { Trajectory } from '../../physics/trajectory';
+import { MAX_DRAWN_IONS, MAX_PATH_SEGMENTS, PathRegion, type DrawnPaths, type SceneLayout } from '../../simulation/scene/sceneData';
 import { mzRampPositions, rampRgb } from '../colors';
-import type { SceneLayout } from './layout';
 
-/** Ions drawn per species as paths; more per species are animated as packets. */
-export const PATHS_PER_SPECIES = 14;
-export const PACKET_IONS_PER_SPECIES = 160;
-/** Species beyond this many are not drawn (their ions are still simulated and charted). */
-export const MAX_DRAWN_SPECIES = 16;
-export const MAX_DRAWN_IONS = PACKET_IONS_PER_SPECIES * MAX_DRAWN_SPECIES;
+export { MAX_DRAWN_IONS, MAX_DRAWN_SPECIES, PACKET_IONS_PER_SPECIES, PATHS_PER_SPECIES } from '../../simulation/scene/sceneData';
 
 export interface DrawnIons {
   count: number;
   /** Species index of each drawn ion (into the setup's species list). */
   readonly species: Uint16Array;
+  /** Path records; fate and flightTime_s are the run engine's. */
   readonly pool: Trajectory[];
   /** Transverse start (mm) and velocity (mm/s) in scene y and z. */
   readonly y0_mm: Float64Array;
@@ -39,12 +33,29 @@ export interface DrawnIons {
   speciesRamp: number[];
 }
 
+function createPathRecord(): Trajectory {
+  return {
+    count: 0,
+    region: new Uint8Array(MAX_PATH_SEGMENTS),
+    stage: new Uint8Array(MAX_PATH_SEGMENTS),
+    t0_s: new Float64Array(MAX_PATH_SEGMENTS),
+    dt_s: new Float64Array(MAX_PATH_SEGMENTS),
+    x0_m: new Float64Array(MAX_PATH_SEGMENTS),
+    v0_m_per_s: new Float64Array(MAX_PATH_SEGMENTS),
+    a_m_per_s2: new Float64Array(MAX_PATH_SEGMENTS),
+    fate: 0,
+    flightTime_s: 0,
+    sourceExit_s: NaN,
+    driftSpeed_m_per_s: 0,
+  };
+}
+
 export function createDrawnIons(): DrawnIons {
   const n = MAX_DRAWN_IONS;
   return {
     count: 0,
     species: new Uint16Array(n),
-    pool: Array.from({ length: n }, createTrajectory),
+    pool: Array.from({ length: n }, createPathRecord),
     y0_mm: new Float64Array(n),
     z0_mm: new Float64Array(n),
     vy_mm_per_s: new Float64Array(n),
@@ -57,43 +68,58 @@ export function createDrawnIons(): DrawnIons {
   };
 }
 
-const plan = createExactPlan();
 const rgb: [number, number, number] = [0, 0, 0];
 
-/** Sample and trace the drawn ions of a setup (same seed as the run, fewer ions). */
-export function traceDrawnIons(out: DrawnIons, compiled: CompiledPreset): DrawnIons {
-  const species = compiled.population.species.slice(0, MAX_DRAWN_SPECIES);
-  const perSpecies = PACKET_IONS_PER_SPECIES;
-  // Equal numbers per species (abundance would hide minor species in the picture).
-  const ens = samplePopulation({
-    ...compiled.population,
-    species: species.map((s) => ({ ...s, abundance: 1 })),
-    totalIons: perSpecies * species.length,
-  });
-  out.speciesRamp = mzRampPositions(species.map((s) => s.mz));
-  out.speciesCount = species.length;
-  let k = 0;
-  let end = 0;
-  for (let s = 0; s < species.length; s++) {
-    prepareExactPlan(plan, compiled.model, species[s].mz);
-    rampRgb(out.speciesRamp[s], rgb);
-    for (let i = ens.speciesStart[s], n = 0; i < ens.speciesStart[s + 1] && k < MAX_DRAWN_IONS; i++, n++, k++) {
-      const tr = traceTrajectory(out.pool[k], plan, ens.z0_m[i], ens.vz0_m_per_s[i]);
-      out.species[k] = s;
-      out.y0_mm[k] = ens.y0_m[i] * 1e3;
-      out.z0_mm[k] = ens.x0_m[i] * 1e3;
-      out.vy_mm_per_s[k] = ens.vy0_m_per_s[i] * 1e3;
-      out.vz_mm_per_s[k] = ens.vx0_m_per_s[i] * 1e3;
-      out.drawPath[k] = n < PATHS_PER_SPECIES ? 1 : 0;
-      out.colour[3 * k] = rgb[0];
-      out.colour[3 * k + 1] = rgb[1];
-      out.colour[3 * k + 2] = rgb[2];
-      if (tr.fate === Fate.DETECTED) end = Math.max(end, tr.flightTime_s);
+/** Copy the worker's drawn ions into `out` and colour them by m/z. */
+export function unpackDrawnIons(out: DrawnIons, paths: DrawnPaths): DrawnIons {
+  out.speciesRamp = mzRampPositions(paths.speciesMz.slice());
+  out.speciesCount = paths.speciesCount;
+  const n = Math.min(paths.count, MAX_DRAWN_IONS);
+  for (let k = 0; k < n; k++) {
+    const tr = out.pool[k];
+    const first = paths.segmentStart[k];
+    const count = Math.min(paths.segmentStart[k + 1] - first, MAX_PATH_SEGMENTS);
+    tr.count = count;
+    for (let j = 0; j < count; j++) {
+      tr.region[j] = paths.region[first + j];
+      tr.t0_s[j] = paths.t0_s[first + j];
+      tr.dt_s[j] = paths.dt_s[first + j];
+      tr.x0_m[j] = paths.x0_m[first + j];
+      tr.v0_m_per_s[j] = paths.v0_m_per_s[first + j];
+      tr.a_m_per_s2[j] = paths.a_m_per_s2[first + j];
     }
+    tr.fate = paths.fate[k];
+    tr.flightTime_s = paths.flightTime_s[k];
+    tr.sourceExit_s = paths.sourceExit_s[k];
+    tr.driftSpeed_m_per_s = paths.driftSpeed_m_per_s[k];
+    const s = paths.species[k];
+    out.species[k] = s;
+    out.y0_mm[k] = paths.y0_mm[k];
+    out.z0_mm[k] = paths.z0_mm[k];
+    out.vy_mm_per_s[k] = paths.vy_mm_per_s[k];
+    out.vz_mm_per_s[k] = paths.vz_mm_per_s[k];
+    out.drawPath[k] = paths.drawPath[k];
+    rampRgb(out.speciesRamp[s], rgb);
+    out.colour[3 * k] = rgb[0];
+    out.colour[3 * k + 1] = rgb[1];
+    out.colour[3 * k + 2] = rgb[2];
   }
-  out.count = k;
-  out.endTime_s = end > 0 ? end : Math.max(...out.pool.slice(0, k).map(pathEnd_s), 1e-9);
+  out.count = n;
+  out.endTime_s = paths.endTime_s;
   return out;
+}
+
+/** Index of the segment of `tr` covering time t (the last one past the end; −1 before the start or with none). */
+function segmentAt(tr: Trajectory, t: number): number {
+  if (tr.count === 0 || t < tr.t0_s[0]) return -1;
+  let lo = 0;
+  let hi = tr.count - 1;
+  while (lo < hi) {
+    const mid = (lo + hi + 1) >> 1;
+    if (tr.t0_s[mid] <= t) lo = mid;
+    else hi = mid - 1;
+  }
+  return lo;
 }
 
 /** Scene position (mm) of drawn ion k at time t, written into out[offset..offset+2]. Held at the path ends. */
@@ -119,8 +145,8 @@ export function positionAt(ions: DrawnIons, layout: SceneLayout, k: number, t: n
 
 /** Points per segment: straight field-free legs need two, curved ones more. */
 function samplesFor(region: number): number {
-  if (region === Region.DRIFT || region === Region.RETURN) return 2;
-  if (region === Region.MIRROR_IN || region === Region.MIRROR_OUT) return 14;
+  if (region === PathRegion.DRIFT || region === PathRegion.RETURN) return 2;
+  if (region === PathRegion.MIRROR_IN || region === PathRegion.MIRROR_OUT) return 14;
   return 6;
 }
 

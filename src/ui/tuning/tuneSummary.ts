@@ -6,6 +6,7 @@
  */
 import type { Objective, TuneResult } from '../../tuning/api';
 import { describeFigure } from '../../tuning/tuneVerdict';
+import { transmissionFindings } from '../../tuning/transmissionConstraint';
 import { el } from '../dom';
 import { fixed, formatR } from '../format';
 
@@ -15,8 +16,11 @@ export interface TuneSummary {
   readonly verdict: string | null;
   readonly recommendedHeading: string;
   readonly parameters: readonly { readonly label: string; readonly preset: string; readonly start: string; readonly recommended: string; readonly flat: string }[];
-  readonly species: readonly { readonly label: string; readonly preset: string; readonly start: string; readonly recommended: string }[];
+  readonly species: readonly { readonly label: string; readonly preset: string; readonly start: string; readonly recommended: string; readonly floor: string }[];
   readonly startSource: string | null;
+  /** The constraint in words, and a refusal or the binding species named (empty when neither). */
+  readonly constraint: string | null;
+  readonly transmissionFindings: readonly string[];
 }
 
 export function tuneSummary(result: TuneResult, parameters: readonly { readonly path: string; readonly label: string }[], objective: Objective): TuneSummary {
@@ -52,8 +56,11 @@ export function tuneSummary(result: TuneResult, parameters: readonly { readonly 
       preset: pct(result.presetSpecies?.[k]?.transmission),
       start: pct(result.startSpecies?.[k]?.transmission),
       recommended: pct(s.transmission),
+      floor: result.transmissionFloors?.[k] ? pct(result.transmissionFloors[k]) : '—',
     })),
     startSource: result.startSource?.length ? `Start: ${result.startSource.join('; ')}` : null,
+    constraint: result.transmissionConstraint ? `Transmission constraint: ${result.transmissionConstraint}.` : null,
+    transmissionFindings: transmissionFindings({ violated: result.transmissionViolated ?? [], binding: result.transmissionBinding ?? null }),
   };
 }
 
@@ -63,6 +70,7 @@ export function tuneSummaryNodes(summary: TuneSummary): HTMLElement[] {
   return [
     el('p', { text: summary.objectiveLine }),
     ...(summary.verdict ? [el('p', { className: 'tune-verdict', text: summary.verdict })] : []),
+    ...summary.transmissionFindings.map((text) => el('p', { className: 'tune-verdict', 'data-testid': 'tune-transmission', text })),
     el('p', { className: 'hint', text: summary.figure }),
     el(
       'table',
@@ -73,9 +81,10 @@ export function tuneSummaryNodes(summary: TuneSummary): HTMLElement[] {
     el(
       'table',
       { className: 'data-table', 'aria-label': 'Transmission per species' },
-      head('transmission', 'preset', 'start', summary.recommendedHeading),
-      el('tbody', {}, ...summary.species.map((s) => row(s.label, s.preset, s.start, s.recommended))),
+      head('transmission', 'preset', 'start', summary.recommendedHeading, 'floor'),
+      el('tbody', {}, ...summary.species.map((s) => row(s.label, s.preset, s.start, s.recommended, s.floor))),
     ),
+    ...(summary.constraint ? [el('p', { className: 'hint', text: summary.constraint })] : []),
     ...(summary.startSource ? [el('p', { className: 'hint', text: summary.startSource })] : []),
   ];
 }

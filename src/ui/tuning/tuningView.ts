@@ -19,6 +19,7 @@ import { formatR } from '../format';
 import { FIELDS, type NumberField } from '../panel/fields';
 import { cloneJson, getAt, setAt } from '../panel/presetPath';
 import { isCancelled } from '../engine/engineClient';
+import { DEFAULT_TRANSMISSION_SHARE } from '../../tuning/transmissionConstraint';
 
 const TUNABLE_GROUPS = new Set(['source', 'timing', 'drift', 'mirror', 'detector']);
 
@@ -75,6 +76,8 @@ export class TuningView {
   private readonly tuneStart = byId<HTMLButtonElement>('btn-tune');
   private readonly tuneCancel = byId<HTMLButtonElement>('btn-tune-cancel');
   private readonly tuneApply = byId<HTMLButtonElement>('btn-tune-apply');
+  private readonly tuneTransmissionKind = byId<HTMLSelectElement>('tune-transmission-kind');
+  private readonly tuneTransmissionPct = byId<HTMLInputElement>('tune-transmission-pct');
   private readonly chartHost = byId('scan-chart');
   private chart: uPlot | null = null;
   private scanResult: { result: ScanResult; path: string; label: string; base: Preset; targetMz: number } | null = null;
@@ -100,6 +103,11 @@ export class TuningView {
     this.tuneApply.addEventListener('click', () => this.applyTuned());
     for (const radio of document.querySelectorAll<HTMLInputElement>('input[name="scan-y"]')) radio.addEventListener('change', () => this.drawScan());
     byId<HTMLInputElement>('scan-log').addEventListener('change', () => this.drawScan());
+    // One default everywhere: the tuning API's (each species keeps 99 % of its current transmission).
+    this.tuneTransmissionPct.value = String(DEFAULT_TRANSMISSION_SHARE * 100);
+    this.tuneTransmissionKind.addEventListener('change', () => {
+      if (this.tuneTransmissionKind.value === 'share') this.tuneTransmissionPct.value = String(DEFAULT_TRANSMISSION_SHARE * 100);
+    });
     this.tuneObjective.addEventListener('change', () => (this.tuneSpecies.disabled = this.tuneObjective.value === 'max-min-r-over-range'));
   }
 
@@ -114,7 +122,7 @@ export class TuningView {
     if (!this.busy) this.fillScanRange();
     for (const select of [this.scanSpecies, this.tuneSpecies]) {
       const keep = select.value;
-      select.replaceChildren(...preset.ions.species.map((s) => el('option', { value: String(s.mz), text: `${s.label ?? 'm/z'} (${s.mz})` })));
+      select.replaceChildren(...preset.ions.species.map((s) => el('option', { value: String(s.mz), text: `${s.label ?? 'm/z'} (${s.mz.toFixed(4)})` })));
       const middle = preset.ions.species[Math.floor((preset.ions.species.length - 1) / 2)];
       select.value = preset.ions.species.some((s) => String(s.mz) === keep) ? keep : String(middle.mz);
     }
@@ -315,7 +323,11 @@ export class TuningView {
       objectiveName === 'max-min-r-over-range'
         ? { name: objectiveName, range: [Math.min(...mzs), Math.max(...mzs)] as [number, number] }
         : { name: objectiveName, targetMz: Number(this.tuneSpecies.value) };
-    const minTransmission = Number(byId<HTMLInputElement>('tune-min-transmission').value);
+    const transmission = this.transmissionConstraint();
+    if (typeof transmission === 'string') {
+      this.tuneResultBox.textContent = transmission;
+      return;
+    }
     const ions = Math.round(Number(byId<HTMLInputElement>('tune-ions').value));
     this.setBusy('tune');
     this.tuneApply.disabled = true;
@@ -327,7 +339,7 @@ export class TuningView {
           preset,
           parameters: parameters.map(({ path, min, max }) => ({ path, min, max })),
           objective,
-          minTransmission: Number.isFinite(minTransmission) ? minTransmission : undefined,
+          ...transmission,
           ions: ions >= 100 ? ions : undefined,
         },
         (p) => {
@@ -345,6 +357,16 @@ export class TuningView {
     } finally {
       if (this.busy === 'tune') this.setBusy(null);
     }
+  }
+
+  /** The transmission constraint asked for, as request fields; a one-line message when the value is out of range. */
+  private transmissionConstraint(): { keepTransmission: number } | { minTransmission: number } | string {
+    const input = this.tuneTransmissionPct;
+    const pct = input.value.trim() === '' ? NaN : Number(input.value);
+    const ok = pct >= 0 && pct <= 100;
+    input.classList.toggle('invalid', !ok);
+    if (!ok) return `Transmission each species keeps: must be a percentage from 0 to 100 (got "${input.value}").`;
+    return this.tuneTransmissionKind.value === 'floor' ? { minTransmission: pct / 100 } : { keepTransmission: pct / 100 };
   }
 
   private renderTune(result: TuneResult, parameters: readonly { path: string; label: string }[], objective: Objective): void {
@@ -369,7 +391,7 @@ export class TuningView {
           criterion: result.criterion ?? 'ideal',
           parameters: asked.parameters.map((p, i) => ({ ...p, before: getAt(this.app.working(), p.path) as number, applied: result.best[i] })),
           result: result.objective,
-          note: `auto-tune, ${result.evaluations} evaluations; start: ${(result.startSource ?? []).join('; ') || 'current settings'}`,
+          note: `auto-tune, ${result.evaluations} evaluations; start: ${(result.startSource ?? []).join('; ') || 'current settings'}${result.transmissionConstraint ? `; transmission: ${result.transmissionConstraint}` : ''}`,
         })
       : checked.value;
     this.app.loadSetup(recorded, { recordId: this.app.recordId(), state: 'dirty' });

@@ -1,12 +1,12 @@
 import { describe, expect, it } from 'vitest';
-import { ATOMIC_MASS_CONSTANT_KG, ELEMENTARY_CHARGE_C } from '../../src/physics/constants';
-import { createExactPlan, prepareExactPlan } from '../../src/physics/exactEngine';
-import { Fate } from '../../src/physics/fates';
-import { createTrajectory, Region, traceTrajectory } from '../../src/physics/trajectory';
-import { compilePreset } from '../../src/presets/compile';
-import { validatePreset } from '../../src/presets/load';
-import { drawableModel, PROFILE_SLABS, profilePotential_V } from '../../src/ui/scene/drawableModel';
-import { demoPreset } from './helpers';
+import { ATOMIC_MASS_CONSTANT_KG, ELEMENTARY_CHARGE_C } from '../../../src/physics/constants';
+import { createExactPlan, prepareExactPlan } from '../../../src/physics/exactEngine';
+import { Fate } from '../../../src/physics/fates';
+import { createTrajectory, Region, traceTrajectory } from '../../../src/physics/trajectory';
+import { compilePreset } from '../../../src/presets/compile';
+import { validatePreset } from '../../../src/presets/load';
+import { drawableModel, PROFILE_SLABS, profilePotential_V } from '../../../src/simulation/scene/drawableModel';
+import { demoPreset } from '../../ui/helpers';
 
 function harmonicSetup(backPlate_V: number, depth_mm: number) {
   const doc = structuredClone(demoPreset('demo-reflectron-single')) as unknown as Record<string, unknown>;

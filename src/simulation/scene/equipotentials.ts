@@ -1,19 +1,16 @@
 /**
  * Equipotential lines of solved-field regions in the 3D view's cut plane (z = 0 of the scene):
  * contours of the superposed potential (src/fields/contours.ts), drawn on both sides of the axis at
- * true scale: a solved mirror with its entry plane at the layout's mirror entrance, a solved source
+ * true scale (computed in the worker as part of a run): a solved mirror with its entry plane at the layout's mirror entrance, a solved source
  * with the repeller face at the scene origin. The contour buffer is
  * allocated once; the scene owns the vertex buffer it is copied into.
  */
 import { createContourBuffer, evenLevels, extractContours } from '../../fields/contours';
 import type { FieldMap } from '../../fields/interpolate';
 import type { AnalyserModel } from '../../physics/analyser';
-import type { SceneLayout } from './layout';
+import { EQUIPOTENTIAL_LEVELS, MAX_EQUIPOTENTIAL_SEGMENTS, type SceneLayout } from './sceneData';
 
-/** Most contour segments drawn (each drawn twice, above and below the axis). */
-export const MAX_EQUIPOTENTIAL_SEGMENTS = 40_000;
-/** Lines per solved region, evenly spaced between its lowest and highest potential. */
-export const EQUIPOTENTIAL_LEVELS = 24;
+export { EQUIPOTENTIAL_LEVELS, MAX_EQUIPOTENTIAL_SEGMENTS } from './sceneData';
 
 const contours = createContourBuffer(MAX_EQUIPOTENTIAL_SEGMENTS);
 const levels = new Float64Array(EQUIPOTENTIAL_LEVELS);

@@ -1,5 +1,6 @@
 /**
- * Where every electrode of the analyser sits in the 3D view, from the compiled model, in mm.
+ * Where every electrode of the analyser sits in the 3D view, from the compiled model, in mm; built in
+ * the worker as part of a run (RunRequest.scene, ./runScene.ts).
  * Scene axes: x along the flight axis (the folded analyser frame of src/physics/trajectory.ts,
  * repeller at x = 0), y across it in the plane of a reflectron's fold, z the other transverse axis.
  * Axial positions and lengths are to scale. In reflectron mode the way out is tilted a little in y
@@ -11,45 +12,10 @@ import { sourceDepth_m } from '../../physics/analyser';
 import { createExactPlan, prepareExactPlan } from '../../physics/exactEngine';
 import { Fate } from '../../physics/fates';
 import { createTrajectory, traceTrajectory } from '../../physics/trajectory';
+import { MAX_MIRROR_RINGS, type ElectrodeShape, type FrameBox, type SceneLayout } from './sceneData';
 
-export type ElectrodeKind = 'plate' | 'grid' | 'ring' | 'tube' | 'detector';
-
-export interface ElectrodeShape {
-  readonly kind: ElectrodeKind;
-  /** Centre along the axis (mm); for rings and tubes the middle of their length. */
-  readonly x_mm: number;
-  /** Centre across the axis in the fold plane (mm). */
-  readonly y_mm: number;
-  /** Axial length for rings and tubes; thickness for plates (mm). */
-  readonly length_mm: number;
-  readonly radius_mm: number;
-  /** Potential after extraction (V), for colouring; NaN for the detector. */
-  readonly potential_V: number;
-  readonly label: string;
-}
-
-export interface FrameBox {
-  readonly centre: readonly [number, number, number];
-  /** Half extents (mm). */
-  readonly half: readonly [number, number, number];
-}
-
-export interface SceneLayout {
-  readonly electrodes: readonly ElectrodeShape[];
-  readonly reflectron: boolean;
-  /** Lateral drift of a path per mm flown after the source (y = slope · v_drift · (t − t_exit)); 0 in linear mode. */
-  readonly slope: number;
-  readonly sourceDepth_mm: number;
-  readonly mirrorEntrance_mm: number;
-  readonly detector: { readonly x_mm: number; readonly y_mm: number; readonly radius_mm: number };
-  /** Species lanes along z, so overlapping paths of different m/z stay visible (mm between lanes). */
-  readonly laneSpacing_mm: number;
-  readonly largestPotential_V: number;
-  readonly frames: { readonly all: FrameBox; readonly source: FrameBox; readonly far: FrameBox };
-}
-
-/** Most rings drawn for a mirror (pool size in the scene). */
-export const MAX_MIRROR_RINGS = 40;
+export type { ElectrodeKind, ElectrodeShape, FrameBox, SceneLayout } from './sceneData';
+export { MAX_MIRROR_RINGS } from './sceneData';
 
 /** Penetration depth (m) of an ion that enters the mirror with kinetic energy eK (K in volts, sign-corrected). */
 export function mirrorPenetration_m(model: AnalyserModel, kineticVolts: number): number {

@@ -1,12 +1,12 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { compilePreset } from '../../src/presets/compile';
-import { validatePreset } from '../../src/presets/load';
-import { drawableModel, PROFILE_SLABS, solvedMirrorDepth_m } from '../../src/ui/scene/drawableModel';
-import { EQUIPOTENTIAL_LEVELS, MAX_EQUIPOTENTIAL_SEGMENTS, fillEquipotentials } from '../../src/ui/scene/equipotentials';
-import { buildLayout } from '../../src/ui/scene/layout';
+import { compilePreset } from '../../../src/presets/compile';
+import { validatePreset } from '../../../src/presets/load';
+import { drawableModel, PROFILE_SLABS, solvedMirrorDepth_m } from '../../../src/simulation/scene/drawableModel';
+import { EQUIPOTENTIAL_LEVELS, MAX_EQUIPOTENTIAL_SEGMENTS, fillEquipotentials } from '../../../src/simulation/scene/equipotentials';
+import { buildLayout } from '../../../src/simulation/scene/layout';
 
-const doc = JSON.parse(readFileSync(new URL('../../presets/demo-gridless-mirror.json', import.meta.url), 'utf8'));
+const doc = JSON.parse(readFileSync(new URL('../../../presets/demo-gridless-mirror.json', import.meta.url), 'utf8'));
 
 describe('solved mirror in the 3D view', () => {
   const checked = validatePreset(doc);

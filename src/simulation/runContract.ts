@@ -1,0 +1,42 @@
+/**
+ * The contract of one run, as the engine worker (workers/engine.worker.ts) answers it and as the CLI
+ * and the tuning service call it in-process (src/simulation/runOutput.ts). Presets cross this
+ * boundary as validated `Preset` objects (plain JSON data); results carry typed arrays that the
+ * worker transfers rather than copies.
+ */
+import type { FocusScan } from '../analysis/focusScan';
+import type { Preset } from '../presets/schema';
+import type { RunReport } from './report';
+import type { RunScene, SceneRequest } from './scene/sceneData';
+
+export interface RunRequest {
+  readonly preset: Preset;
+  /** Override of the preset's ion count (e.g. a light rerun while a slider is dragged). */
+  readonly ions?: number;
+  readonly seed?: number;
+  /** Build the spectrum, peak, calibration and focus sections (default true); off for quick previews. */
+  readonly analysis?: boolean;
+  /** Also count the ions that cross the extraction grid during the delay (src/simulation/pulseReach.ts). */
+  readonly pulseReach?: boolean;
+  /** Also scan m/z for the start-energy focus (src/analysis/focusScan.ts). */
+  readonly focusScan?: boolean;
+  /** Also compute what the 3D view draws: layout, equipotentials and drawn ions traced with the run's engine. */
+  readonly scene?: SceneRequest;
+}
+
+export interface RunOutput {
+  readonly report: RunReport;
+  /** Per-ion flight times (s) and fate codes, same order as the ensemble (species blocks). */
+  readonly flightTime_s: Float64Array;
+  readonly fate: Uint8Array;
+  /** Ion index boundaries per reported species (all of its isotope peaks), length species + 1. */
+  readonly speciesStart: Int32Array;
+  /** Wall-clock time the run took inside the engine (ms), for the app's status line. */
+  readonly elapsed_ms: number;
+  /** When asked for (RunRequest.pulseReach): ions in the source at the pulse, and those past its first stage. */
+  readonly pulseReach?: { readonly inSource: number; readonly pastFirstStage: number };
+  /** When asked for (RunRequest.focusScan). */
+  readonly focusScan?: FocusScan;
+  /** When asked for (RunRequest.scene). */
+  readonly scene?: RunScene;
+}

@@ -1,0 +1,78 @@
+/**
+ * Runs of the working setup: at most one in flight; a newer request replaces a queued one. While a
+ * control is dragged the setup runs with few ions and no simulated digitizer ('live'); when the
+ * change is finished it runs in full ('final'). The status becomes 'done' once the last run is drawn.
+ */
+import type { Preset } from '../../presets/schema';
+import type { RunOutput } from '../../simulation/runContract';
+import { isCancelled, type EngineClient } from '../engine/engineClient';
+import type { EditPhase } from '../panel/parameterPanel';
+import { currentStatus, setStatus } from './status';
+
+export interface RunJob {
+  /** Runs requested before the parameters last became invalid are not drawn. */
+  readonly generation: number;
+  readonly preset: Preset;
+  readonly ions: number;
+  readonly kind: EditPhase;
+  /** When the change that caused this run was made (performance.now()). */
+  readonly requestedAt: number;
+}
+
+/** While dragging: no simulated digitizer (its spectrum per species costs most of a run). */
+export function previewOf(preset: Preset): Preset {
+  const { acquisition: _skipped, ...rest } = preset;
+  return rest;
+}
+
+export class RunQueue {
+  private inFlight: RunJob | null = null;
+  private queued: RunJob | null = null;
+  private generation = 0;
+
+  constructor(
+    private readonly engine: EngineClient,
+    private readonly render: (job: RunJob, output: RunOutput) => void,
+    private readonly onFailure: (message: string) => void,
+  ) {}
+
+  /** Queue a run of `working`; `liveIons` caps the ions of a live run. */
+  request(working: Preset, kind: EditPhase, liveIons: number): void {
+    const ions = kind === 'live' ? Math.min(liveIons, working.run.ions) : working.run.ions;
+    const preset = kind === 'live' ? previewOf(working) : working;
+    const job: RunJob = { generation: this.generation, preset, ions, kind, requestedAt: performance.now() };
+    setStatus('running');
+    if (this.inFlight) {
+      this.queued = job;
+      return;
+    }
+    void this.start(job);
+  }
+
+  /** The parameters became invalid: drop the queued run and do not draw the one in flight. */
+  invalidate(): void {
+    this.queued = null;
+    this.generation++;
+  }
+
+  private async start(job: RunJob): Promise<void> {
+    this.inFlight = job;
+    try {
+      // The worker also computes what the 3D view draws, and the focus scan for full runs.
+      const output = await this.engine.run({ preset: job.preset, ions: job.ions, seed: job.preset.run.seed, scene: {}, focusScan: job.kind === 'final' });
+      if (job.generation === this.generation) this.render(job, output);
+    } catch (err) {
+      if (!isCancelled(err)) {
+        setStatus('error');
+        this.onFailure(`Run failed: ${(err as Error).message}`);
+        this.inFlight = null;
+        return;
+      }
+    }
+    this.inFlight = null;
+    const next = this.queued;
+    this.queued = null;
+    if (next) void this.start(next);
+    else if (currentStatus() === 'running') setStatus('done');
+  }
+}

@@ -1,0 +1,109 @@
+/**
+ * Drawing one finished run: peak table, fates, summary line, spectrum (with the peak zoom), the 3D
+ * view from the scene the worker computed, its legend, the focus notes, and the timing figures the
+ * browser benchmark reads. Keeps the run last shown, for the downloads.
+ */
+import type { Preset } from '../../presets/schema';
+import type { RunOutput } from '../../simulation/runContract';
+import type { SpectrumChart } from '../charts/spectrumChart';
+import { speciesColours } from '../colors';
+import { byId, el } from '../dom';
+import { formatCount } from '../format';
+import { focusLines, focusSummary } from '../results/focusSummary';
+import { paintSwatches, renderFates, renderPeakTable, runSummary } from '../results/resultsView';
+import { renderFragmentTable } from '../results/fragmentTable';
+import { buildRunView, type RunView } from '../results/runView';
+import type { AnalyserScene } from '../scene/analyserScene';
+import { createDrawnIons, unpackDrawnIons } from '../scene/paths';
+import type { RunJob } from './runQueue';
+
+export interface ShownRun {
+  readonly job: RunJob;
+  readonly output: RunOutput;
+  readonly view: RunView;
+}
+
+export class RunRenderer {
+  shown: ShownRun | null = null;
+  private readonly drawn = createDrawnIons();
+  private readonly resultsTable = byId<HTMLTableElement>('results-table');
+  private readonly legend = byId('scene-legend');
+  private readonly statusLine = byId('status-line');
+
+  constructor(
+    private readonly spectrum: SpectrumChart,
+    private readonly scene: AnalyserScene | null,
+    private readonly zoomSelect: HTMLSelectElement,
+  ) {}
+
+  render(job: RunJob, output: RunOutput): void {
+    const renderStart = performance.now();
+    const report = output.report;
+    const colours = speciesColours(report.species.map((s) => s.mz));
+    const view = buildRunView(output, colours, job.preset.acquisition?.sampleInterval_ns ?? null);
+    renderPeakTable(this.resultsTable, view.rows, view.calibrationNote, view.calibrationFreedom);
+    renderFates(byId('fate-list'), report.fates, report.ions);
+    renderFragmentTable(byId('fragment-results'), report);
+    byId('run-summary').textContent = runSummary(report, output.elapsed_ms) + (job.kind === 'live' ? ' (quick preview)' : '');
+    this.spectrum.setRun(view.spectrum);
+    this.refreshZoomChoices(report.species.map((s) => s.label));
+
+    const scene = output.scene;
+    if (this.scene && scene) {
+      const equipotentials = scene.equipotentials;
+      this.scene.setLayout(scene.layout);
+      this.scene.setEquipotentials((buffer) => {
+        buffer.set(equipotentials.subarray(0, Math.min(equipotentials.length, buffer.length)));
+        return Math.floor(Math.min(equipotentials.length, buffer.length) / 3);
+      });
+      this.scene.setIons(unpackDrawnIons(this.drawn, scene.paths));
+    }
+    this.renderLegend(job.preset, colours, report.species.map((s) => s.label), scene?.approximations ?? []);
+    if (job.kind === 'final' && output.focusScan) {
+      const focus = focusSummary(output.focusScan, report);
+      byId('focus-text').replaceChildren(...focusLines(focus).flatMap((line, i) => (i ? [el('br'), line] : [line])));
+    }
+    this.shown = { job, output, view };
+    const latency = performance.now() - job.requestedAt;
+    if (job.kind === 'final') {
+      // Figures for the benchmark in the browser tests: whole latency, engine share, drawing share.
+      document.body.dataset.lastUpdateMs = latency.toFixed(1);
+      document.body.dataset.lastEngineMs = output.elapsed_ms.toFixed(1);
+      document.body.dataset.lastRenderMs = (performance.now() - renderStart).toFixed(1);
+    }
+    this.statusLine.textContent = `${formatCount(job.ions)} ions · engine ${output.elapsed_ms.toFixed(0)} ms · shown ${latency.toFixed(0)} ms after the change`;
+  }
+
+  /** Zoom to the chosen peak again after the axis changed. */
+  rezoom(): void {
+    if (this.zoomSelect.value !== '') this.spectrum.zoomToSpecies(Number(this.zoomSelect.value));
+  }
+
+  private refreshZoomChoices(labels: string[]): void {
+    const zoomSelect = this.zoomSelect;
+    if (zoomSelect.options.length !== labels.length + 1 || Array.from(zoomSelect.options).slice(1).some((o, i) => o.textContent !== labels[i])) {
+      const keep = zoomSelect.value;
+      zoomSelect.replaceChildren(el('option', { value: '', text: 'all peaks' }), ...labels.map((label, i) => el('option', { value: String(i), text: label })));
+      zoomSelect.value = Number(keep) < labels.length ? keep : '';
+    }
+    this.rezoom();
+  }
+
+  private renderLegend(preset: Preset, colours: string[], labels: string[], approximations: readonly string[]): void {
+    const items = labels.slice(0, 16).map((label, i) =>
+      el('li', {}, el('span', { className: 'swatch', 'data-colour': colours[i] }), `${label} · m/z ${preset.ions.species[i]?.mz.toFixed(4) ?? ''}`),
+    );
+    this.legend.replaceChildren(
+      el('ul', { 'aria-label': 'Ion species by m/z' }, ...items),
+      el(
+        'p',
+        { className: 'legend-note' },
+        'Axial positions to scale; species in separate lanes.',
+        preset.mirror.type === 'none' ? ' Species fanned out across the tube after the source, for display only (they share one path).' : ' Return leg tilted for display.',
+        ' Electrodes: blue −, grey 0, amber + potential.',
+        approximations.length ? ` Drawing only: ${approximations.join('; ')}.` : '',
+      ),
+    );
+    paintSwatches(this.legend);
+  }
+}
