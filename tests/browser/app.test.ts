@@ -107,6 +107,13 @@ describe('browser app', () => {
     expect(await page.locator('.lil-controller.is-invalid').count()).toBe(0);
   });
 
+  it('a typed value keeps every digit (the slider step rounds dragging only)', async () => {
+    await setControl('extraction delay (ns)', '262.2413452345');
+    const doc = JSON.parse(await exportText()) as { source: { extraction: { delay_ns: number } } };
+    expect(doc.source.extraction.delay_ns).toBe(262.2413452345);
+    await setControl('extraction delay (ns)', '260');
+  });
+
   it('measures the time from a finished change to updated charts (2·10^4 ions, demo preset)', async () => {
     const times: number[] = [];
     const engine: number[] = [];
