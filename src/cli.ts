@@ -18,6 +18,7 @@ import { compareWithIdeal, formatIdealComparison } from './simulation/idealCompa
 import { isMeasuredCommand, MEASURED_USAGE, runMeasuredCommand } from './cli/measuredCommand';
 import { isToleranceCommand, runToleranceCommand, TOLERANCE_USAGE, type ToleranceCliOptions } from './cli/toleranceCommand';
 import { formatMirrorMap } from './physics/solvedMirrorMap';
+import { FRAGMENT_USAGE, formatFragmentTable, isSteppingCommand, runSteppingCommand } from './cli/fragmentCommand';
 import { applyIonLoadArgs, formatIonLoad, ION_LOAD_USAGE, takeIonLoadArg, type IonLoadArgs } from './cli/ionLoadArgs';
 
 export const USAGE = `Usage: npm run sim -- <preset.json> [--json | --csv] [--ions N] [--seed S]
@@ -38,7 +39,8 @@ ${ION_LOAD_USAGE}
 ${TUNING_USAGE}
 
 ${MEASURED_USAGE}
-${TOLERANCE_USAGE}`;
+${TOLERANCE_USAGE}
+${FRAGMENT_USAGE}`;
 
 export interface CliArgs {
   presetPath: string;
@@ -130,6 +132,7 @@ export function main(argv: readonly string[], io: CliIo = processIo, options: Tu
   if (isMeasuredCommand(argv) && !argv.includes('--help')) return runMeasuredCommand(argv, io, (rest, plainIo) => main(rest, plainIo, options));
   if (isToleranceCommand(argv) && !argv.includes('--help')) return runToleranceCommand(argv, io, options);
   if (isTuningCommand(argv)) return runTuningCommand(argv, io, options);
+  if (isSteppingCommand(argv) && !argv.includes('--help')) return runSteppingCommand(argv, io);
   const parsed = parseArgs(argv);
   if (!parsed.ok) {
     if (parsed.help) {
@@ -202,6 +205,7 @@ export function main(argv: readonly string[], io: CliIo = processIo, options: Tu
     if (comparison) io.err(formatIdealComparison(comparison)); // keeps stdout a clean CSV
   } else {
     io.out(formatTable(preset, result));
+    if (result.fragments) io.out(formatFragmentTable(result.fragments.report));
     if (result.report.solvedMirrorMap) io.out(formatMirrorMap(result.report.solvedMirrorMap));
     if (comparison) io.out(formatIdealComparison(comparison));
     if (result.ionLoad) io.out(formatIonLoad(result.ionLoad));

@@ -13,6 +13,12 @@ export const Fate = {
   STRUCK_ELECTRODE: 7,
   INTEGRATION_FAILED: 8,
   TIMED_OUT: 9,
+  /** The precursor fell apart in flight; its products are traced as fragments (src/physics/fragments). */
+  DECAYED: 10,
+  /** A neutral fragment with no detector on its straight path (it passed the mirror, none behind it). */
+  NEUTRAL_LOST: 11,
+  /** Passed the mirror's back plate and reached the linear detector behind the mirror. */
+  DETECTED_BEHIND_MIRROR: 12,
 } as const;
 
 export type FateCode = (typeof Fate)[keyof typeof Fate];
@@ -29,6 +35,9 @@ export const FATE_KEYS = [
   'struckElectrode',
   'integrationFailed',
   'timedOut',
+  'decayed',
+  'neutralLost',
+  'detectedBehindMirror',
 ] as const;
 
 export type FateKey = (typeof FATE_KEYS)[number];
@@ -45,6 +54,9 @@ export const FATE_DESCRIPTIONS: Record<FateKey, string> = {
   struckElectrode: 'struck an electrode',
   integrationFailed: 'numerical integration failed',
   timedOut: 'still in flight at the time limit',
+  decayed: 'decayed in flight (its fragments are reported per decay channel)',
+  neutralLost: 'neutral fragment: flew straight on, no detector on its path',
+  detectedBehindMirror: 'passed the mirror and reached the linear detector behind it',
 };
 
 export type FateCounts = Record<FateKey, number>;

@@ -13,6 +13,7 @@ import type { SolvedSourceModel } from '../physics/solvedSource';
 import type { PresetIssue } from './issues';
 import { isotopeBlocks, resolveChemistry } from './speciesChemistry';
 import { checkIonLoad } from './ionLoadChecks';
+import { checkFragments } from './compileFragments';
 import type { Preset } from './schema';
 import { checkTolerances } from '../tolerance/checks';
 
@@ -81,6 +82,7 @@ export function checkPreset(preset: Preset): PresetIssue[] {
     issues.push({ path: 'ions.species', message: 'at least one species needs an abundance > 0' });
   }
   issues.push(...checkIonLoad(preset));
+  issues.push(...checkFragments(preset));
   return issues;
 }
 

@@ -10,6 +10,7 @@ import { methodRecordSchema } from './methodRecordSchema';
 import { solvedMirrorSchema, solvedSourceSchema } from './fieldsSchema';
 import { tolerancesSchema } from './toleranceSchema';
 import { ionLoadSchema } from './ionLoadSchema';
+import { behindMirrorDetectorSchema, decaySchema } from './fragmentSchema';
 
 // Zod compiles validators with `new Function` unless told not to; the app runs under a CSP without eval.
 z.config({ jitless: true });
@@ -186,6 +187,8 @@ const detectorSchema = z.strictObject({
   /** Centre of the active area relative to the flight axis (x is the orthogonal-injection direction). */
   offsetX_mm: ranged(LIMITS.detectorOffset_mm, 'mm').default(0),
   offsetY_mm: ranged(LIMITS.detectorOffset_mm, 'mm').default(0),
+  /** Reflectron mode: a linear detector behind the mirror for what passes the back plate (src/presets/fragmentSchema.ts). */
+  behindMirror: behindMirrorDetectorSchema.optional(),
 });
 
 /**
@@ -203,6 +206,8 @@ const speciesSchema = z
     isotopes: z.enum(['envelope', 'monoisotopic']).optional(),
     charge: rangedInt(LIMITS.charge, '(charge state, sign from polarity)'),
     abundance: ranged(LIMITS.abundance, '(relative)').default(1),
+    /** Metastable decay in flight: law and channels (src/presets/fragmentSchema.ts). */
+    decay: decaySchema.optional(),
   })
   .transform((s, ctx) => {
     if (s.formula === undefined) {
@@ -219,6 +224,7 @@ const speciesSchema = z
       ...(s.isotopes === undefined ? {} : { isotopes: s.isotopes }),
       charge: s.charge,
       abundance: s.abundance,
+      ...(s.decay === undefined ? {} : { decay: s.decay }),
     };
   });
 

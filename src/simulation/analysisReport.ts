@@ -170,9 +170,11 @@ export function buildAnalysisSections(
   ens: Ensemble,
   trace: TraceResult,
   meanFlightTime_s: readonly (number | null)[],
-  options: { readonly withSpectrum?: boolean; readonly peaksOnly?: boolean } = {},
+  options: { readonly withSpectrum?: boolean; readonly peaksOnly?: boolean; readonly spectrumTrace?: TraceResult } = {},
 ): AnalysisSections {
-  const settings = acquisitionSettings(preset, trace);
+  // The full spectrum also records what else reached the detector (fragment ions: src/simulation/fragmentReport.ts).
+  const recorded = options.spectrumTrace ?? trace;
+  const settings = acquisitionSettings(preset, recorded);
   const speciesPeaks: (SpectrumPeakReport | null)[] = ens.species.map(() => null);
   if (settings) {
     for (let s = 0; s < ens.species.length; s++) {
@@ -194,7 +196,7 @@ export function buildAnalysisSections(
 
   let spectrum: SpectrumSection | null = null;
   if (settings && options.withSpectrum) {
-    const full = buildSpectrum({ arrival_s: trace.flightTime_s, fate: trace.fate, weight: trace.weight }, settings);
+    const full = buildSpectrum({ arrival_s: recorded.flightTime_s, fate: recorded.fate, weight: recorded.weight }, settings);
     const coeffs = calibration && 'coefficients' in calibration ? toSeconds(calibration.coefficients) : null;
     spectrum = {
       sampleInterval_ns: settings.sampleInterval_s * 1e9,

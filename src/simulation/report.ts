@@ -9,6 +9,7 @@ import { sToNs } from '../physics/units';
 import type { Ensemble, TraceResult } from '../ions/ensemble';
 import type { AnalysisSections, SpectrumPeakReport } from './analysisReport';
 import type { IonLoadReport } from './ionLoad';
+import type { FragmentChannelReport } from './fragmentReport';
 
 export interface SpeciesReport {
   readonly label: string;
@@ -45,6 +46,8 @@ export interface SpeciesReport {
   readonly isotopeShiftTotals: IsotopeShiftTotal[];
   /** Index of the ensemble block (isotope peak) whose figures the species reports. */
   readonly mainBlock: number;
+  /** Per decay channel of a species with a preset `decay` section (src/simulation/fragmentReport.ts); absent otherwise. */
+  readonly fragments?: FragmentChannelReport[];
 }
 
 export interface IsotopePeakReport {

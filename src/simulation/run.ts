@@ -12,6 +12,10 @@ import { traceMixed } from '../physics/tracer';
 import { attachAnalysis, buildReport, type RunReport } from './report';
 import { buildAnalysisSections, type AnalysisSections } from './analysisReport';
 import { ionLoadSections, traceIonLoad, type IonLoadReport } from './ionLoad';
+import { compileFragments } from '../presets/compileFragments';
+import type { FragmentModel } from '../physics/fragments/decayModel';
+import { traceFragments, type FragmentTrace } from '../physics/fragments/traceFragments';
+import { buildFragmentReports, withProducts, type SpeciesFragmentReport } from './fragmentReport';
 
 export interface RunOptions {
   /** Override the preset's ion count. */
@@ -36,6 +40,8 @@ export interface SimulationResult {
   readonly analysis: AnalysisSections;
   /** Shots, detector modes and space charge (preset section `ionLoad`); null without it. */
   readonly ionLoad: IonLoadReport | null;
+  /** Decay in flight (preset species' `decay`): the model, the traced products and their report; null without decays. */
+  readonly fragments: { readonly model: FragmentModel; readonly trace: FragmentTrace; readonly report: SpeciesFragmentReport[] } | null;
 }
 
 export function simulate(preset: Preset, options: RunOptions = {}): SimulationResult {
@@ -54,6 +60,9 @@ export function simulate(preset: Preset, options: RunOptions = {}): SimulationRe
   applyDetectorPlane(compiled.model, ensemble, trace);
   // With space charge on, the ions are retraced shot by shot (the headline then includes it).
   const load = traceIonLoad(preset, compiled.model, ensemble, trace, population.seed);
+  // Metastable decay: precursors that fall apart become DECAYED, their products are traced on.
+  const fragmentModel = compileFragments(preset, ensemble.species);
+  const fragmentTrace = fragmentModel ? traceFragments(compiled.model, fragmentModel, ensemble, trace, population.seed) : null;
   const report = buildReport(ensemble, trace);
   const analysis =
     options.analysis === false
@@ -65,10 +74,28 @@ export function simulate(preset: Preset, options: RunOptions = {}): SimulationRe
           ensemble,
           trace,
           report.species.map((s) => (s.flightTime_ns === null ? null : s.flightTime_ns * 1e-9)),
-          { withSpectrum: options.withSpectrum, peaksOnly: options.analysis === 'peaks' },
+          { withSpectrum: options.withSpectrum, peaksOnly: options.analysis === 'peaks', ...(fragmentTrace ? { spectrumTrace: withProducts(trace, fragmentTrace) } : {}) },
         );
   const ionLoad = load && options.analysis !== false ? ionLoadSections(preset, compiled.model, ensemble, trace, load, population.seed) : null;
-  return { compiled: { ...compiled, population }, ensemble, trace, report: { ...attachAnalysis(report, analysis), ...(ionLoad ? { ionLoad } : {}), ...(mirrorMap ? { solvedMirrorMap: mirrorMap } : {}) }, analysis, ionLoad };
+  const analysed = { ...attachAnalysis(report, analysis), ...(ionLoad ? { ionLoad } : {}), ...(mirrorMap ? { solvedMirrorMap: mirrorMap } : {}) };
+  const fragmentReport = fragmentModel && fragmentTrace ? buildFragmentReports(preset, fragmentModel, fragmentTrace, ensemble, analysed) : null;
+  const withFragments = fragmentReport
+    ? { ...analysed, species: analysed.species.map((s, k) => ({ ...s, ...withChannels(fragmentReport, k) })) }
+    : analysed;
+  return {
+    compiled: { ...compiled, population },
+    ensemble,
+    trace,
+    report: withFragments,
+    analysis,
+    ionLoad,
+    fragments: fragmentModel && fragmentTrace && fragmentReport ? { model: fragmentModel, trace: fragmentTrace, report: fragmentReport } : null,
+  };
+}
+
+function withChannels(reports: readonly SpeciesFragmentReport[], species: number) {
+  const own = reports.find((r) => r.species === species);
+  return own ? { fragments: own.channels } : {};
 }
 
 function noAnalysis(ensemble: Ensemble): AnalysisSections {

@@ -11,6 +11,7 @@ import { byId, el } from '../dom';
 import { formatCount } from '../format';
 import { focusLines, focusSummary } from '../results/focusSummary';
 import { paintSwatches, renderFates, renderPeakTable, runSummary } from '../results/resultsView';
+import { renderFragmentTable } from '../results/fragmentTable';
 import { buildRunView, type RunView } from '../results/runView';
 import type { AnalyserScene } from '../scene/analyserScene';
 import { createDrawnIons, unpackDrawnIons } from '../scene/paths';
@@ -42,6 +43,7 @@ export class RunRenderer {
     const view = buildRunView(output, colours, job.preset.acquisition?.sampleInterval_ns ?? null);
     renderPeakTable(this.resultsTable, view.rows, view.calibrationNote, view.calibrationFreedom);
     renderFates(byId('fate-list'), report.fates, report.ions);
+    renderFragmentTable(byId('fragment-results'), report);
     byId('run-summary').textContent = runSummary(report, output.elapsed_ms) + (job.kind === 'live' ? ' (quick preview)' : '');
     this.spectrum.setRun(view.spectrum);
     this.refreshZoomChoices(report.species.map((s) => s.label));

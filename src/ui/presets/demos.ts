@@ -9,12 +9,14 @@ import demoDual from '../../../presets/demo-reflectron-dual.json';
 import demoIsotopes from '../../../presets/demo-peptide-isotopes.json';
 import demoGridless from '../../../presets/demo-gridless-mirror.json';
 import demoAperture from '../../../presets/demo-aperture-source.json';
+import demoFragmentsReflectron from '../../../presets/demo-fragments-reflectron.json';
+import demoFragmentsLinear from '../../../presets/demo-fragments-linear.json';
 import { validatePreset } from '../../presets/load';
 import { formatIssues } from '../../presets/issues';
 import type { Preset } from '../../presets/schema';
 
 export interface Demo {
-  readonly id: 'linear' | 'single' | 'dual' | 'isotopes' | 'gridless' | 'aperture';
+  readonly id: 'linear' | 'single' | 'dual' | 'isotopes' | 'gridless' | 'aperture' | 'fragmentsReflectron' | 'fragmentsLinear';
   readonly preset: Preset;
 }
 
@@ -35,6 +37,8 @@ export function demos(): Demo[] {
     { id: 'isotopes', preset: checked(demoIsotopes, 'isotopes') },
     { id: 'gridless', preset: checked(demoGridless, 'gridless') },
     { id: 'aperture', preset: checked(demoAperture, 'aperture') },
+    { id: 'fragmentsReflectron', preset: checked(demoFragmentsReflectron, 'fragmentsReflectron') },
+    { id: 'fragmentsLinear', preset: checked(demoFragmentsLinear, 'fragmentsLinear') },
   ];
   return cache;
 }
