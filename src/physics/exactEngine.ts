@@ -13,7 +13,7 @@ import { extract, fieldFree, holdUntil, postGap, stageMirror } from './regions/c
 import { Section, createIonState as createRegionIonState, type AxialState, type IonState as RegionIonState } from './regions/contract';
 import { PlanKernels, flySections, traceEnsemble } from './regions/driver';
 import { SolvedFieldTracer } from './regions/solvedTracer';
-import { transverse } from './solvedMirror';
+import { loadWithTransverse, transverse } from './solvedMirror';
 import { legacyTally } from './regions/legacyTally';
 import { createFlightPlan, preparePlanForMz, type FlightPlan } from './regions/plan';
 import { createMotion } from './uniformField';
@@ -88,16 +88,7 @@ const full = createRegionIonState();
  * alone; the transverse state is the compatibility record of src/physics/solvedMirror.ts.
  */
 export function traceOneExact(st: IonState, plan: ExactPlan): void {
-  full.t = st.t;
-  full.z = st.z;
-  full.v = st.v;
-  full.fate = st.fate;
-  full.w = st.w;
-  full.tRef = transverse.tRef;
-  full.xRef = transverse.xRef;
-  full.yRef = transverse.yRef;
-  full.vxRef = transverse.vxRef;
-  full.vyRef = transverse.vyRef;
+  loadWithTransverse(full, st, st.z);
   flySections(planKernels.for(plan), full, plan, Section.SOURCE, plan.maxFlightTime_s, null);
   st.t = full.t;
   st.z = full.z;

@@ -5,7 +5,7 @@
  * In the engine the transverse state travels in each ion's IonState; the driver hands it to this
  * record and back around each pass of the map, and nothing else in the engine reads it.
  */
-import { createIonState, type AxialState } from './regions/contract';
+import { createIonState, type AxialState, type IonState } from './regions/contract';
 import type { FlightPlan } from './regions/plan';
 import { crossSolvedMirror, type SolvedMirrorModel } from './regions/solvedKernels';
 import { SolvedFieldTracer, createSolvedIonState } from './regions/solvedTracer';
@@ -29,6 +29,20 @@ export interface TransverseRecord {
 }
 
 export const transverse: TransverseRecord = { x0: 0, y0: 0, vx0: 0, vy0: 0, tRef: 0, xRef: 0, yRef: 0, vxRef: 0, vyRef: 0 };
+
+/** A full IonState from an axial state and the compatibility transverse record (for the wrappers' single-ion calls). */
+export function loadWithTransverse(full: IonState, st: AxialState, z: number): void {
+  full.t = st.t;
+  full.z = z;
+  full.v = st.v;
+  full.fate = st.fate;
+  full.w = st.w;
+  full.tRef = transverse.tRef;
+  full.xRef = transverse.xRef;
+  full.yRef = transverse.yRef;
+  full.vxRef = transverse.vxRef;
+  full.vyRef = transverse.vyRef;
+}
 
 /** The ion left a solved region: its straight transverse motion continues from this state. */
 export function leftSolvedRegion(ion: { readonly t: number; readonly x: number; readonly y: number; readonly vx: number; readonly vy: number }): void {
@@ -66,16 +80,7 @@ const full = createIonState();
  * when the ion does not come back out.
  */
 export function mirrorSolved(st: AxialState, plan: FlightPlan, mirror: SolvedMirrorModel, tLimit_s: number): boolean {
-  full.t = st.t;
-  full.z = 0;
-  full.v = st.v;
-  full.fate = st.fate;
-  full.w = st.w;
-  full.tRef = transverse.tRef;
-  full.xRef = transverse.xRef;
-  full.yRef = transverse.yRef;
-  full.vxRef = transverse.vxRef;
-  full.vyRef = transverse.vyRef;
+  loadWithTransverse(full, st, 0);
   const exit = crossSolvedMirror(full, plan, mirror, tLimit_s, tracer, ion);
   st.t = full.t;
   st.v = full.v;
