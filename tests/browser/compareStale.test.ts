@@ -3,22 +3,11 @@
  * comparison marks it stale, and a tuned delay shows with six significant digits on screen.
  */
 import { readFileSync } from 'node:fs';
-import type { Browser, Locator, Page } from 'playwright-core';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { buildAndServe, launchChromium, waitDone, type AppServer } from './harness';
+import type { Locator, Page } from 'playwright-core';
+import { describe, expect, it } from 'vitest';
+import { serveAppForSuite, waitDone } from './harness';
 
-let server: AppServer;
-let browser: Browser;
-
-beforeAll(async () => {
-  server = await buildAndServe();
-  browser = await launchChromium();
-}, 180_000);
-
-afterAll(async () => {
-  await browser?.close();
-  await server?.close();
-});
+const app = serveAppForSuite();
 
 const control = (page: Page, label: string): Locator =>
   page.locator('.lil-controller:visible', { has: page.locator('.lil-name', { hasText: label }) }).locator('input').first();
@@ -31,9 +20,9 @@ async function compareNow(page: Page): Promise<void> {
 
 describe('Compare', () => {
   it('marks its results stale when a changed setting is refused, and when the setup changes; shows delays with sensible digits', async () => {
-    const context = await browser.newContext({ viewport: { width: 1600, height: 1000 } });
+    const context = await app.browser.newContext({ viewport: { width: 1600, height: 1000 } });
     const page = await context.newPage();
-    await page.goto(server.url);
+    await page.goto(app.server.url);
     await waitDone(page);
     // A delay with many digits, as a tune leaves it, imported as a preset file.
     const doc = JSON.parse(readFileSync(new URL('../../presets/demo-linear-delayed.json', import.meta.url), 'utf8'));

@@ -8,6 +8,7 @@ import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { chromium, type Browser, type ConsoleMessage, type Page } from 'playwright-core';
 import { build, preview, type PreviewServer } from 'vite';
+import { afterAll, beforeAll } from 'vitest';
 
 export const CHROMIUM = '/usr/bin/chromium';
 const ROOT = fileURLToPath(new URL('../..', import.meta.url));
@@ -56,4 +57,33 @@ export async function waitDone(page: Page, timeout = 30_000): Promise<void> {
 /** Text of the results table body, one line per row. */
 export async function resultRows(page: Page): Promise<string[]> {
   return page.$$eval('[data-testid="results-table"] tbody tr', (rows) => rows.map((r) => (r as HTMLElement).innerText.replace(/\s+/g, ' ').trim()));
+}
+
+/** The app built and served, and Chromium launched, once for a test file (closed after it). */
+export interface SuiteApp {
+  readonly server: AppServer;
+  readonly browser: Browser;
+}
+
+/** Register the file's beforeAll/afterAll that build, serve and launch; read the fields inside tests. */
+export function serveAppForSuite(): SuiteApp {
+  const app: { server?: AppServer; browser?: Browser } = {};
+  beforeAll(async () => {
+    app.server = await buildAndServe();
+    app.browser = await launchChromium();
+  }, 180_000);
+  afterAll(async () => {
+    await app.browser?.close();
+    await app.server?.close();
+  });
+  return {
+    get server(): AppServer {
+      if (!app.server) throw new Error('the app server is not up (serveAppForSuite must be called at file level)');
+      return app.server;
+    },
+    get browser(): Browser {
+      if (!app.browser) throw new Error('Chromium is not launched (serveAppForSuite must be called at file level)');
+      return app.browser;
+    },
+  };
 }

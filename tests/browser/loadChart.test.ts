@@ -3,22 +3,11 @@
  * charge in the panel, set the ions per shot, refuse a bad value with the usual outline, compute the
  * curve in its worker and read a value from its table; cancel stops it at once.
  */
-import type { Browser, Locator, Page } from 'playwright-core';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { buildAndServe, collectErrors, launchChromium, waitDone, type AppServer } from './harness';
+import type { Locator, Page } from 'playwright-core';
+import { describe, expect, it } from 'vitest';
+import { collectErrors, serveAppForSuite, waitDone } from './harness';
 
-let server: AppServer;
-let browser: Browser;
-
-beforeAll(async () => {
-  server = await buildAndServe();
-  browser = await launchChromium();
-}, 180_000);
-
-afterAll(async () => {
-  await browser?.close();
-  await server?.close();
-});
+const app = serveAppForSuite();
 
 const controller = (page: Page, label: string): Locator => page.locator('.lil-controller:visible', { has: page.locator('.lil-name', { hasText: label }) }).first();
 
@@ -30,10 +19,10 @@ async function typeInto(page: Page, label: string, value: string): Promise<void>
 
 describe('ion load in the app', () => {
   it('sets ions per shot in the panel, draws R against the load and reads a value', async () => {
-    const context = await browser.newContext({ viewport: { width: 1600, height: 1000 } });
+    const context = await app.browser.newContext({ viewport: { width: 1600, height: 1000 } });
     const page = await context.newPage();
     const errors = collectErrors(page);
-    await page.goto(server.url);
+    await page.goto(app.server.url);
     await waitDone(page);
     await controller(page, 'ion load per shot').locator('input').check();
     await waitDone(page);
