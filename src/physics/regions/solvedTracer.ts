@@ -92,6 +92,9 @@ class RegionForce implements SpaceForce, TraceContext {
   farZ_m = 0;
   voltages = new Float64Array(8);
   careful = false;
+  /** Path length a step may always take near metal (region.maxStepLength_m), and the speed bound inside. */
+  thinnest_m = 0;
+  vMax_m_per_s = 0;
 
   acceleration(at: Float64Array, out: Float64Array): void {
     const t = at[0];
@@ -124,6 +127,17 @@ class RegionForce implements SpaceForce, TraceContext {
   /** Goes negative on a strike, or on leaving the corridor (see guard()). */
   guard(at: Float64Array): number {
     return guard(this, Math.sqrt(at[1] * at[1] + at[2] * at[2]), at[3]);
+  }
+
+  /**
+   * Outside the corridor the guard is the clearance to the nearest metal or the wall. No path
+   * shorter than that clearance can touch metal, so the step may fly it at the fastest possible
+   * speed; never less than the thinnest electrode's path (the earlier fixed cap, under which no
+   * electrode can be jumped over between two checks). Inside the corridor steps are free.
+   */
+  stepCapAt(guard: number): number {
+    if (!this.careful) return Infinity;
+    return (guard > this.thinnest_m ? guard : this.thinnest_m) / this.vMax_m_per_s;
   }
 }
 
@@ -251,7 +265,8 @@ export class SolvedFieldTracer {
     const energy0 = ion.vx * ion.vx + ion.vy * ion.vy + ion.vz * ion.vz + 2 * qOverM * sample.potential_V;
     // Fastest possible speed inside (energy conservation) → time for the longest allowed step path.
     const vMax = Math.sqrt(ion.vx * ion.vx + ion.vy * ion.vy + ion.vz * ion.vz + 2 * Math.abs(qOverM) * region.potentialSpan_V);
-    const cappedStep = vMax > 0 ? region.maxStepLength_m / vMax : Infinity;
+    context.thinnest_m = region.maxStepLength_m;
+    context.vMax_m_per_s = vMax;
     // First step: half a mesh cell at the fastest possible speed. A function of this ion only (not of
     // the previous one), so that a result never depends on the order in which ions are traced.
     const firstStep = vMax > 0 ? (0.5 * Math.min(region.map.mesh.hr_m, region.map.mesh.hz_m)) / vMax : 0;
@@ -263,8 +278,8 @@ export class SolvedFieldTracer {
       y0[3] = ion.vx;
       y0[4] = ion.vy;
       y0[5] = ion.vz;
-      options.maxStep = context.careful ? cappedStep : Infinity;
-      options.firstStep = Math.min(firstStep, tLimit_s - ion.t, options.maxStep);
+      options.maxStep = Infinity; // the force caps each step (stepCapAt) once the ion is outside the corridor
+      options.firstStep = Math.min(firstStep, tLimit_s - ion.t);
       solveSpace(this.workspace, context, ion.t, y0, tLimit_s, context.entryZ_m, context.farZ_m, options, result);
       const counters = this.counters;
       if (counters !== null) {
