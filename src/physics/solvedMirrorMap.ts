@@ -30,20 +30,23 @@
  * radius (the rays that strike it graze its edge). Ions outside are traced directly.
  *
  * Measured (bench/fieldTraceBench.ts, loaded machine) on the gridless demo's own population at
- * 2·10^4 ions: 79 % mapped, 1.8–2.0× the direct run's speed, flight-time error 2.6e-7 rms of the
- * time inside against 2.7e-7 for the direct trace. The ions left to the tracer (aperture edge,
- * energy tails) are the costliest ones (2.5× the average field evaluations), which bounds the gain.
+ * 2·10^4 ions: 79 % mapped, 2.7× the direct run's speed per CPU second, flight-time error 2.6e-7
+ * rms of the time inside against 2.7e-7 for the direct trace. The ions left to the tracer (training
+ * rays, aperture edge, energy tails, large angles, strikes) bound the gain. Tried and left: the
+ * domain widened (quantile 0.01, aperture margin 0.9) maps 84 %, but its mapped ions near the edges
+ * raised the flight-time error of the test's 6000-ion run to 5.9e-7 rms.
  * Earlier form (one map for all species from the run's first ions, FINE training, a per-ray
  * direction limit of 5e-6, (P, D) invariants): on the retuned demo its rays struck the aperture or
  * its exit direction missed the limit (~5e-5; the demo's paths come near the aperture edge, where
  * the transfer is strongly non-linear), and it declined every ion.
  */
 import { createFieldSample, sampleField } from '../fields/interpolate';
-import { solveLeastSquares } from '../fields/leastSquares';
-import { SolvedExit, SolvedPrecision, createSolvedIonState, traceSolvedRegion, type SolvedRegion } from './regions/solvedTracer';
-import type { ExactPlan, IonState } from './exactEngine';
-import { Fate } from './fates';
-import { leftSolvedRegion, transverse, transverseX, transverseY, type SolvedMirrorModel } from './solvedMirror';
+import { solveLeastSquares, solveLeastSquaresMany } from '../fields/leastSquares';
+import { Exit, Fate, type RegionExit } from './fates';
+import { transverseXAt, transverseYAt, type IonState } from './regions/contract';
+import type { FlightPlan } from './regions/plan';
+import { leftSolvedRegion, type MirrorMap, type SolvedMirrorModel } from './regions/solvedKernels';
+import { SolvedFieldTracer, SolvedPrecision, createSolvedIonState, type SolvedIonState, type SolvedRegion } from './regions/solvedTracer';
 
 /** Training rays per species: a share of the run, within these bounds. */
 export const TRAIN_RAYS_MIN = 400;
@@ -156,13 +159,6 @@ export interface MirrorMapReport {
   species: SpeciesMapReport[];
 }
 
-const ion = createSolvedIonState();
-const sample = createFieldSample();
-const inp: MapInput = { e: 0, a: 0, b: 0, c: 0, px: 0, py: 0, dx: 0, dy: 0 };
-const timeRow = new Float64Array(TIME_TERMS);
-const linRow = new Float64Array(LINEAR_TERMS);
-const out2 = new Float64Array(2);
-const dir2 = new Float64Array(2);
 
 /** The nearest entrance aperture of a region: radius and far face (mesh z), or null. */
 function entranceAperture(region: SolvedRegion): { radius_m: number; farZ_m: number } | null {
@@ -201,18 +197,34 @@ class SpeciesMap {
   }
 }
 
-/** The map of one run's solved mirror: feed it every ion that reaches the mirror, in order. */
-export class SolvedMirrorMapper {
+/**
+ * The map of one run's solved mirror: feed it every ion that reaches the mirror, in order. It
+ * reads and writes the ion's transverse state in its IonState, as the traced kernel does, and
+ * owns its scratch (nothing is shared between runs).
+ */
+export class SolvedMirrorMapper implements MirrorMap {
+  private readonly ion = createSolvedIonState();
+  private readonly sample = createFieldSample();
+  private readonly inp: MapInput = { e: 0, a: 0, b: 0, c: 0, px: 0, py: 0, dx: 0, dy: 0 };
+  private readonly timeRow = new Float64Array(TIME_TERMS);
+  /** The linear basis at the current input, and the map's exit position and direction there (set by inDomain). */
+  private readonly linRow = new Float64Array(LINEAR_TERMS);
+  private readonly out2 = new Float64Array(2);
+  private readonly dir2 = new Float64Array(2);
   private readonly maps: SpeciesMap[] = [];
   private current: SpeciesMap | null = null;
   readonly report: MirrorMapReport = { mapped: 0, traced: 0, note: '', species: [] };
   private readonly trainRays: number;
   private readonly aperture: { radius_m: number; farZ_m: number } | null;
 
-  /** `ions`: how many ions the run will bring to the mirror (sets the number of training rays). */
+  /**
+   * `ions`: how many ions the run will bring to the mirror (sets the number of training rays);
+   * `tracer`: the run's tracer, for the ions the map does not carry (its counters get their effort).
+   */
   constructor(
     private readonly mirror: SolvedMirrorModel,
     ions: number,
+    private readonly tracer: SolvedFieldTracer = new SolvedFieldTracer(null),
   ) {
     this.trainRays = Math.round(Math.min(TRAIN_RAYS_MAX, Math.max(TRAIN_RAYS_MIN, TRAIN_SHARE * ions)));
     this.aperture = entranceAperture(mirror.region);
@@ -230,16 +242,21 @@ export class SolvedMirrorMapper {
     return m;
   }
 
-  /** Through the mirror as solvedMirror.mirrorSolved, by the map where it holds. */
-  pass(st: IonState, plan: ExactPlan, tLimit_s: number): boolean {
+  /**
+   * Through the mirror from its entry plane (st: time, speed v > 0 and the transverse state), by
+   * the map where it holds; false with the fate set when the ion does not come back out.
+   */
+  passIon(st: IonState, plan: FlightPlan, tLimit_s: number): boolean {
     const region = this.mirror.region;
+    const ion = this.ion;
     ion.t = st.t;
-    ion.x = transverseX(st.t);
-    ion.y = transverseY(st.t);
+    ion.x = transverseXAt(st, st.t);
+    ion.y = transverseYAt(st, st.t);
     ion.z = region.entryZ_m;
-    ion.vx = transverse.vxRef;
-    ion.vy = transverse.vyRef;
+    ion.vx = st.vxRef;
+    ion.vy = st.vyRef;
     ion.vz = st.v;
+    ion.struckElectrode = -1;
     const k = plan.qOverM;
     const m = this.speciesMap(k);
     const speed = Math.sqrt(ion.vx * ion.vx + ion.vy * ion.vy + ion.vz * ion.vz);
@@ -258,18 +275,18 @@ export class SolvedMirrorMapper {
     const training = m.state === State.TRAINING;
     const validating = m.state === State.VALIDATING && inside;
     const t0 = ion.t;
-    const exit = traceSolvedRegion(ion, region, k, tLimit_s, validating ? SolvedPrecision.FINE : SolvedPrecision.NORMAL);
+    const exit = this.tracer.trace(ion, region, k, tLimit_s, validating ? SolvedPrecision.FINE : SolvedPrecision.NORMAL);
     m.report.traced++;
     this.report.traced++;
     if (training && usable) {
       // A training ray that does not come back (a strike) only narrows nothing: it is simply not fitted.
-      if (exit === SolvedExit.ENTRY) m.rays.push({ x: x0, y: y0, dx: dx0, dy: dy0, U, scaledTime: (ion.t - t0) * Math.sqrt(k), xOut: ion.x, yOut: ion.y, dxOut: ion.vx / speed, dyOut: ion.vy / speed });
+      if (exit === Exit.ENTRY) m.rays.push({ x: x0, y: y0, dx: dx0, dy: dy0, U, scaledTime: (ion.t - t0) * Math.sqrt(k), xOut: ion.x, yOut: ion.y, dxOut: ion.vx / speed, dyOut: ion.vy / speed });
       if (m.report.traced >= this.trainRays) this.fit(m);
     } else if (validating) {
-      if (exit !== SolvedExit.ENTRY) this.giveUp(m, 'a validation ray inside the fitted domain did not come back out of the mirror');
+      if (exit !== Exit.ENTRY) this.giveUp(m, 'a validation ray inside the fitted domain did not come back out of the mirror');
       else this.validate(m, (ion.t - t0) * Math.sqrt(k), ion.x, ion.y, ion.vx / speed, ion.vy / speed);
     }
-    return finish(st, exit);
+    return finish(st, ion, exit);
   }
 
   private giveUp(m: SpeciesMap, note: string): void {
@@ -282,9 +299,9 @@ export class SolvedMirrorMapper {
   private validate(m: SpeciesMap, scaledTime: number, xOut: number, yOut: number, dxOut: number, dyOut: number): void {
     const time = this.scaledTime(m);
     const rel = Math.abs(time - scaledTime) / scaledTime;
-    this.transverseOut(m, m.posCoef, out2);
+    const out2 = this.out2;
+    const dir2 = this.dir2;
     const pos2 = (out2[0] - xOut) ** 2 + (out2[1] - yOut) ** 2;
-    this.transverseOut(m, m.dirCoef, dir2);
     const d2 = (dir2[0] - dxOut) ** 2 + (dir2[1] - dyOut) ** 2;
     m.sumTime2 += rel * rel;
     m.maxTime = Math.max(m.maxTime, rel);
@@ -306,6 +323,7 @@ export class SolvedMirrorMapper {
 
   /** Set the normalised map input; false when the entry lies outside the map's domain. */
   private setInput(m: SpeciesMap, x: number, y: number, dx: number, dy: number, U: number): boolean {
+    const inp = this.inp;
     inp.e = (U - m.uMid) / m.uHalf;
     inp.px = (x - m.virtualSource_m * dx) / m.rMax;
     inp.py = (y - m.virtualSource_m * dy) / m.rMax;
@@ -317,25 +335,36 @@ export class SolvedMirrorMapper {
     return inp.e >= m.eLo && inp.e <= m.eHi && inp.a <= m.aHi && inp.c <= m.cHi;
   }
 
-  /** Inside the fitted range, and clear of the entrance aperture's edge on the way in and (predicted) out. */
+  /**
+   * Inside the fitted range, and clear of the entrance aperture's edge on the way in and
+   * (predicted) out. When inside, the map's exit position and direction are in out2 and dir2.
+   */
   private inDomain(m: SpeciesMap, x: number, y: number, dx: number, dy: number, U: number): boolean {
     if (!this.setInput(m, x, y, dx, dy, U)) return false;
+    basis(LINEAR_BASIS, this.inp, this.linRow);
+    const out2 = this.out2;
+    const dir2 = this.dir2;
+    this.transverseOut(m.posCoef, out2);
+    this.transverseOut(m.dirCoef, dir2);
     const ap = this.aperture;
     if (ap === null) return true;
     const limit = APERTURE_MARGIN * ap.radius_m;
     const depth = ap.farZ_m - this.mirror.region.entryZ_m;
     const sIn = depth / Math.sqrt(Math.max(1 - dx * dx - dy * dy, 1e-12));
-    if (!(Math.hypot(x + dx * sIn, y + dy * sIn) <= limit)) return false;
-    this.transverseOut(m, m.posCoef, out2);
-    this.transverseOut(m, m.dirCoef, dir2);
+    const xIn = x + dx * sIn;
+    const yIn = y + dy * sIn;
+    if (!(xIn * xIn + yIn * yIn <= limit * limit)) return false;
     const sOut = depth / Math.sqrt(Math.max(1 - dir2[0] * dir2[0] - dir2[1] * dir2[1], 1e-12));
-    return Math.hypot(out2[0] - dir2[0] * sOut, out2[1] - dir2[1] * sOut) <= limit;
+    const xOut = out2[0] - dir2[0] * sOut;
+    const yOut = out2[1] - dir2[1] * sOut;
+    return xOut * xOut + yOut * yOut <= limit * limit;
   }
 
   private setDomain(m: SpeciesMap): void {
     const es: number[] = [];
     const as: number[] = [];
     const cs: number[] = [];
+    const inp = this.inp;
     for (const r of m.rays) {
       this.setInput(m, r.x, r.y, r.dx, r.dy, r.U);
       es.push(inp.e);
@@ -388,6 +417,9 @@ export class SolvedMirrorMapper {
     const dir = new Float64Array(2 * n);
     let timeScale = 0;
     for (const r of rays) timeScale += r.scaledTime / n;
+    const inp = this.inp;
+    const timeRow = this.timeRow;
+    const linRow = this.linRow;
     rays.forEach((r, i) => {
       this.setInput(m, r.x, r.y, r.dx, r.dy, r.U);
       basis(TIME_BASIS, inp, timeRow);
@@ -406,13 +438,11 @@ export class SolvedMirrorMapper {
       dir[2 * i] = r.dxOut;
       dir[2 * i + 1] = r.dyOut;
     });
-    const A3 = A2.slice();
     const timeCoef = solveLeastSquares(A, n, TIME_TERMS, rhs, 1e-6);
     for (let k = 0; k < TIME_TERMS; k++) timeCoef[k] *= timeScale;
     timeCoef[0] += timeScale; // the basis' first term is the constant 1
     m.timeCoef = timeCoef;
-    m.posCoef = solveLeastSquares(A2, 2 * n, 2 * LINEAR_TERMS, pos, 1e-6);
-    m.dirCoef = solveLeastSquares(A3, 2 * n, 2 * LINEAR_TERMS, dir, 1e-6);
+    [m.posCoef, m.dirCoef] = solveLeastSquaresMany(A2, 2 * n, 2 * LINEAR_TERMS, [pos, dir], 1e-6);
     this.setDomain(m);
     m.rays.length = 0;
     m.state = State.VALIDATING;
@@ -420,15 +450,17 @@ export class SolvedMirrorMapper {
 
   /** Scaled time at the current input. */
   private scaledTime(m: SpeciesMap): number {
-    basis(TIME_BASIS, inp, timeRow);
+    const timeRow = this.timeRow;
+    basis(TIME_BASIS, this.inp, timeRow);
     let t = 0;
     for (let k = 0; k < TIME_TERMS; k++) t += m.timeCoef[k] * timeRow[k];
     return t;
   }
 
-  /** A·g + B·h at the current input, in metres (positions) or direction cosines, into `out`. */
-  private transverseOut(m: SpeciesMap, coef: Float64Array, out: Float64Array): void {
-    basis(LINEAR_BASIS, inp, linRow);
+  /** A·g + B·h at the current input (linear basis in linRow), in metres (positions) or direction cosines, into `out`. */
+  private transverseOut(coef: Float64Array, out: Float64Array): void {
+    const linRow = this.linRow;
+    const inp = this.inp;
     let g = 0;
     let h = 0;
     for (let k = 0; k < LINEAR_TERMS; k++) {
@@ -442,11 +474,13 @@ export class SolvedMirrorMapper {
   /** The map at the current input (set by inDomain, which also left the exit state in out2, dir2). */
   private applyMap(m: SpeciesMap, st: IonState, k: number, speed: number, tLimit_s: number): boolean {
     const region = this.mirror.region;
+    const ion = this.ion;
+    const sample = this.sample;
+    const out2 = this.out2;
+    const dir2 = this.dir2;
     const x = ion.x;
     const y = ion.y;
     ion.t = st.t + this.scaledTime(m) / Math.sqrt(k);
-    this.transverseOut(m, m.posCoef, out2);
-    this.transverseOut(m, m.dirCoef, dir2);
     const xOut = out2[0];
     const yOut = out2[1];
     // Exit speed from energy conservation between the entry and exit points on the entry plane.
@@ -460,25 +494,25 @@ export class SolvedMirrorMapper {
     ion.vx = speedOut * dir2[0];
     ion.vy = speedOut * dir2[1];
     ion.vz = -Math.sqrt(Math.max(speedOut * speedOut - ion.vx * ion.vx - ion.vy * ion.vy, 0));
-    return finish(st, ion.t <= tLimit_s ? SolvedExit.ENTRY : SolvedExit.TIME_LIMIT);
+    return finish(st, ion, ion.t <= tLimit_s ? Exit.ENTRY : Exit.PAUSED);
   }
 }
 
-/** The ion left the mirror (or did not): as solvedMirror.mirrorSolved. */
-function finish(st: IonState, exit: number): boolean {
+/** The ion left the mirror (or did not), as the traced kernel (solvedKernels.crossSolvedMirror) reports it. */
+function finish(st: IonState, ion: SolvedIonState, exit: RegionExit): boolean {
   st.t = ion.t;
-  leftSolvedRegion(ion);
+  leftSolvedRegion(st, ion);
   switch (exit) {
-    case SolvedExit.ENTRY:
+    case Exit.ENTRY:
       st.v = -ion.vz;
       return true;
-    case SolvedExit.STRUCK:
+    case Fate.STRUCK_ELECTRODE:
       st.fate = Fate.STRUCK_ELECTRODE;
       return false;
-    case SolvedExit.FAR:
+    case Exit.FAR:
       st.fate = Fate.PASSED_THROUGH_MIRROR;
       return false;
-    case SolvedExit.FAILED:
+    case Fate.INTEGRATION_FAILED:
       st.fate = Fate.INTEGRATION_FAILED;
       return false;
     default:

@@ -3,7 +3,8 @@ import { describe, expect, it } from 'vitest';
 import type { ElectrodeSpec } from '../../src/fields/electrodes';
 import type { FieldMesh, MeshSpec } from '../../src/fields/mesh';
 import { meshFromSpecs } from '../../src/fields/rasterize';
-import { SolvedExit, createSolvedIonState, makeSolvedRegion, traceSolvedRegion, type SolvedRegion } from '../../src/physics/regions/solvedTracer';
+import { SolvedExit, SolvedFieldTracer, createSolvedIonState, makeSolvedRegion, traceSolvedRegion, type SolvedRegion } from '../../src/physics/regions/solvedTracer';
+import { createTraceCounters } from '../../src/physics/regions/contract';
 import { solveUnitFields, superpose } from '../../src/fields/unitSolutions';
 import { chargeToMass_C_per_kg } from '../../src/physics/constants';
 import { createExactPlan, createIonState, mirrorExact } from '../../src/physics/exactEngine';
@@ -134,5 +135,40 @@ describe('electrode strikes', () => {
     expect(traceSolvedRegion(steep, region, k, 1)).toBe(SolvedExit.STRUCK);
     expect(Math.hypot(steep.x, steep.y)).toBeGreaterThan(16 * mm - 1e-6);
     expect(Fate.STRUCK_ELECTRODE).toBe(7);
+  });
+});
+
+describe('step length outside the corridor', () => {
+  // One grounded plate with a 2 mm aperture at z = 50…52 mm in a field-free can of 16 mm radius:
+  // the corridor is 2 mm wide, the thinnest electrode 2 mm.
+  const region = solvedRegion(
+    { nr: 33, nz: 65, rMax_m: 16 * mm, zMin_m: 0, zMax_m: 64 * mm },
+    [{ kind: 'plate', name: 'stop', potential_V: 0, z_m: 50 * mm, thickness_m: 2 * mm, apertureRadius_m: 2 * mm, outerRadius_m: 12 * mm }],
+    0,
+    64 * mm,
+  );
+  const k = chargeToMass_C_per_kg(100);
+
+  it('flies as far as the clearance to metal allows and still stops on the plate face (a straight line in a field-free can)', () => {
+    const counters = createTraceCounters();
+    const tracer = new SolvedFieldTracer(counters);
+    const ion = createSolvedIonState();
+    ion.x = 4 * mm; // outside the corridor from the start: every step is checked against the plate and the wall
+    ion.vz = 10_000;
+    expect(tracer.trace(ion, region, k, 1)).toBe(SolvedExit.STRUCK);
+    expect(ion.z).toBeCloseTo(50 * mm, 7);
+    expect(ion.x).toBeCloseTo(4 * mm, 9);
+    expect(ion.struckElectrode).toBe(0);
+    // Capped at the thinnest electrode (2 mm) the 50 mm path took at least 25 steps; the clearance
+    // here (12 mm to the wall, then the distance to the plate) allows far longer ones.
+    expect(counters.solvedSteps).toBeLessThan(15);
+  });
+
+  it('never steps over metal when the clearance shrinks: an ion aimed between the plate and the wall strikes the plate', () => {
+    const ion = createSolvedIonState();
+    ion.x = 11.5 * mm; // 0.5 mm inside the plate's outer edge, 4.5 mm from the wall
+    ion.vz = 10_000;
+    expect(traceSolvedRegion(ion, region, k, 1)).toBe(SolvedExit.STRUCK);
+    expect(ion.z).toBeCloseTo(50 * mm, 7);
   });
 });

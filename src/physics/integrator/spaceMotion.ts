@@ -42,6 +42,12 @@ export interface SpaceForce {
   acceleration(at: Float64Array, out: Float64Array): void;
   /** Continuous in (x, y, z); goes negative where the solve must stop (at = [t, x, y, z]). */
   guard(at: Float64Array): number;
+  /**
+   * Optional: the longest next step (s) from a point where the guard is `guard` (at the start and
+   * after every accepted step), within options.maxStep; e.g. how far the ion can fly before it
+   * could reach metal. Without it every step is capped at options.maxStep alone.
+   */
+  stepCapAt?(guard: number): number;
 }
 
 export const SPACE_ENTRY = 0;
@@ -293,6 +299,8 @@ export function solveSpace(
   let gEntry = y[2] - entryZ;
   let gFar = y[2] - farZ;
   let gGuard = guardAt(force, t0, y);
+  const capped = force.stepCapAt !== undefined;
+  let stepCap = capped ? Math.min(maxStep, (force as Required<SpaceForce>).stepCapAt(gGuard)) : maxStep;
 
   const direction = tEnd > t0 ? 1 : -1;
   ws.control.start(
@@ -304,7 +312,7 @@ export function solveSpace(
   trial.rtol = rtol;
 
   for (;;) {
-    const failure = advance(ws, trial, tEnd, maxStep, maxSteps, result);
+    const failure = advance(ws, trial, tEnd, stepCap, maxSteps, result);
     if (failure !== null) return fail(result, ws, failure);
 
     // The three events, with the crossing rule of events.ts.
@@ -333,6 +341,7 @@ export function solveSpace(
     gEntry = newEntry;
     gFar = newFar;
     gGuard = newGuard;
+    if (capped) stepCap = Math.min(maxStep, (force as Required<SpaceForce>).stepCapAt(newGuard));
     if (ws.t === tEnd) {
       result.t = tEnd;
       result.y.set(s);

@@ -11,7 +11,6 @@ import type { Ensemble, TraceResult } from '../../ions/ensemble';
 import { hasSolvedRegion, needsIntegrator, type AnalyserModel } from '../analyser';
 import { Exit, Fate, type FateCode } from '../fates';
 import { MAP_MIN_IONS, SolvedMirrorMapper, type MirrorMapReport } from '../solvedMirrorMap';
-import { transverse } from '../solvedMirror';
 import { AxialIntegrator } from './axialIntegrator';
 import { createBlockScratch, traceSpeciesBlocks } from './blockDriver';
 import {
@@ -46,34 +45,11 @@ export interface FlightChoice extends FlightOptions {
   readonly onMirrorMap?: (report: MirrorMapReport) => void;
 }
 
-/**
- * The run's transfer map of a solved mirror behind the kernel's interface. The map module keeps
- * its ion's transverse state in its own record (src/physics/solvedMirror.ts), so the state is
- * handed over to it and back around each pass.
- */
-class TransferMap implements MirrorMap {
-  constructor(readonly mapper: SolvedMirrorMapper) {}
-  passIon(st: IonState, plan: FlightPlan, tLimit_s: number): boolean {
-    transverse.tRef = st.tRef;
-    transverse.xRef = st.xRef;
-    transverse.yRef = st.yRef;
-    transverse.vxRef = st.vxRef;
-    transverse.vyRef = st.vyRef;
-    const through = this.mapper.pass(st, plan, tLimit_s);
-    st.tRef = transverse.tRef;
-    st.xRef = transverse.xRef;
-    st.yRef = transverse.yRef;
-    st.vxRef = transverse.vxRef;
-    st.vyRef = transverse.vyRef;
-    return through;
-  }
-}
-
-/** The run's transfer map of a solved mirror, or null to trace every ion directly. */
-function transferMapFor(model: AnalyserModel, ions: number | undefined, allowed: boolean): TransferMap | null {
+/** The run's transfer map of a solved mirror (tracing on the run's tracer where it does not hold), or null to trace every ion directly. */
+function transferMapFor(model: AnalyserModel, ions: number | undefined, allowed: boolean, tracer: SolvedFieldTracer): SolvedMirrorMapper | null {
   const solved = model.mirror?.solved;
   if (!allowed || !solved || model.forceIntegrator || model.mapSolvedMirror === false || ions === undefined || ions < MAP_MIN_IONS) return null;
-  return new TransferMap(new SolvedMirrorMapper(solved, ions));
+  return new SolvedMirrorMapper(solved, ions, tracer);
 }
 
 /** One kernel per section present in the model. */
@@ -101,7 +77,7 @@ export class ModelFlight implements Flight {
   readonly plan = createFlightPlan();
   readonly kernels: readonly (RegionKernel | null)[];
   /** The run's transfer map, when one is used. */
-  readonly map: TransferMap | null;
+  readonly map: SolvedMirrorMapper | null;
   private readonly integrator: AxialIntegrator;
   private qOverM = NaN;
 
@@ -113,7 +89,7 @@ export class ModelFlight implements Flight {
     const integrator = new AxialIntegrator(counters);
     const tracer = new SolvedFieldTracer(counters);
     this.integrator = integrator;
-    this.map = options.mirrorMap ? null : transferMapFor(model, options.ions, options.transferMap !== false);
+    this.map = options.mirrorMap ? null : transferMapFor(model, options.ions, options.transferMap !== false, tracer);
     this.kernels = chooseKernels(model, integrator, tracer, options.mirrorMap ?? this.map);
   }
 
@@ -294,7 +270,7 @@ export function traceEnsemble(model: AnalyserModel, ensemble: Ensemble, out: Tra
       out.weight[i] = st.w;
     }
   }
-  if (flight.map !== null && options.onMirrorMap) options.onMirrorMap({ ...flight.map.mapper.report });
+  if (flight.map !== null && options.onMirrorMap) options.onMirrorMap({ ...flight.map.report });
 }
 
 /** traceEnsemble keeps the contract's signature. */
