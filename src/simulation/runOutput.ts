@@ -6,6 +6,7 @@ import { simulate } from './run';
 import { speciesIonStart } from './report';
 import { runScene } from './scene/runScene';
 import { sceneTransferables } from './scene/sceneData';
+import { productArrays, productTransferables } from './productArrays';
 
 export function runRequest(request: RunRequest, now: () => number = () => performance.now()): RunOutput {
   const start = now();
@@ -22,10 +23,11 @@ export function runRequest(request: RunRequest, now: () => number = () => perfor
     ...(request.pulseReach ? { pulseReach: pulseReach(request.preset, { ions: request.ions, seed: request.seed }) } : {}),
     ...(request.focusScan ? { focusScan: focusScan(result.compiled.model, request.preset) } : {}),
     ...(request.scene ? { scene: runScene(request.preset, result.compiled, request.scene) } : {}),
+    ...(result.fragments ? { products: productArrays(result.fragments.trace, result.fragments.report, (d) => result.fragments!.model.blocks[d].species) } : {}),
   };
 }
 
 /** Buffers of a RunOutput, for zero-copy transfer out of a worker. */
 export function runOutputTransferables(out: RunOutput): ArrayBuffer[] {
-  return [out.flightTime_s.buffer, out.fate.buffer, out.speciesStart.buffer, ...(out.scene ? sceneTransferables(out.scene) : [])] as ArrayBuffer[];
+  return [out.flightTime_s.buffer, out.fate.buffer, out.speciesStart.buffer, ...(out.scene ? sceneTransferables(out.scene) : []), ...(out.products ? productTransferables(out.products) : [])] as ArrayBuffer[];
 }

@@ -46,7 +46,7 @@ export class RunRenderer {
     renderFragmentTable(byId('fragment-results'), report);
     byId('run-summary').textContent = runSummary(report, output.elapsed_ms) + (job.kind === 'live' ? ' (quick preview)' : '');
     this.spectrum.setRun(view.spectrum);
-    this.refreshZoomChoices(report.species.map((s) => s.label));
+    this.refreshZoomChoices([...view.spectrum.labels]); // species, then fragment series
 
     const scene = output.scene;
     if (this.scene && scene) {
