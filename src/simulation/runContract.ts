@@ -9,6 +9,7 @@ import type { Preset } from '../presets/schema';
 import type { RunReport } from './report';
 import type { RunScene, SceneRequest } from './scene/sceneData';
 import type { ProductArrays } from './productArrays';
+import type { FragmentScene } from './fragmentSceneData';
 
 export interface RunRequest {
   readonly preset: Preset;
@@ -42,4 +43,6 @@ export interface RunOutput {
   readonly scene?: RunScene;
   /** Decay products (fragment ions and neutrals, per ion) when the preset's species decay in flight; absent otherwise. */
   readonly products?: ProductArrays;
+  /** With RunRequest.scene and decaying species: a few decay products' paths for the 3D view. */
+  readonly fragmentScene?: FragmentScene;
 }
