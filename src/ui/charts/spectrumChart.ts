@@ -9,7 +9,6 @@ import { Fate } from '../../physics/fates';
 import { accumulate, binCentres, binsForWidth, detectedExtent, paddedRange, type BinRange } from './binning';
 import { axis, chartPng, chartSize, fitChart, followSize, withAlpha } from './theme';
 import { drawPeakMarks, FRAGMENT_DASH, type PeakMark } from './fragmentPeaks';
-import { MAX_SPECTRUM_SERIES } from './spectrumSeries';
 
 export type SpectrumAxis = 'time' | 'mz';
 
@@ -34,6 +33,8 @@ export interface SpectrumRun {
   readonly dashed?: readonly boolean[];
   /** Labels drawn at peaks (fragment true and apparent m/z). */
   readonly marks?: readonly PeakMark[];
+  /** The default (full) range per axis when it is not every detected ion's (slow product tails, ./fragmentPeaks.ts). */
+  readonly defaultExtent?: { readonly time: [number, number] | null; readonly mz: [number, number] | null };
 }
 
 /**
@@ -52,7 +53,7 @@ export interface SpectrumOverlay {
 }
 
 /** Species drawn as separate series up to this count; above it, one total series. */
-const MAX_SERIES = MAX_SPECTRUM_SERIES;
+const MAX_SERIES = 12;
 
 export class SpectrumChart {
   private chart: uPlot | null = null;
@@ -144,7 +145,7 @@ export class SpectrumChart {
   private computeFullRange(): BinRange | null {
     const values = this.values();
     if (!values || !this.run) return null;
-    const extent = detectedExtent(values, this.run.fate, Fate.DETECTED);
+    const extent = this.run.defaultExtent ? this.run.defaultExtent[this.axisKind] : detectedExtent(values, this.run.fate, Fate.DETECTED);
     return extent ? paddedRange(extent, this.bins()) : null;
   }
 

@@ -391,7 +391,19 @@ export class AnalyserScene {
     this.camera.updateProjectionMatrix();
     this.controls.target.set(cx, cy, cz);
     this.controls.update();
+    this.markDetectorOnScreen();
     this.requestRender();
+  }
+
+  /** Where the framed view puts the detector (CSS px in the canvas), for the layout test: data-detector-px="x,y". */
+  private markDetectorOnScreen(): void {
+    if (!this.layout) return;
+    const d = this.layout.detector;
+    this.camera.updateMatrixWorld();
+    scratchVec.set(d.x_mm, d.y_mm, 0).project(this.camera);
+    const w = this.canvas.clientWidth;
+    const h = this.canvas.clientHeight;
+    this.canvas.dataset.detectorPx = `${(((scratchVec.x + 1) / 2) * w).toFixed(0)},${(((1 - scratchVec.y) / 2) * h).toFixed(0)}`;
   }
 
   requestRender(): void {

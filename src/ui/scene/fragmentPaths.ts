@@ -19,7 +19,7 @@ const COLOURS: Record<number, readonly [number, number, number]> = {
 };
 
 /** Legend words for the products' paths. */
-export const FRAGMENT_LEGEND = '╌ decay products, dashed from the decay point: white fragment ions, violet neutrals (dim: not recorded)';
+export const FRAGMENT_LEGEND = '╌ decay products from the decay point: white ions, violet neutrals (dim: not recorded)';
 
 export class FragmentPathLayer {
   readonly geometry = new BufferGeometry();
