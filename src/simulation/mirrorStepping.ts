@@ -24,8 +24,22 @@ export interface SteppingRequest {
   readonly species?: number;
   /** Grid of fragment masses the time law and R are mapped on (default 40). */
   readonly gridPoints?: number;
+  /** Ions of each segment run (the stitched spectrum); the grid run has its own ensemble (gridIonsPerPoint). */
   readonly ions?: number;
+  /** Fragment ions per grid point in the planning run (default GRID_IONS_PER_POINT). */
+  readonly gridIonsPerPoint?: number;
 }
+
+/**
+ * The planning run's ensemble: every grid point gets this many fragments of its own (R's sampling
+ * error about 1/sqrt(2N) ≈ 1.6 % at N = 2000), and it is seeded by PLANNING_SEED, not the preset's
+ * seed, so the segments are a function of the analyser, the range and the target alone: two runs
+ * with different seeds report the same segments (tests/simulation/mirrorStepping.test.ts). Earlier
+ * the grid shared the run's ions (about ions/40 per point) and its seed, and the window edges moved
+ * with the seed.
+ */
+export const GRID_IONS_PER_POINT = 2000;
+export const PLANNING_SEED = 0x5e97;
 
 export interface SteppingSegment {
   readonly index: number;
@@ -100,7 +114,8 @@ export function planMirrorSteps(request: SteppingRequest): SteppingResult {
   const share = 1 / n;
   const channels = fractions.map((f, k) => ({ mz: f * mzP, charge, branching: k === n - 1 ? 1 - share * (n - 1) : share }));
   const gridPreset = withSpecies(preset, { ...precursor, decay: { law: { kind: 'fraction', fraction: 1, region: 'drift' }, channels, ...kerOf(precursor) } });
-  const gridRun = simulate(gridPreset, { ions: request.ions, analysis: 'peaks' });
+  const perPoint = Math.max(200, Math.min(20_000, Math.round(request.gridIonsPerPoint ?? GRID_IONS_PER_POINT)));
+  const gridRun = simulate(gridPreset, { ions: perPoint * n, seed: PLANNING_SEED, analysis: 'peaks' });
   const report = gridRun.fragments?.report[0];
   if (!report) throw new Error('the grid run traced no fragments');
   const grid = report.channels.map((c, k) => {

@@ -8,6 +8,8 @@ import type { FocusScan } from '../analysis/focusScan';
 import type { Preset } from '../presets/schema';
 import type { RunReport } from './report';
 import type { RunScene, SceneRequest } from './scene/sceneData';
+import type { ProductArrays } from './productArrays';
+import type { FragmentScene } from './fragmentSceneData';
 
 export interface RunRequest {
   readonly preset: Preset;
@@ -39,4 +41,8 @@ export interface RunOutput {
   readonly focusScan?: FocusScan;
   /** When asked for (RunRequest.scene). */
   readonly scene?: RunScene;
+  /** Decay products (fragment ions and neutrals, per ion) when the preset's species decay in flight; absent otherwise. */
+  readonly products?: ProductArrays;
+  /** With RunRequest.scene and decaying species: a few decay products' paths for the 3D view. */
+  readonly fragmentScene?: FragmentScene;
 }

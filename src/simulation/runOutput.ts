@@ -6,11 +6,15 @@ import { simulate } from './run';
 import { speciesIonStart } from './report';
 import { runScene } from './scene/runScene';
 import { sceneTransferables } from './scene/sceneData';
+import { productArrays, productTransferables } from './productArrays';
+import { traceFragmentScene } from './fragmentScene';
+import { fragmentSceneTransferables } from './fragmentSceneData';
 
 export function runRequest(request: RunRequest, now: () => number = () => performance.now()): RunOutput {
   const start = now();
   const result = simulate(request.preset, { ions: request.ions, seed: request.seed, analysis: request.analysis });
   const elapsed_ms = now() - start;
+  const scene = request.scene ? runScene(request.preset, result.compiled, request.scene) : null;
   return {
     report: result.report,
     flightTime_s: result.trace.flightTime_s,
@@ -21,11 +25,13 @@ export function runRequest(request: RunRequest, now: () => number = () => perfor
     elapsed_ms,
     ...(request.pulseReach ? { pulseReach: pulseReach(request.preset, { ions: request.ions, seed: request.seed }) } : {}),
     ...(request.focusScan ? { focusScan: focusScan(result.compiled.model, request.preset) } : {}),
-    ...(request.scene ? { scene: runScene(request.preset, result.compiled, request.scene) } : {}),
+    ...(scene ? { scene } : {}),
+    ...(scene && result.fragments ? { fragmentScene: traceFragmentScene(result.compiled, result.fragments.model, scene.layout) } : {}),
+    ...(result.fragments ? { products: productArrays(result.fragments.trace, result.fragments.report, (d) => result.fragments!.model.blocks[d].species) } : {}),
   };
 }
 
 /** Buffers of a RunOutput, for zero-copy transfer out of a worker. */
 export function runOutputTransferables(out: RunOutput): ArrayBuffer[] {
-  return [out.flightTime_s.buffer, out.fate.buffer, out.speciesStart.buffer, ...(out.scene ? sceneTransferables(out.scene) : [])] as ArrayBuffer[];
+  return [out.flightTime_s.buffer, out.fate.buffer, out.speciesStart.buffer, ...(out.scene ? sceneTransferables(out.scene) : []), ...(out.products ? productTransferables(out.products) : []), ...(out.fragmentScene ? fragmentSceneTransferables(out.fragmentScene) : [])] as ArrayBuffer[];
 }

@@ -55,4 +55,17 @@ describe('mirror-voltage stepping', () => {
     expect(spread(harmonic)).toBeLessThan(2.5);
     expect(spread(uniform)).toBeGreaterThan(10);
   });
+
+  it('plans the same segments whatever the run seed, and nearly the same from another planning ensemble', () => {
+    const seeded = (seed: number) => demo((d) => (d.run.seed = seed));
+    const a = planMirrorSteps({ preset: seeded(1), fromMz: 200, toMz: 1000, minResolvingPower: 300, ions: 1000 });
+    const b = planMirrorSteps({ preset: seeded(987), fromMz: 200, toMz: 1000, minResolvingPower: 300, ions: 1000 });
+    expect(b.segments.map((s) => [s.scale, s.fromMz, s.toMz])).toEqual(a.segments.map((s) => [s.scale, s.fromMz, s.toMz]));
+    expect(b.window).toEqual(a.window);
+    // A different (larger) planning ensemble: the window edges move by at most one grid step.
+    const c = planMirrorSteps({ preset: seeded(1), fromMz: 200, toMz: 1000, minResolvingPower: 300, ions: 1000, gridIonsPerPoint: 3000 });
+    const step = a.grid[1].fraction - a.grid[0].fraction;
+    expect(Math.abs(c.window.lowFraction - a.window.lowFraction)).toBeLessThanOrEqual(step * (1 + 1e-9));
+    expect(Math.abs(c.window.highFraction - a.window.highFraction)).toBeLessThanOrEqual(step * (1 + 1e-9));
+  });
 });

@@ -35,6 +35,10 @@ export interface ProductBlock {
   /** When and in which leg (Leg.*) its precursor decayed. */
   readonly decayTime_s: Float64Array;
   readonly decayLeg: Uint8Array;
+  /** The precursor's ion index in the ensemble, and the product's axial start (position, velocity) in the decay leg's own frame. */
+  readonly precursor: Int32Array;
+  readonly start_z_m: Float64Array;
+  readonly start_v_m_per_s: Float64Array;
 }
 
 export interface BlockDecayCount {
@@ -168,10 +172,13 @@ function traceProducts(
   product: DecayProduct,
   ch: { readonly fragment: DecayProduct; readonly complement: DecayProduct },
   count: number,
-): { trace: TraceResult; decayTime_s: Float64Array; decayLeg: Uint8Array } {
+): Omit<ProductBlock, 'decayBlock' | 'channel' | 'role' | 'product'> {
   const out = allocateTraceResult(count);
   const decayTime_s = new Float64Array(count);
   const decayLeg = new Uint8Array(count);
+  const precursor = new Int32Array(count);
+  const start_z_m = new Float64Array(count);
+  const start_v_m_per_s = new Float64Array(count);
   const plan = planFor(model, product);
   // The product flies on through the rest of the analyser by the engine's own driver (regions/driver.ts),
   // from the section and state of the decay; only the path behind the back plate is walked here.
@@ -198,6 +205,9 @@ function traceProducts(
     st.fate = Fate.UNSET;
     st.legEntry_s.fill(NaN);
     const tDecay = st.t;
+    precursor[m] = i;
+    start_z_m[m] = st.z;
+    start_v_m_per_s[m] = st.v;
     if (st.leg !== Leg.BEHIND) {
       startIonState(ion, st.z, st.v);
       ion.t = st.t;
@@ -237,7 +247,7 @@ function traceProducts(
     decayLeg[m] = s[6 * k + 4];
     m++;
   }
-  return { trace: out, decayTime_s, decayLeg };
+  return { trace: out, decayTime_s, decayLeg, precursor, start_z_m, start_v_m_per_s };
 }
 
 export { Leg };

@@ -15,6 +15,7 @@ import { renderFragmentTable } from '../results/fragmentTable';
 import { buildRunView, type RunView } from '../results/runView';
 import type { AnalyserScene } from '../scene/analyserScene';
 import { createDrawnIons, unpackDrawnIons } from '../scene/paths';
+import { FRAGMENT_LEGEND } from '../scene/fragmentPaths';
 import type { RunJob } from './runQueue';
 
 export interface ShownRun {
@@ -46,7 +47,7 @@ export class RunRenderer {
     renderFragmentTable(byId('fragment-results'), report);
     byId('run-summary').textContent = runSummary(report, output.elapsed_ms) + (job.kind === 'live' ? ' (quick preview)' : '');
     this.spectrum.setRun(view.spectrum);
-    this.refreshZoomChoices(report.species.map((s) => s.label));
+    this.refreshZoomChoices([...view.spectrum.labels]); // species, then fragment series
 
     const scene = output.scene;
     if (this.scene && scene) {
@@ -57,8 +58,9 @@ export class RunRenderer {
         return Math.floor(Math.min(equipotentials.length, buffer.length) / 3);
       });
       this.scene.setIons(unpackDrawnIons(this.drawn, scene.paths));
+      this.scene.setFragmentPaths(output.fragmentScene ?? null);
     }
-    this.renderLegend(job.preset, colours, report.species.map((s) => s.label), scene?.approximations ?? []);
+    this.renderLegend(job.preset, colours, report.species.map((s) => s.label), scene?.approximations ?? [], (output.fragmentScene?.vertices ?? 0) > 0);
     if (job.kind === 'final' && output.focusScan) {
       const focus = focusSummary(output.focusScan, report);
       byId('focus-text').replaceChildren(...focusLines(focus).flatMap((line, i) => (i ? [el('br'), line] : [line])));
@@ -89,12 +91,12 @@ export class RunRenderer {
     this.rezoom();
   }
 
-  private renderLegend(preset: Preset, colours: string[], labels: string[], approximations: readonly string[]): void {
+  private renderLegend(preset: Preset, colours: string[], labels: string[], approximations: readonly string[], fragments = false): void {
     const items = labels.slice(0, 16).map((label, i) =>
       el('li', {}, el('span', { className: 'swatch', 'data-colour': colours[i] }), `${label} · m/z ${preset.ions.species[i]?.mz.toFixed(4) ?? ''}`),
     );
     this.legend.replaceChildren(
-      el('ul', { 'aria-label': 'Ion species by m/z' }, ...items),
+      el('ul', { 'aria-label': 'Ion species by m/z' }, ...items, ...(fragments ? [el('li', { className: 'legend-fragments' }, FRAGMENT_LEGEND)] : [])),
       el(
         'p',
         { className: 'legend-note' },

@@ -8,6 +8,7 @@ import uPlot from 'uplot';
 import { Fate } from '../../physics/fates';
 import { accumulate, binCentres, binsForWidth, detectedExtent, paddedRange, type BinRange } from './binning';
 import { axis, chartPng, chartSize, fitChart, followSize, withAlpha } from './theme';
+import { drawPeakMarks, FRAGMENT_DASH, type PeakMark } from './fragmentPeaks';
 
 export type SpectrumAxis = 'time' | 'mz';
 
@@ -28,6 +29,12 @@ export interface SpectrumRun {
   readonly labels: readonly string[];
   readonly colours: readonly string[];
   readonly peaks: readonly SpectrumPeak[];
+  /** Series drawn dashed (decay products, ./fragmentPeaks.ts); absent: none. */
+  readonly dashed?: readonly boolean[];
+  /** Labels drawn at peaks (fragment true and apparent m/z). */
+  readonly marks?: readonly PeakMark[];
+  /** The default (full) range per axis when it is not every detected ion's (slow product tails, ./fragmentPeaks.ts). */
+  readonly defaultExtent?: { readonly time: [number, number] | null; readonly mz: [number, number] | null };
 }
 
 /**
@@ -138,7 +145,7 @@ export class SpectrumChart {
   private computeFullRange(): BinRange | null {
     const values = this.values();
     if (!values || !this.run) return null;
-    const extent = detectedExtent(values, this.run.fate, Fate.DETECTED);
+    const extent = this.run.defaultExtent ? this.run.defaultExtent[this.axisKind] : detectedExtent(values, this.run.fate, Fate.DETECTED);
     return extent ? paddedRange(extent, this.bins()) : null;
   }
 
@@ -150,8 +157,8 @@ export class SpectrumChart {
     const many = run.labels.length > MAX_SERIES;
     const series: uPlot.Series[] = [{ label: this.axisKind === 'time' ? 'µs' : 'Th' }];
     const stepped = uPlot.paths.stepped!({ align: 1 });
-    const list = many ? [{ label: 'all species', colour: '#8fd0ff' }] : run.labels.map((label, i) => ({ label, colour: run.colours[i] }));
-    for (const s of list) series.push({ label: s.label, stroke: s.colour, fill: withAlpha(s.colour, 0.16), width: 1.25, paths: stepped, points: { show: false } });
+    const list = many ? [{ label: 'all species', colour: '#8fd0ff', dashed: false }] : run.labels.map((label, i) => ({ label, colour: run.colours[i], dashed: run.dashed?.[i] === true }));
+    for (const s of list) series.push({ label: s.label, stroke: s.colour, fill: withAlpha(s.colour, s.dashed ? 0.06 : 0.16), width: 1.25, paths: stepped, points: { show: false }, ...(s.dashed ? { dash: [...FRAGMENT_DASH] } : {}) });
     const overlay = this.overlay;
     if (overlay) series.push({ label: overlay.label, stroke: overlay.colour, width: 1.5, paths: stepped, points: { show: false }, scale: overlay.scale === 'own' ? 'overlay' : 'y' });
     const overlayAxis = overlay?.scale === 'own' ? [axis(overlay.axisLabel, { scale: 'overlay', side: 1, size: 56, grid: { show: false } })] : [];
@@ -174,7 +181,7 @@ export class SpectrumChart {
             queueMicrotask(() => this.draw());
           },
         ],
-        draw: [() => this.onDrawn()],
+        draw: [(u) => drawPeakMarks(u, this.run?.marks, this.axisKind), () => this.onDrawn()],
       },
     };
     this.chart = new uPlot(opts, [[]], this.host);

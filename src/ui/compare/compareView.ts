@@ -19,6 +19,7 @@ import { speciesColours } from '../colors';
 import { describeSetup, diffSpecies, otherMode, runFigures } from './compareModel';
 import { applyReflectronTune, reflectronTuneRequest, switchMode } from '../../tuning/modeSwitch';
 import { headlineFigures } from '../../simulation/headline';
+import { diffFragments, type ProductFigures } from './fragmentDiff';
 
 const COLOUR_A = '#4cc3b2';
 const COLOUR_B = '#e9a03b';
@@ -201,7 +202,56 @@ export class CompareView {
         ),
       ),
     );
+    this.renderFragments(runA, runB);
     this.drawOverlay(runA, runB, Math.min(sampleA ?? Infinity, sampleB ?? Infinity));
+  }
+
+  /** The decay products of both runs side by side (a table of its own under the differences; hidden without decays). */
+  private renderFragments(runA: RunOutput, runB: RunOutput): void {
+    const rows = diffFragments(runA.report, runB.report);
+    let host = document.getElementById('compare-fragments');
+    if (!host) {
+      host = el('div', { id: 'compare-fragments', className: 'table-scroll' });
+      byId('compare-diff').closest('.card')?.append(host);
+    }
+    host.hidden = rows.length === 0;
+    if (rows.length === 0) {
+      host.replaceChildren();
+      return;
+    }
+    const t = (f: ProductFigures | null): string => (f === null || f.arrival_us === null ? '—' : `${f.arrival_us.toFixed(3)}${f.behindMirror ? ' (behind mirror)' : ''}`);
+    const rel = (f: ProductFigures | null): string => (f?.relativeToPrecursor == null ? '—' : f.relativeToPrecursor.toFixed(4));
+    const head = ['precursor', 'channel / product', 'true m/z', 'arrival A / µs', 'arrival B / µs', 't/t(precursor) A', 't/t(precursor) B', 'apparent m/z A', 'apparent m/z B', 'R A', 'R B', 'transm. A', 'transm. B'];
+    const table = el(
+      'table',
+      { className: 'data-table', 'data-testid': 'compare-fragments' },
+      el('caption', { text: 'Decay products: arrival relative to the precursor (1: arrives with it, as in linear mode) and apparent m/z under each run\'s precursor calibration' }),
+      el('thead', {}, el('tr', {}, ...head.map((text) => el('th', { scope: 'col', text })))),
+      el(
+        'tbody',
+        {},
+        ...rows.map((r) =>
+          el(
+            'tr',
+            { 'data-role': r.role },
+            el('th', { scope: 'row', text: r.precursor }),
+            el('td', { text: r.product }),
+            el('td', { text: fixed(r.mz, 3) }),
+            el('td', { text: t(r.a) }),
+            el('td', { text: t(r.b) }),
+            el('td', { text: rel(r.a) }),
+            el('td', { text: rel(r.b) }),
+            el('td', { text: fixed(r.a?.apparentMz, 2) }),
+            el('td', { text: fixed(r.b?.apparentMz, 2) }),
+            el('td', { text: formatR(r.a?.resolvingPower) }),
+            el('td', { text: formatR(r.b?.resolvingPower) }),
+            el('td', { text: r.a ? percent(r.a.transmission) : '—' }),
+            el('td', { text: r.b ? percent(r.b.transmission) : '—' }),
+          ),
+        ),
+      ),
+    );
+    host.replaceChildren(el('h3', { text: 'Fragments (decay in flight)' }), table);
   }
 
   private card(tag: 'A' | 'B', colour: string, preset: Preset, run: RunOutput): Node[] {
@@ -226,8 +276,8 @@ export class CompareView {
   private drawOverlay(runA: RunOutput, runB: RunOutput, sampleInterval_ns: number): void {
     const viewA = buildRunView(runA, speciesColours(runA.report.species.map((s) => s.mz)));
     const viewB = buildRunView(runB, speciesColours(runB.report.species.map((s) => s.mz)));
-    const ea = detectedExtent(viewA.spectrum.mz, runA.fate, Fate.DETECTED);
-    const eb = detectedExtent(viewB.spectrum.mz, runB.fate, Fate.DETECTED);
+    const ea = viewA.spectrum.defaultExtent?.mz ?? detectedExtent(viewA.spectrum.mz, viewA.spectrum.fate, Fate.DETECTED);
+    const eb = viewB.spectrum.defaultExtent?.mz ?? detectedExtent(viewB.spectrum.mz, viewB.spectrum.fate, Fate.DETECTED);
     const extent: [number, number] | null = ea && eb ? [Math.min(ea[0], eb[0]), Math.max(ea[1], eb[1])] : (ea ?? eb);
     if (!extent) return;
     // Bins one digitizer sample wide at the lightest ion (Δm = 2m·Δt/t), so peak widths show when zoomed.
@@ -241,7 +291,8 @@ export class CompareView {
       if (max > 0) for (let i = 0; i < c.length; i++) c[i] /= max;
       return c;
     };
-    const data: uPlot.AlignedData = [x, count(viewA.spectrum.mz, runA.fate), count(viewB.spectrum.mz, runB.fate)];
+    // The views' own arrays: precursors and the decay products recorded at the detector (m/z from each run's calibration).
+    const data: uPlot.AlignedData = [x, count(viewA.spectrum.mz, viewA.spectrum.fate), count(viewB.spectrum.mz, viewB.spectrum.fate)];
     this.chart?.destroy();
     const stepped = uPlot.paths.stepped!({ align: 1 });
     this.chart = new uPlot(

@@ -10,6 +10,7 @@ import type { RunOutput } from '../../simulation/runContract';
 import type { SpeciesReport } from '../../simulation/report';
 import { headlineFigures, type HeadlineFigures } from '../../simulation/headline';
 import type { SpectrumPeak, SpectrumRun } from '../charts/spectrumChart';
+import { withFragmentSeries } from '../charts/fragmentPeaks';
 
 export interface PeakRow {
   readonly species: SpeciesReport;
@@ -135,7 +136,8 @@ export function buildRunView(output: RunOutput, colours: readonly string[], samp
     calibration: cal.coefficients,
     calibrationFreedom: cal.freedom,
     calibrationNote: cal.note,
-    spectrum: {
+    // Decay products (fragment ions, neutrals) as dashed series of their own after the precursors'.
+    spectrum: withFragmentSeries({
       time_us,
       mz,
       fate: output.fate,
@@ -143,6 +145,6 @@ export function buildRunView(output: RunOutput, colours: readonly string[], samp
       labels: report.species.map((s) => s.label),
       colours: report.species.map((_s, i) => colours[i] ?? '#8fd0ff'),
       peaks,
-    },
+    }, output.products, cal.coefficients),
   };
 }

@@ -33,6 +33,8 @@ import { potentialRgb } from '../colors';
 import { MAX_EQUIPOTENTIAL_SEGMENTS, MAX_MIRROR_RINGS, type FrameBox, type SceneLayout } from '../../simulation/scene/sceneData';
 import { fillPaths, MAX_DRAWN_IONS, positionAt, type DrawnIons } from './paths';
 import { displayLanes, laneShift_mm, type DisplayLanes } from './displayLanes';
+import { FragmentPathLayer } from './fragmentPaths';
+import type { FragmentScene } from '../../simulation/fragmentSceneData';
 
 const MAX_PATH_VERTICES = 60_000;
 const MAX_PLATES = 4;
@@ -104,6 +106,8 @@ export class AnalyserScene {
   private lastTick = 0;
   private frameRequest = 0;
   private cut = false;
+  /** Decay products' paths, dashed (./fragmentPaths.ts). */
+  private readonly fragments = new FragmentPathLayer();
   /** Called with the displayed time whenever it changes (scrub, play). */
   onTime: (t_s: number, end_s: number) => void = () => {};
   onPlayingChange: (playing: boolean) => void = () => {};
@@ -148,6 +152,7 @@ export class AnalyserScene {
     this.paths = new LineSegments(this.pathGeometry, this.keepMaterial(new LineBasicMaterial({ vertexColors: true, transparent: true, opacity: 0.75 })));
     this.paths.frustumCulled = false;
     this.scene.add(this.paths);
+    this.scene.add(this.fragments.object);
 
     this.equipotentialGeometry.setAttribute('position', new BufferAttribute(new Float32Array(12 * MAX_EQUIPOTENTIAL_SEGMENTS), 3));
     this.equipotentialGeometry.setDrawRange(0, 0);
@@ -296,6 +301,12 @@ export class AnalyserScene {
     return v;
   }
 
+  /** The decay products' paths of the run (after setIons, whose display lanes they follow); null: none. */
+  setFragmentPaths(paths: FragmentScene | null): void {
+    this.fragments.set(paths, this.lanes && this.lanes.spacing_mm > 0 ? this.lanes : null);
+    this.requestRender();
+  }
+
   get endTime_s(): number {
     return this.ions ? this.ions.endTime_s : 0;
   }
@@ -380,7 +391,19 @@ export class AnalyserScene {
     this.camera.updateProjectionMatrix();
     this.controls.target.set(cx, cy, cz);
     this.controls.update();
+    this.markDetectorOnScreen();
     this.requestRender();
+  }
+
+  /** Where the framed view puts the detector (CSS px in the canvas), for the layout test: data-detector-px="x,y". */
+  private markDetectorOnScreen(): void {
+    if (!this.layout) return;
+    const d = this.layout.detector;
+    this.camera.updateMatrixWorld();
+    scratchVec.set(d.x_mm, d.y_mm, 0).project(this.camera);
+    const w = this.canvas.clientWidth;
+    const h = this.canvas.clientHeight;
+    this.canvas.dataset.detectorPx = `${(((scratchVec.x + 1) / 2) * w).toFixed(0)},${(((1 - scratchVec.y) / 2) * h).toFixed(0)}`;
   }
 
   requestRender(): void {
@@ -433,6 +456,7 @@ export class AnalyserScene {
     this.controls.dispose();
     for (const g of this.geometries) g.dispose();
     for (const m of this.materials) m.dispose();
+    this.fragments.dispose();
     this.renderer.dispose();
   }
 }
