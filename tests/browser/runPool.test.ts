@@ -1,7 +1,8 @@
 /**
  * The page's runs split over a pool of workers (src/ui/engine/splitRun.ts) give byte-identical
  * results to one worker: the per-ion fingerprint (flight times and fates, document.body.dataset.lastRunDigest)
- * and the results table, for one exact and one rising-pulse demo; and a quick second change drops
+ * and the results table, for one exact demo (closed form: kept on one worker of the pool) and one
+ * rising-pulse demo (split over the pool's workers); and a quick second change drops
  * the result of the run still in flight, so only the newest change is drawn.
  */
 import { readFileSync } from 'node:fs';
