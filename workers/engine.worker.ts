@@ -7,7 +7,8 @@
  * Imports nothing that touches the DOM.
  */
 import * as Comlink from 'comlink';
-import { traceRunChunk, traceTransferables, type SplitRunTasks } from '../src/simulation/runChunks';
+import { traceTransferables, type SplitRunTasks } from '../src/simulation/runChunkPlan';
+import { traceRunChunk } from '../src/simulation/runChunks';
 import { runOutputTransferables, runRequest } from '../src/simulation/runOutput';
 import { createWorkerApi } from '../src/tuning/workerApi';
 

@@ -1,12 +1,12 @@
 /**
- * A run split over a pool of workers (the steps are in src/simulation/runChunks.ts): each worker
+ * A run split over a pool of workers (the steps are in src/simulation/runChunks.ts, the plan in runChunkPlan.ts): each worker
  * traces one contiguous chunk of the run's ions, the chunks are joined in ion order here (a few
  * hundred kB at interactive sizes: cheaper than another round trip), and the first worker finishes
  * the run on the joined trace. The trace buffers are transferred both ways, never cloned.
  * DOM-free, so Node tests drive it over MessageChannel ports.
  */
 import * as Comlink from 'comlink';
-import { chunkBounds, chunkCount, concatChunks, splitsOverWorkers, traceTransferables, type TraceChunk } from '../../simulation/runChunks';
+import { chunkBounds, chunkCount, concatChunks, splitsOverWorkers, traceTransferables, type TraceChunk } from '../../simulation/runChunkPlan';
 import type { RunOutput, RunRequest } from '../../simulation/runContract';
 import type { TraceResult } from '../../ions/ensemble';
 import type { Preset } from '../../presets/schema';
