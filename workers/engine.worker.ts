@@ -1,10 +1,14 @@
 /**
  * The engine in a Web Worker, exposed with comlink: run / scan / optimise (EngineApi) and the pool
- * tasks that EngineWorkerClient (src/tuning/workerClient.ts) spreads over several of these workers.
+ * tasks that EngineWorkerClient (src/tuning/workerClient.ts) spreads over several of these workers,
+ * plus the two steps of a run split over the pool (src/simulation/runChunks.ts): trace a chunk of
+ * the run's ions, and finish a run on a concatenated trace.
  * Run results (with the 3D view's scene when asked for) carry typed arrays; their buffers are transferred, not copied.
  * Imports nothing that touches the DOM.
  */
 import * as Comlink from 'comlink';
+import { traceTransferables, type SplitRunTasks } from '../src/simulation/runChunkPlan';
+import { traceRunChunk } from '../src/simulation/runChunks';
 import { runOutputTransferables, runRequest } from '../src/simulation/runOutput';
 import { createWorkerApi } from '../src/tuning/workerApi';
 
@@ -13,4 +17,15 @@ const api = createWorkerApi((request) => {
   return Comlink.transfer(result, runOutputTransferables(result));
 });
 
-Comlink.expose(api);
+const splitTasks: SplitRunTasks = {
+  traceRunChunk: (request, from, to) => {
+    const chunk = traceRunChunk(request, from, to);
+    return Comlink.transfer(chunk, traceTransferables(chunk));
+  },
+  finishRun: (request, traced) => {
+    const result = runRequest(request, undefined, traced);
+    return Comlink.transfer(result, runOutputTransferables(result));
+  },
+};
+
+Comlink.expose({ ...api, ...splitTasks });

@@ -107,9 +107,7 @@ function samplePositions(
       z.fill(spec.z_m, from, to);
       return;
     case 'uniform': {
-      const lo = spec.from_m;
-      const span = spec.to_m - spec.from_m;
-      for (let i = from; i < to; i++) z[i] = lo + span * rng.uniform();
+      rng.fillUniform(z, from, to, spec.from_m, spec.to_m - spec.from_m);
       return;
     }
     case 'gaussian':
@@ -132,15 +130,9 @@ function sampleVelocities(
   species: SpeciesInfo,
   rng: SeededRandom,
 ): void {
+  // Truncated normal: draws below the minimum are redrawn, then clamped (see fillNormal).
   if (spec.kind === 'normal') {
-    const mean = spec.mean_m_per_s;
-    const sd = spec.sd_m_per_s;
-    const minimum = spec.minimum_m_per_s;
-    for (let i = from; i < to; i++) {
-      let x = mean + sd * rng.normal();
-      for (let tries = 0; x < minimum && tries < MAX_REDRAWS; tries++) x = mean + sd * rng.normal();
-      v[i] = Math.max(x, minimum);
-    }
+    rng.fillNormal(v, from, to, spec.mean_m_per_s, spec.sd_m_per_s, spec.minimum_m_per_s, MAX_REDRAWS);
     return;
   }
   // The ion's mass m = (m/z)·z·u, not its m/z, sets its speed for a given energy or temperature.
@@ -150,11 +142,8 @@ function sampleVelocities(
     for (let i = from; i < to; i++) v[i] = sd * rng.normal();
     return;
   }
-  for (let i = from; i < to; i++) {
-    let energy = spec.mean_J + spec.sd_J * rng.normal();
-    for (let tries = 0; energy < 0 && tries < MAX_REDRAWS; tries++) energy = spec.mean_J + spec.sd_J * rng.normal();
-    v[i] = Math.sqrt((2 * Math.max(energy, 0)) / mass_kg);
-  }
+  // Energy normal truncated at 0, each kept draw turned into the speed sqrt(2E/m).
+  rng.fillNormal(v, from, to, spec.mean_J, spec.sd_J, 0, MAX_REDRAWS, mass_kg);
 }
 
 function sampleTransverse(ens: Ensemble, from: number, to: number, spec: TransverseSpec, species: SpeciesInfo, rng: SeededRandom): void {

@@ -30,6 +30,11 @@ export interface RunOptions {
    * only the per-species spectrum peaks (what a scan ranked by the measured R needs).
    */
   readonly analysis?: boolean | 'peaks';
+  /**
+   * The per-ion trace of this run's population, already computed (a run split over workers:
+   * src/simulation/runChunks.ts); used in place of tracing. Only for models without a solved region.
+   */
+  readonly traced?: TraceResult;
 }
 
 export interface SimulationResult {
@@ -52,11 +57,11 @@ export function simulate(preset: Preset, options: RunOptions = {}): SimulationRe
     seed: options.seed ?? compiled.population.seed,
   };
   const ensemble = samplePopulation(population);
-  const trace = allocateTraceResult(ensemble.count);
+  const trace = options.traced ?? allocateTraceResult(ensemble.count);
   // The closed form wherever the field allows it; the mixed tracer when some region needs integration.
   const mixed = needsIntegrator(compiled.model);
-  const mirrorMap = mixed ? traceMixed(compiled.model, ensemble, trace) : null;
-  if (!mixed) traceExact(compiled.model, ensemble, trace);
+  const mirrorMap = mixed && !options.traced ? traceMixed(compiled.model, ensemble, trace) : null;
+  if (!mixed && !options.traced) traceExact(compiled.model, ensemble, trace);
   applyDetectorPlane(compiled.model, ensemble, trace);
   // With space charge on, the ions are retraced shot by shot (the headline then includes it).
   const load = traceIonLoad(preset, compiled.model, ensemble, trace, population.seed);

@@ -71,6 +71,19 @@ export class EngineWorkerClient {
     return this.guard(() => this.slots[0].remote.run(request) as Promise<RunOutput>);
   }
 
+  /**
+   * `work` on every worker's endpoint, wrapped as T, with calls guarded as run's are (rejected on
+   * cancel, results of an earlier generation dropped): for a run split over the pool (src/ui/engine/splitRun.ts).
+   */
+  onLanes<T, R>(work: (lanes: readonly Comlink.Remote<T>[], guard: <V>(call: () => Promise<V>) => Promise<V>) => Promise<R>): Promise<R> {
+    const generation = this.generation;
+    const lanes = this.slots.map((slot) => slot.remote as unknown as Comlink.Remote<T>);
+    return this.guardResult(
+      work(lanes, (call) => this.guard(call, generation)),
+      generation,
+    );
+  }
+
   scan(request: ScanRequest): Promise<ScanResult> {
     const generation = this.generation;
     return this.guardResult(scanWith(this.pool(), request, (p) => this.progress(generation, p)), generation);

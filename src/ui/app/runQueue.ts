@@ -1,7 +1,9 @@
 /**
  * Runs of the working setup: at most one in flight; a newer request replaces a queued one. While a
  * control is dragged the setup runs with few ions and no simulated digitizer ('live'); when the
- * change is finished it runs in full ('final'). The status becomes 'done' once the last run is drawn.
+ * change is finished it runs in full ('final'). A run still in flight when a newer change is
+ * finished is stale: its result is dropped, not drawn (live previews during a drag are still drawn,
+ * or a long drag would show nothing). The status becomes 'done' once the last run is drawn.
  */
 import type { Preset } from '../../presets/schema';
 import type { RunOutput } from '../../simulation/runContract';
@@ -17,6 +19,8 @@ export interface RunJob {
   readonly kind: EditPhase;
   /** When the change that caused this run was made (performance.now()). */
   readonly requestedAt: number;
+  /** Order of the requests (a later request has a larger number). */
+  readonly sequence: number;
 }
 
 /** While dragging: no simulated digitizer (its spectrum per species costs most of a run). */
@@ -29,6 +33,10 @@ export class RunQueue {
   private inFlight: RunJob | null = null;
   private queued: RunJob | null = null;
   private generation = 0;
+  private sequence = 0;
+  /** Sequence number of the latest finished change's run: older results are stale. */
+  private latestFinal = -1;
+  private dropped = 0;
 
   constructor(
     private readonly engine: EngineClient,
@@ -40,7 +48,8 @@ export class RunQueue {
   request(working: Preset, kind: EditPhase, liveIons: number): void {
     const ions = kind === 'live' ? Math.min(liveIons, working.run.ions) : working.run.ions;
     const preset = kind === 'live' ? previewOf(working) : working;
-    const job: RunJob = { generation: this.generation, preset, ions, kind, requestedAt: performance.now() };
+    const job: RunJob = { generation: this.generation, preset, ions, kind, requestedAt: performance.now(), sequence: this.sequence++ };
+    if (kind === 'final') this.latestFinal = job.sequence;
     setStatus('running');
     if (this.inFlight) {
       this.queued = job;
@@ -60,7 +69,11 @@ export class RunQueue {
     try {
       // The worker also computes what the 3D view draws, and the focus scan for full runs.
       const output = await this.engine.run({ preset: job.preset, ions: job.ions, seed: job.preset.run.seed, scene: {}, focusScan: job.kind === 'final' });
-      if (job.generation === this.generation) this.render(job, output);
+      if (job.generation === this.generation && job.sequence >= this.latestFinal) this.render(job, output);
+      else {
+        // Read by the browser tests: how many finished runs were dropped as stale.
+        document.body.dataset.runsDropped = String(++this.dropped);
+      }
     } catch (err) {
       if (!isCancelled(err)) {
         setStatus('error');

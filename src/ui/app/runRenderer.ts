@@ -72,6 +72,8 @@ export class RunRenderer {
       document.body.dataset.lastUpdateMs = latency.toFixed(1);
       document.body.dataset.lastEngineMs = output.elapsed_ms.toFixed(1);
       document.body.dataset.lastRenderMs = (performance.now() - renderStart).toFixed(1);
+      // Per-ion result fingerprint: the browser tests compare a pooled run with a one-worker run by it.
+      document.body.dataset.lastRunDigest = `${bytesDigest(output.flightTime_s)}-${bytesDigest(output.fate)}`;
     }
     this.statusLine.textContent = `${formatCount(job.ions)} ions · engine ${output.elapsed_ms.toFixed(0)} ms · shown ${latency.toFixed(0)} ms after the change`;
   }
@@ -108,4 +110,12 @@ export class RunRenderer {
     );
     paintSwatches(this.legend);
   }
+}
+
+/** FNV-1a (32 bit) over the bytes of a typed array, as hex: a fingerprint, not a checksum against attack. */
+function bytesDigest(a: Float64Array | Uint8Array): string {
+  const bytes = new Uint8Array(a.buffer, a.byteOffset, a.byteLength);
+  let h = 0x811c9dc5;
+  for (let i = 0; i < bytes.length; i++) h = Math.imul(h ^ bytes[i], 0x01000193);
+  return (h >>> 0).toString(16).padStart(8, '0');
 }

@@ -102,7 +102,7 @@ export class LoadChartView {
       const p = points[bad];
       return this.setState('error', `At ${values[bad]} ions per shot the setup is refused: ${p.ok ? '' : formatIssues(p.issues).replace(/\n/g, '; ')}`);
     }
-    this.engine ??= createRunEngine();
+    this.engine ??= createRunEngine(1);
     this.progress.value = 0;
     this.setState('running', `Running ${values.length} points…`);
     const reports = [];

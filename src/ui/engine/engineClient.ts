@@ -9,6 +9,7 @@ import { CancelledError } from '../../tuning/errors';
 import type { EngineWorkerClient } from '../../tuning/workerClient';
 import type { ToleranceRequest, ToleranceResult } from '../../tolerance/analysis';
 import { createEngineWorkerPool, defaultPoolSize } from '../../../workers/pool';
+import { shouldSplit, splitRun, type SplitRunLane } from './splitRun';
 
 export interface EngineClient {
   run(request: RunRequest): Promise<RunOutput>;
@@ -29,6 +30,8 @@ class PoolEngineClient implements EngineClient {
   constructor(private readonly client: EngineWorkerClient) {}
 
   run(request: RunRequest): Promise<RunOutput> {
+    // Split over the pool where that keeps the numbers (no solved field) and is worth it.
+    if (shouldSplit(request, this.client.size)) return this.client.onLanes<SplitRunLane, RunOutput>((lanes, guard) => splitRun(lanes as unknown as SplitRunLane[], request, guard));
     return this.client.run(request);
   }
 
@@ -56,13 +59,22 @@ class PoolEngineClient implements EngineClient {
   }
 }
 
-/** One worker for the interactive runs. */
-export function createRunEngine(): EngineClient {
-  return new PoolEngineClient(createEngineWorkerPool(1));
+/**
+ * The interactive runs' pool: one worker per core (a run is split over them, src/ui/engine/splitRun.ts).
+ * `workers` overrides the size (the browser tests compare a pooled run with a one-worker run).
+ */
+export function createRunEngine(workers = defaultPoolSize()): EngineClient {
+  return new PoolEngineClient(createEngineWorkerPool(Math.max(1, Math.floor(workers))));
 }
 
 /** A pool for scans and tunes, leaving one core to the page and the run worker where there are enough. */
 export function createTuningEngine(): EngineClient {
   const cores = defaultPoolSize();
   return new PoolEngineClient(createEngineWorkerPool(Math.max(1, cores > 2 ? cores - 1 : cores)));
+}
+
+/** The run pool's size asked for by the page address (`?runWorkers=N`, 1–8), else undefined (one per core). */
+export function runWorkersFromQuery(search: string): number | undefined {
+  const n = Number(new URLSearchParams(search).get('runWorkers'));
+  return Number.isInteger(n) && n >= 1 && n <= 8 ? n : undefined;
 }

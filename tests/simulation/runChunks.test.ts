@@ -1,0 +1,154 @@
+/**
+ * A run split over workers (src/simulation/runChunks.ts, src/ui/engine/splitRun.ts): the chunks tile
+ * the ions, join in ion order, and the split run gives bit for bit the per-ion results and the
+ * report of the unsplit run, also across MessageChannel ports with the buffers transferred.
+ */
+import { readdirSync, readFileSync } from 'node:fs';
+import * as Comlink from 'comlink';
+import type { Endpoint } from 'comlink';
+import { afterAll, describe, expect, it } from 'vitest';
+import { hasSolvedRegion } from '../../src/physics/analyser';
+import { compilePreset } from '../../src/presets/compile';
+import { parsePresetText } from '../../src/presets/load';
+import type { Preset } from '../../src/presets/schema';
+import { chunkBounds, chunkCount, concatChunks, MIN_CHUNK_IONS, splitsOverWorkers, traceRunChunk, traceTransferables, type SplitRunTasks, type TraceChunk } from '../../src/simulation/runChunks';
+import type { RunOutput, RunRequest } from '../../src/simulation/runContract';
+import { runOutputTransferables, runRequest } from '../../src/simulation/runOutput';
+import { shouldSplit, splitRun, type SplitRunLane } from '../../src/ui/engine/splitRun';
+
+const PRESETS = new URL('../../presets/', import.meta.url);
+function demo(file: string, edit?: (doc: Record<string, any>) => void): Preset {
+  const doc = JSON.parse(readFileSync(new URL(file, PRESETS), 'utf8')) as Record<string, any>;
+  edit?.(doc);
+  const loaded = parsePresetText(JSON.stringify(doc));
+  if (!loaded.ok) throw new Error(`${file} invalid`);
+  return loaded.value;
+}
+
+const exact = demo('demo-linear-delayed.json');
+const pulse = demo('demo-linear-delayed.json', (d) => {
+  d.source.extraction.rise = { shape: 'exponential', timeConstant_ns: 12 };
+});
+
+const bits = (a: Float64Array | Uint8Array): string => Buffer.from(a.buffer, a.byteOffset, a.byteLength).toString('hex');
+const withoutClock = (o: RunOutput) => ({ ...o, elapsed_ms: 0 });
+
+describe('chunk bounds', () => {
+  it('tile [0, count) contiguously with sizes differing by at most one', () => {
+    for (const [count, parts] of [
+      [20_000, 2],
+      [20_001, 3],
+      [7, 4],
+      [5, 9],
+    ]) {
+      const b = chunkBounds(count, parts);
+      expect(b[0]).toBe(0);
+      expect(b[b.length - 1]).toBe(count);
+      expect(b.length - 1).toBe(Math.min(parts, count));
+      const sizes = b.slice(1).map((x, k) => x - b[k]);
+      expect(Math.max(...sizes) - Math.min(...sizes)).toBeLessThanOrEqual(1);
+      expect(Math.min(...sizes)).toBeGreaterThan(0);
+    }
+  });
+
+  it('small runs stay in one chunk', () => {
+    expect(chunkCount(MIN_CHUNK_IONS * 2 - 1, 4)).toBe(1);
+    expect(chunkCount(20_000, 2)).toBe(2);
+    expect(chunkCount(20_000, 1)).toBe(1);
+  });
+});
+
+describe('joining chunks', () => {
+  const chunk = (from: number, to: number): TraceChunk => {
+    const n = to - from;
+    const f = new Float64Array(n).map((_, i) => from + i);
+    return { from, to, flightTime_s: f, fate: new Uint8Array(n).fill(from % 7), finalSpeed_m_per_s: f.slice(), weight: f.slice(), detectorX_m: f.slice(), detectorY_m: f.slice(), elapsed_ms: 0 };
+  };
+
+  it('puts chunks given in any order back in ion order', () => {
+    const joined = concatChunks(10, [chunk(6, 10), chunk(0, 3), chunk(3, 6)]);
+    expect(Array.from(joined.flightTime_s)).toEqual([0, 1, 2, 3, 4, 5, 6, 7, 8, 9]);
+    expect(Array.from(joined.fate)).toEqual([0, 0, 0, 3, 3, 3, 6, 6, 6, 6]);
+    expect(Array.from(joined.detectorY_m)).toEqual(Array.from(joined.flightTime_s));
+  });
+
+  it('refuses a gap, an overlap or a short cover', () => {
+    expect(() => concatChunks(10, [chunk(0, 3), chunk(4, 10)])).toThrow(/expected one from 3/);
+    expect(() => concatChunks(10, [chunk(0, 5), chunk(4, 10)])).toThrow(/expected one from 5/);
+    expect(() => concatChunks(10, [chunk(0, 8)])).toThrow(/cover 8 of 10/);
+  });
+});
+
+describe('which runs are split', () => {
+  it('the preset test agrees with the compiled model for every shipped demo (solved fields are not split)', () => {
+    const files = readdirSync(PRESETS).filter((f) => f.startsWith('demo-') && f.endsWith('.json'));
+    expect(files.length).toBeGreaterThan(4);
+    let solved = 0;
+    for (const file of files) {
+      const p = demo(file);
+      const has = hasSolvedRegion(compilePreset(p).model);
+      if (has) solved++;
+      expect(splitsOverWorkers(p), file).toBe(!has);
+    }
+    expect(solved).toBeGreaterThan(0);
+  });
+
+  it('a chunk of a solved-field run is refused; such a run is not split', () => {
+    const gridless = demo('demo-gridless-mirror.json');
+    expect(() => traceRunChunk({ preset: gridless, ions: 3000 }, 0, 1500)).toThrow(/solved field/);
+    expect(shouldSplit({ preset: gridless, ions: 20_000 }, 2)).toBe(false);
+    // Closed-form runs spend little of the run tracing: not split; integrator-traced runs are.
+    expect(shouldSplit({ preset: exact, ions: 20_000 }, 2)).toBe(false);
+    expect(shouldSplit({ preset: pulse, ions: 20_000 }, 2)).toBe(true);
+    expect(shouldSplit({ preset: pulse, ions: 20_000 }, 1)).toBe(false);
+  });
+});
+
+const inProcess: SplitRunTasks = {
+  traceRunChunk: (request, from, to) => traceRunChunk(request, from, to),
+  finishRun: (request, traced) => runRequest(request, undefined, traced),
+};
+const lanes = (n: number): SplitRunLane[] => Array.from({ length: n }, () => ({ traceRunChunk: async (r, a, b) => inProcess.traceRunChunk(r, a, b), finishRun: async (r, t) => inProcess.finishRun(r, t) }));
+
+describe('a split run equals the unsplit run bit for bit', () => {
+  const cases: Array<[string, RunRequest]> = [
+    ['exact (linear delayed extraction demo)', { preset: exact, ions: 9_001, seed: 11, scene: {} }],
+    ['rising pulse (same demo, exponential repeller rise)', { preset: pulse, ions: 6_000, seed: 12 }],
+  ];
+  for (const [name, request] of cases) {
+    it(name, async () => {
+      const whole = runRequest(request);
+      const split = await splitRun(lanes(3), request);
+      expect(bits(split.flightTime_s)).toBe(bits(whole.flightTime_s));
+      expect(bits(split.fate)).toBe(bits(whole.fate));
+      expect(withoutClock(split)).toEqual(withoutClock(whole));
+    });
+  }
+
+  const ports: MessagePort[] = [];
+  afterAll(() => ports.forEach((p) => p.close()));
+
+  it('over MessageChannel ports, the trace buffers transferred both ways', async () => {
+    const transferred: SplitRunTasks = {
+      traceRunChunk: (r, a, b) => {
+        const c = traceRunChunk(r, a, b);
+        return Comlink.transfer(c, traceTransferables(c));
+      },
+      finishRun: (r, t) => {
+        const out = runRequest(r, undefined, t);
+        return Comlink.transfer(out, runOutputTransferables(out));
+      },
+    };
+    const remote = Array.from({ length: 2 }, () => {
+      const { port1, port2 } = new MessageChannel();
+      ports.push(port1, port2);
+      Comlink.expose(transferred, port1 as unknown as Endpoint);
+      return Comlink.wrap<SplitRunTasks>(port2 as unknown as Endpoint) as unknown as SplitRunLane;
+    });
+    const request: RunRequest = { preset: exact, ions: 5_000, seed: 3 };
+    const whole = runRequest(request);
+    const split = await splitRun(remote, request);
+    expect(bits(split.flightTime_s)).toBe(bits(whole.flightTime_s));
+    expect(withoutClock(split)).toEqual(withoutClock(whole));
+  });
+});
