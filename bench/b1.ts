@@ -4,7 +4,7 @@
  */
 import { allocateEnsemble, allocateTraceResult } from '../src/ions/ensemble';
 import { samplePopulation } from '../src/ions/population';
-import { traceExact } from '../src/physics/exactEngine';
+import { traceEnsemble } from '../src/physics/regions/driver';
 import { Fate } from '../src/physics/fates';
 import { compilePreset } from '../src/presets/compile';
 import { validatePreset } from '../src/presets/load';
@@ -32,11 +32,11 @@ export function runB1(repeats = 5): B1Figures {
   const sampleSeconds = (performance.now() - t0) / 1000;
 
   const trace = allocateTraceResult(ensemble.count);
-  traceExact(model, ensemble, trace); // warm-up: let the JIT optimise the kernels
+  traceEnsemble(model, ensemble, trace); // warm-up: let the JIT optimise the kernels
   let best = Infinity;
   for (let r = 0; r < repeats; r++) {
     const start = performance.now();
-    traceExact(model, ensemble, trace);
+    traceEnsemble(model, ensemble, trace);
     best = Math.min(best, (performance.now() - start) / 1000);
   }
   let bestSample = Infinity;
@@ -52,7 +52,7 @@ export function runB1(repeats = 5): B1Figures {
   ref.z0_m[0] = B1_REFERENCE.z0_m;
   ref.vz0_m_per_s[0] = B1_REFERENCE.v0_m_per_s;
   const refTrace = allocateTraceResult(1);
-  traceExact(model, ref, refTrace);
+  traceEnsemble(model, ref, refTrace);
   if (refTrace.fate[0] !== Fate.DETECTED) throw new Error('B1 reference ion was not detected');
 
   return {

@@ -1,5 +1,5 @@
 /**
- * B2 figures: ions per second through the mixed tracer (the rising part integrated numerically, as
+ * B2 figures: ions per second through the region driver (the rising part integrated numerically, as
  * the problem demands for this figure, although the default engine has a closed form for it,
  * single thread, sampling excluded; the best of five passes, the one least disturbed by other work on
  * a shared machine), the largest relative error against the independent reference,
@@ -12,8 +12,8 @@ import { allocateTraceResult } from '../src/ions/ensemble';
 import type { AnalyserModel } from '../src/physics/analyser';
 import { samplePopulation } from '../src/ions/population';
 import { Fate } from '../src/physics/fates';
-import { counters } from '../src/physics/numericRegions';
-import { traceMixed } from '../src/physics/tracer';
+import { createTraceCounters } from '../src/physics/regions/contract';
+import { traceEnsemble } from '../src/physics/regions/driver';
 import { compilePreset } from '../src/presets/compile';
 import { validatePreset } from '../src/presets/load';
 import { b2Preset, b2ReferenceFlightTime } from './problems/b2';
@@ -47,15 +47,16 @@ export function runB2(repeats = 5): B2Figures {
   const ensemble = samplePopulation(compiled.population);
   const trace = allocateTraceResult(ensemble.count);
   const timed = (m: AnalyserModel): { seconds: number; steps: number; maxRel: number } => {
-    traceMixed(m, ensemble, trace); // warm-up
+    const counters = createTraceCounters();
+    traceEnsemble(m, ensemble, trace, { counters }); // warm-up
     let best = Infinity;
     let steps = 0;
     for (let r = 0; r < repeats; r++) {
-      counters.steps = 0;
+      counters.axialSteps = 0;
       const start = performance.now();
-      traceMixed(m, ensemble, trace);
+      traceEnsemble(m, ensemble, trace, { counters });
       best = Math.min(best, (performance.now() - start) / 1000);
-      steps = counters.steps;
+      steps = counters.axialSteps;
     }
     let maxRel = 0;
     for (let i = 0; i < ensemble.count; i++) {

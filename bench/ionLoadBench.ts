@@ -8,7 +8,7 @@ import { simulateDetection } from '../src/analysis/acquisition/detection';
 import { partitionShots } from '../src/analysis/acquisition/shots';
 import { allocateTraceResult } from '../src/ions/ensemble';
 import { samplePopulation } from '../src/ions/population';
-import { traceExact } from '../src/physics/exactEngine';
+import { traceEnsemble } from '../src/physics/regions/driver';
 import { traceWithSpaceCharge } from '../src/physics/spaceCharge/traceShots';
 import { compilePreset } from '../src/presets/compile';
 import { validatePreset } from '../src/presets/load';
@@ -36,7 +36,7 @@ export function benchIonLoad(): Record<string, number> {
 
   const ens = samplePopulation(population);
   const trace = allocateTraceResult(ens.count);
-  traceExact(model, ens, trace);
+  traceEnsemble(model, ens, trace);
   let lo = Infinity;
   let hi = -Infinity;
   for (let i = 0; i < ens.count; i++) if (trace.fate[i] === 1) [lo, hi] = [Math.min(lo, trace.flightTime_s[i]), Math.max(hi, trace.flightTime_s[i])];

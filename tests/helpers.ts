@@ -1,7 +1,7 @@
 /** Small builders shared by the tests: single-ion traces and hand-built analyser models. */
 import type { AnalyserModel } from '../src/physics/analyser';
 import { allocateEnsemble, allocateTraceResult } from '../src/ions/ensemble';
-import { traceExact } from '../src/physics/exactEngine';
+import { traceEnsemble } from '../src/physics/regions/driver';
 
 export interface SingleTrace {
   t: number;
@@ -14,7 +14,7 @@ export function traceOne(model: AnalyserModel, mz: number, z0_m: number, v0_m_pe
   ens.z0_m[0] = z0_m;
   ens.vz0_m_per_s[0] = v0_m_per_s;
   const out = allocateTraceResult(1);
-  traceExact(model, ens, out);
+  traceEnsemble(model, ens, out);
   return { t: out.flightTime_s[0], fate: out.fate[0], v: out.finalSpeed_m_per_s[0] };
 }
 

@@ -3,17 +3,17 @@
  * an analyser of ideal grids with uniform static fields in each stage (the source field may switch
  * once, as an ideal step, at the extraction delay), each stage crossing in closed form
  * (src/physics/uniformField.ts), exact to rounding. The engine itself is the region model
- * (src/physics/regions/): these are thin wrappers over its driver and its closed-form crossings,
- * kept for callers elsewhere (simulation, space charge, the scene, tests, benchmarks).
+ * (src/physics/regions/): the single-crossing functions below are the closed-form crossings one
+ * at a time, the entry points of the space-charge engine (which moves ions between crossings
+ * itself) and of the source-side checks; `traceExact` is kept only for the solved-field tests and
+ * benchmark that still call it (the run, the scene and the other benchmarks call the driver).
  */
 import type { AnalyserModel } from './analyser';
 import { hasSolvedRegion } from './analyser';
 import { Fate } from './fates';
 import { extract, fieldFree, holdUntil, postGap, stageMirror } from './regions/closedForm';
-import { Section, createIonState as createRegionIonState, type AxialState, type IonState as RegionIonState } from './regions/contract';
-import { PlanKernels, flySections, traceEnsemble } from './regions/driver';
-import { SolvedFieldTracer } from './regions/solvedTracer';
-import { loadWithTransverse, transverse } from './solvedMirror';
+import { createIonState as createRegionIonState, type AxialState, type IonState as RegionIonState } from './regions/contract';
+import { traceEnsemble } from './regions/driver';
 import { legacyTally } from './regions/legacyTally';
 import { createFlightPlan, preparePlanForMz, type FlightPlan } from './regions/plan';
 import { createMotion } from './uniformField';
@@ -78,28 +78,6 @@ export function postAccelerateExact(st: IonState, plan: ExactPlan): boolean {
   const ok = postGap(st, plan, motion, null);
   st.z = z;
   return ok;
-}
-
-const planKernels = new PlanKernels(new SolvedFieldTracer(legacyTally));
-const full = createRegionIonState();
-
-/**
- * One ion from its start to its fate, entirely in closed form (solved regions traced), from a plan
- * alone; the transverse state is the compatibility record of src/physics/solvedMirror.ts.
- */
-export function traceOneExact(st: IonState, plan: ExactPlan): void {
-  loadWithTransverse(full, st, st.z);
-  flySections(planKernels.for(plan), full, plan, Section.SOURCE, plan.maxFlightTime_s, null);
-  st.t = full.t;
-  st.z = full.z;
-  st.v = full.v;
-  st.fate = full.fate;
-  st.w = full.w;
-  transverse.tRef = full.tRef;
-  transverse.xRef = full.xRef;
-  transverse.yRef = full.yRef;
-  transverse.vxRef = full.vxRef;
-  transverse.vyRef = full.vyRef;
 }
 
 /** Trace every ion of `ens` with the closed form (the region model's driver, no transfer map), writing into `out`. */

@@ -10,7 +10,7 @@
  * down the return leg. Within segment k, x(t) = x0[k] + v0[k]·τ + a[k]·τ²/2 with τ = t − t0[k].
  */
 import { Fate } from './fates';
-import { Section, createIonState, type IonState, type SectionCode, type SegmentObserver } from './regions/contract';
+import { Section, SegmentKind, createIonState, type IonState, type SectionCode, type SegmentObserver } from './regions/contract';
 import { flySections } from './regions/driver';
 import { FieldFreeKernel, PostGapKernel, StageMirrorKernel, StaticSourceKernel } from './regions/uniformStages';
 import type { RegionKernel } from './regions/contract';
@@ -70,6 +70,16 @@ export function createTrajectory(): Trajectory {
 }
 
 function push(tr: Trajectory, region: RegionCode, stage: number, t0: number, dt: number, x0: number, v0: number, a: number): void {
+  if (tr.count === MAX_SEGMENTS) {
+    // Full (an integrated crossing restarted at many waveform breakpoints): the last segment becomes
+    // the chord from its start to this segment's end, so the path still ends where the ion did.
+    const k = MAX_SEGMENTS - 1;
+    const span = t0 + dt - tr.t0_s[k];
+    const xEnd = x0 + v0 * dt + 0.5 * a * dt * dt;
+    tr.dt_s[k] = span;
+    tr.a_m_per_s2[k] = span > 0 ? (2 * (xEnd - tr.x0_m[k] - tr.v0_m_per_s[k] * span)) / (span * span) : 0;
+    return;
+  }
   const k = tr.count++;
   tr.region[k] = region;
   tr.stage[k] = stage;
@@ -85,7 +95,9 @@ function push(tr: Trajectory, region: RegionCode, stage: number, t0: number, dt:
  * source from the repeller, the drift from the ground grid, the mirror from its entrance grid
  * (in, then out again time-reversed), the return leg and the post-acceleration gap back towards
  * the detector. Mirror and return positions are summed here in flight order from the frame's
- * origin, so a path is the same to the bit whichever kernel reported it.
+ * origin, so a path is the same to the bit whichever closed-form kernel reported it. A chord (an
+ * integrated or solved crossing: exact end points, the acceleration that joins them) is placed
+ * as reported, the mirror's depth counted from its entrance grid.
  */
 export class TrajectoryRecorder implements SegmentObserver {
   private plan: FlightPlan | null = null;
@@ -120,9 +132,13 @@ export class TrajectoryRecorder implements SegmentObserver {
     } else if (section === Section.MIRROR) this.mirrored = true;
   }
 
-  segment(section: SectionCode, stage: number, t0: number, dt: number, z0: number, v0: number, a: number, _kind?: number): void {
+  segment(section: SectionCode, stage: number, t0: number, dt: number, z0: number, v0: number, a: number, kind?: number): void {
     const tr = this.tr;
     const plan = this.plan!;
+    if (section === Section.MIRROR && kind === SegmentKind.CHORD) {
+      push(tr, v0 > 0 ? Region.MIRROR_IN : Region.MIRROR_OUT, stage, t0, dt, this.mirrorEntrance + z0, v0, a);
+      return;
+    }
     switch (section) {
       case Section.SOURCE:
         push(tr, t0 < plan.delay_s ? Region.HOLD : Region.SOURCE, stage, t0, dt, z0, v0, a);

@@ -10,7 +10,7 @@ import { compilePreset } from '../presets/compile';
 import type { Preset } from '../presets/schema';
 import { samplePopulation } from '../ions/population';
 import { createExactPlan, createIonState, holdExactUntil, prepareExactPlan } from '../physics/exactEngine';
-import { Fate } from '../physics/fates';
+import { startIonState } from '../physics/regions/contract';
 
 export interface PulseReach {
   /** Ions still inside the source at the pulse, and those of them past the first stage's exit plane. */
@@ -31,11 +31,7 @@ export function pulseReach(idealPreset: Preset, options: { ions?: number; seed?:
   for (let s = 0; s < ens.species.length; s++) {
     prepareExactPlan(plan, model, ens.species[s].mz);
     for (let i = ens.speciesStart[s]; i < ens.speciesStart[s + 1]; i++) {
-      st.t = 0;
-      st.z = ens.z0_m[i];
-      st.v = ens.vz0_m_per_s[i];
-      st.fate = Fate.UNSET;
-      st.w = 1;
+      startIonState(st, ens.z0_m[i], ens.vz0_m_per_s[i]);
       if (!holdExactUntil(st, plan, plan.delay_s)) continue;
       inSource++;
       if (st.z > plan.sourcePlane_m[1]) pastFirstStage++;

@@ -6,9 +6,9 @@ import { compilePreset, type CompiledPreset } from '../presets/compile';
 import type { Preset } from '../presets/schema';
 import { allocateTraceResult, type Ensemble, type TraceResult } from '../ions/ensemble';
 import { samplePopulation } from '../ions/population';
-import { applyDetectorPlane, traceExact } from '../physics/exactEngine';
-import { needsIntegrator } from '../physics/analyser';
-import { traceMixed } from '../physics/tracer';
+import { applyDetectorPlane } from '../physics/exactEngine';
+import { traceEnsemble } from '../physics/regions/driver';
+import type { MirrorMapReport } from '../physics/solvedMirrorMap';
 import { attachAnalysis, buildReport, type RunReport } from './report';
 import { buildAnalysisSections, type AnalysisSections } from './analysisReport';
 import { ionLoadSections, traceIonLoad, type IonLoadReport } from './ionLoad';
@@ -58,10 +58,10 @@ export function simulate(preset: Preset, options: RunOptions = {}): SimulationRe
   };
   const ensemble = samplePopulation(population);
   const trace = options.traced ?? allocateTraceResult(ensemble.count);
-  // The closed form wherever the field allows it; the mixed tracer when some region needs integration.
-  const mixed = needsIntegrator(compiled.model);
-  const mirrorMap = mixed && !options.traced ? traceMixed(compiled.model, ensemble, trace) : null;
-  if (!mixed && !options.traced) traceExact(compiled.model, ensemble, trace);
+  // The closed form wherever the field allows it (over blocks of ions); ion by ion when some region needs integration.
+  const map: { report: MirrorMapReport | null } = { report: null };
+  if (!options.traced) traceEnsemble(compiled.model, ensemble, trace, { onMirrorMap: (r) => (map.report = r) });
+  const mirrorMap = map.report;
   applyDetectorPlane(compiled.model, ensemble, trace);
   // With space charge on, the ions are retraced shot by shot (the headline then includes it).
   const load = traceIonLoad(preset, compiled.model, ensemble, trace, population.seed);

@@ -1,6 +1,6 @@
 /**
  * The exact engine region by region (src/physics/exactBatch.ts) against the same engine ion by
- * ion (exactEngine.traceOneExact): a change of loop order only, so flight time, fate, final speed
+ * ion (the driver's closed-form kernels flown one ion at a time, Flight.fly): a change of loop order only, so flight time, fate, final speed
  * and weight must agree to the bit, on the shipped presets and on generated analysers (fast-check)
  * that reach every fate: repeller strikes, ions leaving during the delay, mirrors passed through,
  * turned back before the detector, resting in a field-free stage, timed out.
@@ -11,7 +11,9 @@ import { describe, expect, it } from 'vitest';
 import { allocateEnsemble, allocateTraceResult, type Ensemble, type TraceResult } from '../../src/ions/ensemble';
 import { samplePopulation } from '../../src/ions/population';
 import { hasSolvedRegion, type AnalyserModel } from '../../src/physics/analyser';
-import { createExactPlan, createIonState, prepareExactPlan, traceExact, traceOneExact } from '../../src/physics/exactEngine';
+import { traceExact } from '../../src/physics/exactEngine';
+import { createIonState, startIonState } from '../../src/physics/regions/contract';
+import { createFlight } from '../../src/physics/regions/driver';
 import { Fate } from '../../src/physics/fates';
 import { compilePreset } from '../../src/presets/compile';
 import { parsePresetText } from '../../src/presets/load';
@@ -20,19 +22,14 @@ import { buildModel } from '../helpers';
 /** Evenly spread over [min, max] (fast-check's doubles crowd towards zero and the ends). */
 const spread = (min: number, max: number) => fc.integer({ min: 0, max: 1_000_000 }).map((k) => min + ((max - min) * k) / 1_000_000);
 
-/** The ion-by-ion reference: traceOneExact per ion, as the engine did before the batch kernels. */
+/** The ion-by-ion reference: the same closed-form kernels flown ion by ion, as the engine did before the batch kernels. */
 function traceIonByIon(model: AnalyserModel, ens: Ensemble, out: TraceResult): void {
-  const plan = createExactPlan();
+  const flight = createFlight(model, { engine: 'mixed', transferMap: false });
   const st = createIonState();
   for (let s = 0; s < ens.species.length; s++) {
-    prepareExactPlan(plan, model, ens.species[s].mz);
+    flight.setMz(ens.species[s].mz);
     for (let i = ens.speciesStart[s]; i < ens.speciesStart[s + 1]; i++) {
-      st.t = 0;
-      st.z = ens.z0_m[i];
-      st.v = ens.vz0_m_per_s[i];
-      st.fate = Fate.UNSET;
-      st.w = 1;
-      traceOneExact(st, plan);
+      flight.fly(startIonState(st, ens.z0_m[i], ens.vz0_m_per_s[i]));
       out.flightTime_s[i] = st.t;
       out.fate[i] = st.fate;
       out.finalSpeed_m_per_s[i] = st.fate === Fate.DETECTED ? Math.abs(st.v) : 0;

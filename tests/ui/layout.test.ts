@@ -51,7 +51,7 @@ describe('3D layout', () => {
   it('drawn paths fit their vertex budget and packets sit on the paths', () => {
     const compiled = compilePreset(demoPreset('demo-reflectron-dual'));
     const layout = buildLayout(compiled.model);
-    const ions = unpackDrawnIons(createDrawnIons(), traceDrawnPaths(compiled, compiled.model));
+    const ions = unpackDrawnIons(createDrawnIons(), traceDrawnPaths(compiled));
     expect(ions.count).toBe(4 * 160);
     const budget = pathVertexBudget(ions);
     const positions = new Float32Array(3 * budget);

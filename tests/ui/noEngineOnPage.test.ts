@@ -53,7 +53,7 @@ function resolved(fromFile: string, specifier: string): string | null {
 describe('no engine on the page', () => {
   it('the import scanner tells value imports from type-only ones', () => {
     const sample = [
-      "import { traceExact } from '../../physics/exactEngine';",
+      "import { traceEnsemble } from '../../physics/regions/driver';",
       "import type { AnalyserModel } from '../../physics/analyser';",
       "import { type Trajectory } from '../../physics/trajectory';",
       "import {\n  createExactPlan,\n  type ExactPlan,\n} from '../../physics/exactEngine';",
@@ -61,7 +61,7 @@ describe('no engine on the page', () => {
       "export type { Region } from '../../physics/trajectory';",
       "const lazy = () => import('../../fields/laplace');",
     ].join('\n');
-    expect(valueImports(sample)).toEqual(['../../physics/exactEngine', '../../physics/exactEngine', '../../physics/trajectory', '../../fields/laplace']);
+    expect(valueImports(sample)).toEqual(['../../physics/regions/driver', '../../physics/exactEngine', '../../physics/trajectory', '../../fields/laplace']);
   });
 
   it('no module under src/ui imports an engine module except for its types', () => {

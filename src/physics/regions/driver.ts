@@ -178,31 +178,6 @@ function enterSection(observer: SegmentObserver, section: SectionCode, st: IonSt
   if (observer.enter) observer.enter(section, st);
 }
 
-/**
- * The closed-form kernels a plan alone describes (ideal grids, static fields; solved regions traced
- * on `tracer`), for callers that hold a plan but no model. Reused: one set per caller.
- */
-export class PlanKernels {
-  private readonly staticSource = new StaticSourceKernel();
-  private readonly drift = new FieldFreeKernel(Section.DRIFT);
-  private readonly stageMirror = new StageMirrorKernel();
-  private readonly returnLeg = new FieldFreeKernel(Section.RETURN);
-  private readonly post = new PostGapKernel();
-  private readonly kernels: (RegionKernel | null)[] = new Array<RegionKernel | null>(SECTION_COUNT).fill(null);
-  constructor(private readonly tracer: SolvedFieldTracer) {}
-
-  for(plan: FlightPlan): readonly (RegionKernel | null)[] {
-    const k = this.kernels;
-    k[Section.SOURCE] = plan.solvedSource === null ? this.staticSource : new SolvedSourceKernel(plan.solvedSource, plan.maxFlightTime_s, this.tracer);
-    k[Section.DRIFT] = this.drift;
-    const mirror = plan.mirrorStageCount > 0 || plan.solvedMirror !== null;
-    k[Section.MIRROR] = !mirror ? null : plan.solvedMirror === null ? this.stageMirror : new SolvedMirrorKernel(plan.solvedMirror, plan.maxFlightTime_s, this.tracer, null);
-    k[Section.RETURN] = mirror ? this.returnLeg : null;
-    k[Section.POST] = this.post;
-    return k;
-  }
-}
-
 export function createFlight(model: AnalyserModel, options: FlightChoice = {}): ModelFlight {
   return new ModelFlight(model, options);
 }

@@ -1,10 +1,10 @@
 /**
- * The 3D view draws paths with closed-form uniform-field segments (src/physics/trajectory.ts). Parts
- * the engine integrates numerically are drawn from a close stand-in: a shaped mirror field as uniform
- * slabs whose boundary potentials are the profile's own (so the turning depth is right to within a
- * slab's linear interpolation), and a sloped pulse edge as the step with the same time-integrated
- * field (a linear ramp of length T acts like a step T/2 later, an RC edge of time constant τ like a
- * step τ later). The table and spectrum always come from the engine itself.
+ * The electrode layout of the 3D view (./layout.ts) is drawn from ideal-grid stages: a mirror without
+ * stages of its own is drawn from a close stand-in, a shaped or gridless mirror as uniform slabs whose
+ * boundary potentials are the field's own on the axis (so the rings and the nominal turning depth
+ * are right to within a slab's linear interpolation), an aperture source with ideal grids at its
+ * plates. The drawn ion paths do not use it: they are flown by the run's own kernels
+ * (./drawnPaths.ts), and the table and spectrum always come from the engine itself.
  */
 import { createFieldSample, sampleField } from '../../fields/interpolate';
 import type { AnalyserModel, MirrorStage } from '../../physics/analyser';
@@ -39,12 +39,6 @@ export function profilePotential_V(driftPotential_V: number, coefficients_V: Arr
 export function drawableModel(model: AnalyserModel): DrawableModel {
   const approximations: string[] = [];
   let source = model.source;
-  const rise = source.rise;
-  if (rise && rise.kind !== 'step') {
-    const shift = rise.kind === 'linear' ? rise.riseTime_s / 2 : rise.kind === 'exponential' ? rise.timeConstant_s : 0;
-    source = { ...source, delay_s: source.delay_s + shift, rise: { kind: 'step' } };
-    approximations.push(rise.kind === 'table' ? 'pulse drawn as a step at the delay' : 'pulse edge drawn as its equivalent step');
-  }
   if (source.solved) {
     // An aperture (solved) source is drawn with ideal grids at the plates' positions.
     source = { ...source, solved: null };
