@@ -32,11 +32,14 @@ export function formatFragmentTable(reports: readonly SpeciesFragmentReport[]): 
   const lines: string[] = [''];
   for (const r of reports) {
     lines.push(`Decay of ${r.label} (m/z ${r.precursorMz.toFixed(4)}): ${r.decayed} of ${r.precursors} precursors decayed in flight; apparent m/z from the ${r.apparentMzFrom ?? '(none: no precursor peak)'}`);
-    lines.push('  channel / product                         true m/z   apparent m/z   t (ns)       FWHM spec (ns)  R spec   R ideal  transm.  behind mirror  decays: source/drift/mirror/return');
+    // The name column is as wide as the longest name, so no product label is cut short.
+    const names = r.channels.flatMap((c) => [c.label, `  ${c.complement.role}: ${c.complement.label}`]);
+    const width = Math.max(40, ...names.map((n) => n.length));
+    lines.push(`  ${'channel / product'.padEnd(width)}    true m/z   apparent m/z   t (ns)       FWHM spec (ns)  R spec   R ideal  transm.  behind mirror  decays: source/drift/mirror/return`);
     for (const c of r.channels) {
       const d = c.decaysByRegion;
       for (const p of [c.fragment, c.complement]) {
-        const name = (p === c.fragment ? c.label : `  ${p.role}: ${p.label}`).slice(0, 40).padEnd(40);
+        const name = (p === c.fragment ? c.label : `  ${p.role}: ${p.label}`).padEnd(width);
         lines.push(
           `  ${name}  ${fmt(p.mz, 3).padStart(10)}  ${fmt(p.apparentMz, 3).padStart(12)}  ${fmt(p.peak ? p.peak.centroid_ns : p.flightTime_ns, 2).padStart(11)}  ${fmt(p.peak?.fwhm_ns ?? null, 3).padStart(14)}  ${fmt(p.peak?.resolvingPower ?? null, 0).padStart(7)}  ${fmt(p.resolvingPower, 0).padStart(7)}  ${(100 * p.transmission).toFixed(1).padStart(6)} %  ${String(p.detectedBehindMirror).padStart(13)}` +
             (p === c.fragment ? `  ${d.source}/${d.drift}/${d.mirror}/${d.returnDrift}` : ''),
@@ -44,7 +47,8 @@ export function formatFragmentTable(reports: readonly SpeciesFragmentReport[]): 
       }
     }
   }
-  lines.push('  (R spec: the simulated spectrum peak, what the instrument would record; R ideal: the ions\' arrival times alone)');
+  lines.push('  (R spec: the simulated spectrum peak, what the instrument would record; R ideal: the ions\' arrival times alone;');
+  lines.push('   transm.: share of the product reaching the main detector; behind mirror: how many reached the detector behind the mirror)');
   return lines.join('\n') + '\n';
 }
 
