@@ -11,15 +11,9 @@ import type { RunOutput, RunRequest } from './runContract';
 export const MIN_CHUNK_IONS = 2_000;
 
 /** One worker's share of a split run: ions [from, to), trace arrays of length to − from. */
-export interface TraceChunk {
+export interface TraceChunk extends TraceResult {
   readonly from: number;
   readonly to: number;
-  readonly flightTime_s: Float64Array;
-  readonly fate: Uint8Array;
-  readonly finalSpeed_m_per_s: Float64Array;
-  readonly weight: Float64Array;
-  readonly detectorX_m: Float64Array;
-  readonly detectorY_m: Float64Array;
   /** Time this worker took to sample and trace its chunk (ms). */
   readonly elapsed_ms: number;
 }
