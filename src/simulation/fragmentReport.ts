@@ -89,7 +89,7 @@ function detectedTimes(trace: TraceResult, fate: number): Float64Array {
 type Apparent = (time_s: number) => number | null;
 
 /** Fewer ions under a peak than this give no meaningful FWHM. */
-const MIN_PEAK_IONS = 5;
+const MIN_PEAK_IONS = 10;
 
 /** Ions within this many FWHM of the unsmoothed peak centroid are taken as the ions under the peak. */
 const PEAK_WINDOW_FWHM = 2;
@@ -174,11 +174,13 @@ function productReport(preset: Preset, blocks: readonly ProductBlock[], apparent
   const measured = figuresFrom === 'behindMirror' ? asDetected(main, Fate.DETECTED_BEHIND_MIRROR) : main;
   const own = figuresFrom ? acquisitionSettings(preset, measured) : null;
   const measuredPeak = own ? productPeak(measured, own) : { peak: null, times: null };
-  const peak = measuredPeak.peak;
+  const underPeak = measuredPeak.times?.length ?? 0;
+  // A "peak" of a handful of ions is the detector pulse's own width: no FWHM or R worth showing.
+  const peak = measuredPeak.peak && measuredPeak.times && underPeak < MIN_PEAK_IONS ? { ...measuredPeak.peak, fwhm_ns: null, resolvingPower: null, resolvingPower10pctValley: null } : measuredPeak.peak;
   // Ideal-detector figures of the same ions as the spectrum peak (the whole spread when there is no peak).
   const stats = arrivalStats(measuredPeak.times ?? detectedTimes(main, fate));
   const peakTime_s = peak ? peak.centroid_ns * 1e-9 : stats.mean_s;
-  const peakNote = peakNoteFor(peak, figuresFrom, detected, excluded, measuredPeak.times?.length ?? 0);
+  const peakNote = peakNoteFor(peak, figuresFrom, detected, excluded, underPeak);
   return {
     label: p.label,
     role,
