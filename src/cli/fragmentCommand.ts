@@ -44,10 +44,11 @@ export function formatFragmentTable(reports: readonly SpeciesFragmentReport[]): 
           `  ${name}  ${fmt(p.mz, 3).padStart(10)}  ${fmt(p.apparentMz, 3).padStart(12)}  ${fmt(p.peak ? p.peak.centroid_ns : p.flightTime_ns, 2).padStart(11)}  ${fmt(p.peak?.fwhm_ns ?? null, 3).padStart(14)}  ${fmt(p.peak?.resolvingPower ?? null, 0).padStart(7)}  ${fmt(p.resolvingPower, 0).padStart(7)}  ${(100 * p.transmission).toFixed(1).padStart(6)} %  ${String(p.detectedBehindMirror).padStart(13)}` +
             (p === c.fragment ? `  ${d.source}/${d.drift}/${d.mirror}/${d.returnDrift}` : ''),
         );
+        if (p.peakNote) lines.push(`  ${''.padEnd(width)}    (spectrum figures: ${p.peakNote})`);
       }
     }
   }
-  lines.push('  (R spec: the simulated spectrum peak, what the instrument would record; R ideal: the ions\' arrival times alone;');
+  lines.push('  (R spec: the simulated spectrum peak, what the instrument would record; R ideal: the arrival times alone of the ions under that peak;');
   lines.push('   transm.: share of the product reaching the main detector; behind mirror: how many reached the detector behind the mirror)');
   return lines.join('\n') + '\n';
 }

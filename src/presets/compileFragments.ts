@@ -42,7 +42,6 @@ function lossComposition(formula: string): Composition | null {
 /** Cross-field checks of every species' decay and of the behind-mirror detector. */
 export function checkFragments(preset: Preset): PresetIssue[] {
   const issues: PresetIssue[] = [];
-  const solved = preset.mirror.type === 'solved' || preset.source.solved !== undefined;
   const behind = preset.detector.behindMirror;
   if (behind) {
     const depth = mirrorDepth_mm(preset.mirror);
@@ -56,10 +55,7 @@ export function checkFragments(preset: Preset): PresetIssue[] {
     const decay = s.decay;
     if (!decay) return;
     const at = `ions.species[${i}].decay`;
-    if (solved) {
-      issues.push({ path: at, message: 'decay in flight is not modelled together with solved-field regions (mirror.type "solved" or source.solved); use ideal grids' });
-      return;
-    }
+    // Space charge is applied as sheets to the precursor ensemble only: products flying without it would be inconsistent.
     if (preset.ionLoad?.spaceCharge) {
       issues.push({ path: at, message: 'decay in flight is not modelled together with ionLoad.spaceCharge (the products would fly without the sheets); remove one of them' });
       return;

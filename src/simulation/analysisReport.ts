@@ -141,9 +141,16 @@ function ionSpread(trace: TraceResult, from: number, to: number): [number, numbe
  * The peak of the ions in [from, to) in their own simulated spectrum, measured about its tallest
  * sample; with few ions, with the response widened against shot noise (see ../analysis/shotNoise.ts).
  */
-export function measureSpeciesPeak(trace: TraceResult, from: number, to: number, own: AcquisitionSettings): SpectrumPeakReport | null {
+export function measureSpeciesPeak(
+  trace: TraceResult,
+  from: number,
+  to: number,
+  own: AcquisitionSettings,
+  /** Ions under the peak and their arrival sd, when not all of [from, to) belong to it (fragments: src/simulation/fragmentReport.ts). */
+  spread: readonly [number, number] = ionSpread(trace, from, to),
+): SpectrumPeakReport | null {
   // Few ions under a narrow pulse make a ragged peak top (see ../analysis/shotNoise.ts): widen the response then.
-  const smoothing = shotNoiseSmoothing(...ionSpread(trace, from, to), effectivePulseSd_s(own));
+  const smoothing = shotNoiseSmoothing(spread[0], spread[1], effectivePulseSd_s(own));
   const smoothing_s = smoothing.sd_s;
   const measured = smoothing_s > 0 ? { ...own, pulseFwhm_s: GAUSSIAN_FWHM_PER_SD * Math.hypot(own.pulseFwhm_s / GAUSSIAN_FWHM_PER_SD, smoothing_s) } : own;
   const spec = buildSpectrum({ arrival_s: trace.flightTime_s, fate: trace.fate, weight: trace.weight, from, to }, measured);

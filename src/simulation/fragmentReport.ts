@@ -1,16 +1,18 @@
 /**
  * Per decay channel of each species: how many precursors decayed and where, and for both products
  * the true m/z, the apparent m/z an instrument calibrated on precursors would assign to the peak,
- * arrival time, FWHM and R (simulated spectrum peak first, ideal-detector figures beside it),
- * transmission and fates. Times in ns at this boundary.
+ * arrival time, FWHM and R (simulated spectrum peak first, ideal-detector figures of the same ions
+ * beside it), transmission and fates. Times in ns at this boundary.
  */
-import { arrivalStats } from '../analysis/arrivalStats';
+import { arrivalStats, GAUSSIAN_FWHM_FRACTION } from '../analysis/arrivalStats';
+import { GAUSSIAN_FWHM_PER_SD } from '../analysis/detectorResponse';
 import { mzFromTime } from '../analysis/calibration';
 import { countFates, Fate, type FateCounts } from '../physics/fates';
-import { LEG_COUNT, LEG_KEYS, type FragmentModel } from '../physics/fragments/decayModel';
+import { Leg, LEG_COUNT, LEG_KEYS, type FragmentModel } from '../physics/fragments/decayModel';
 import type { FragmentTrace, ProductBlock } from '../physics/fragments/traceFragments';
 import type { Ensemble, TraceResult } from '../ions/ensemble';
 import type { Preset } from '../presets/schema';
+import type { AcquisitionSettings } from '../analysis/spectrum';
 import { acquisitionSettings, measureSpeciesPeak, type CalibrationSection, type SpectrumPeakReport } from './analysisReport';
 import type { RunReport } from './report';
 
@@ -40,6 +42,8 @@ export interface FragmentProductReport {
   readonly flightTime_ns: number | null;
   readonly fwhm_ns: number | null;
   readonly resolvingPower: number | null;
+  /** Why the spectrum FWHM/R are missing, or which ions they leave out (reflectron: those formed after the mirror); null when nothing needs saying. */
+  readonly peakNote: string | null;
   readonly fates: FateCounts;
 }
 
@@ -84,6 +88,67 @@ function detectedTimes(trace: TraceResult, fate: number): Float64Array {
 
 type Apparent = (time_s: number) => number | null;
 
+/** Fewer ions under a peak than this give no meaningful FWHM. */
+const MIN_PEAK_IONS = 10;
+
+/** Ions within this many FWHM of the unsmoothed peak centroid are taken as the ions under the peak. */
+const PEAK_WINDOW_FWHM = 2;
+
+/**
+ * The ions under the tallest peak of a product's arrivals: their count and robust sd (shortest 76.1 %
+ * interval / 2.3548), from a first, unsmoothed look at the peak. A product formed along the whole
+ * flight path arrives as a narrow peak (formed in the field-free drift) on a broad continuum (formed in
+ * accelerating or reflecting fields); the shot-noise smoothing must be sized by the peak's own ions,
+ * not by the spread of the whole continuum (which widened the response past the peak and left its
+ * FWHM undefined).
+ */
+function peakIonSpread(trace: TraceResult, own: AcquisitionSettings): { spread: [number, number]; times: Float64Array } | null {
+  const first = measureSpeciesPeak(trace, 0, trace.fate.length, own, [0, 0]);
+  if (!first || first.fwhm_ns === null) return null;
+  const lo = (first.centroid_ns - PEAK_WINDOW_FWHM * first.fwhm_ns) * 1e-9;
+  const hi = (first.centroid_ns + PEAK_WINDOW_FWHM * first.fwhm_ns) * 1e-9;
+  const t: number[] = [];
+  for (let i = 0; i < trace.fate.length; i++) {
+    const ti = trace.flightTime_s[i] + (own.timeOffset_s ?? 0);
+    if (trace.fate[i] === Fate.DETECTED && ti >= lo && ti <= hi) t.push(trace.flightTime_s[i]);
+  }
+  const n = t.length;
+  const times = Float64Array.from(t).sort();
+  if (n < 2) return { spread: [n, 0], times };
+  const inside = Math.max(1, Math.ceil(GAUSSIAN_FWHM_FRACTION * n) - 1);
+  let shortest = Infinity;
+  for (let i = 0; i + inside < n; i++) shortest = Math.min(shortest, times[i + inside] - times[i]);
+  return { spread: [n, Number.isFinite(shortest) ? shortest / GAUSSIAN_FWHM_PER_SD : 0], times };
+}
+
+/**
+ * The product's peak in its own simulated spectrum, the shot-noise smoothing sized by the ions under
+ * it, and the arrival times of those ions (for the ideal-detector figures of the same peak).
+ */
+function productPeak(trace: TraceResult, own: AcquisitionSettings): { peak: SpectrumPeakReport | null; times: Float64Array | null } {
+  const under = peakIonSpread(trace, own);
+  if (!under) return { peak: measureSpeciesPeak(trace, 0, trace.fate.length, own), times: null };
+  return { peak: measureSpeciesPeak(trace, 0, trace.fate.length, own, under.spread), times: under.times };
+}
+
+/**
+ * In reflectron mode a product formed after the mirror (return drift, post-acceleration gap) flies on
+ * with its precursor's speed and lands on the precursor's own peak: no instrument can tell it from the
+ * precursor there, so the product's figures leave it out (a copy of the trace with those ions unset).
+ */
+function beforeMirrorOnly(block: ProductBlock): { trace: TraceResult; excluded: number } {
+  let excluded = 0;
+  const fate = block.trace.fate.map((f, k) => {
+    const leg = block.decayLeg[k];
+    if (f === Fate.DETECTED && (leg === Leg.RETURN || leg === Leg.POST)) {
+      excluded++;
+      return Fate.UNSET;
+    }
+    return f;
+  });
+  return { trace: { ...block.trace, fate }, excluded };
+}
+
 function productReport(preset: Preset, blocks: readonly ProductBlock[], apparent: Apparent | null): FragmentProductReport {
   const first = blocks[0];
   const p = first.product;
@@ -100,15 +165,22 @@ function productReport(preset: Preset, blocks: readonly ProductBlock[], apparent
     behind += f.detectedBehindMirror;
   }
   // Figures from the main isotope block's product (as a species reports its monoisotopic peak).
-  const main = first.trace;
+  const reflectron = preset.mirror.type !== 'none';
+  const { trace: main, excluded } = reflectron ? beforeMirrorOnly(first) : { trace: first.trace, excluded: 0 };
+  const mainDetected = countFates(main.fate);
   // The detector that received most of this product speaks for it (neutrals mostly reach the one behind the mirror).
-  const figuresFrom = detected === 0 && behind === 0 ? null : detected >= behind ? 'detector' : 'behindMirror';
+  const figuresFrom = mainDetected.detected === 0 && behind === 0 ? null : mainDetected.detected >= behind ? 'detector' : 'behindMirror';
   const fate = figuresFrom === 'behindMirror' ? Fate.DETECTED_BEHIND_MIRROR : Fate.DETECTED;
-  const stats = arrivalStats(detectedTimes(main, fate));
   const measured = figuresFrom === 'behindMirror' ? asDetected(main, Fate.DETECTED_BEHIND_MIRROR) : main;
   const own = figuresFrom ? acquisitionSettings(preset, measured) : null;
-  const peak = own ? measureSpeciesPeak(measured, 0, measured.fate.length, own) : null;
+  const measuredPeak = own ? productPeak(measured, own) : { peak: null, times: null };
+  const underPeak = measuredPeak.times?.length ?? 0;
+  // A "peak" of a handful of ions is the detector pulse's own width: no FWHM or R worth showing.
+  const peak = measuredPeak.peak && measuredPeak.times && underPeak < MIN_PEAK_IONS ? { ...measuredPeak.peak, fwhm_ns: null, resolvingPower: null, resolvingPower10pctValley: null } : measuredPeak.peak;
+  // Ideal-detector figures of the same ions as the spectrum peak (the whole spread when there is no peak).
+  const stats = arrivalStats(measuredPeak.times ?? detectedTimes(main, fate));
   const peakTime_s = peak ? peak.centroid_ns * 1e-9 : stats.mean_s;
+  const peakNote = peakNoteFor(peak, figuresFrom, detected, excluded, underPeak);
   return {
     label: p.label,
     role,
@@ -125,8 +197,18 @@ function productReport(preset: Preset, blocks: readonly ProductBlock[], apparent
     flightTime_ns: nsOrNull(stats.mean_s),
     fwhm_ns: nsOrNull(stats.fwhm_s),
     resolvingPower: stats.resolvingPower,
+    peakNote,
     fates,
   };
+}
+
+/** Why the spectrum figures are missing, or what they leave out; null when nothing needs saying. */
+function peakNoteFor(peak: SpectrumPeakReport | null, figuresFrom: FragmentProductReport['figuresFrom'], detected: number, excluded: number, underPeak: number): string | null {
+  const after = excluded > 0 && figuresFrom === 'detector' ? `${excluded} formed after the mirror arrive with the precursor (unresolved from it), not counted` : null;
+  if (figuresFrom === null) return excluded > 0 && excluded === detected ? `unresolved from the precursor: every detected ion formed after the mirror` : detected === 0 ? 'none detected' : after;
+  if (peak === null) return 'no acquisition settings (no simulated spectrum)';
+  if (peak.fwhm_ns === null) return underPeak < MIN_PEAK_IONS ? `below ${MIN_PEAK_IONS} ions under the peak (${underPeak})` : 'no half-maximum crossing on one side of the peak';
+  return after;
 }
 
 /**

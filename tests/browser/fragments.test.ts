@@ -59,7 +59,7 @@ describe('fragments in the app', () => {
 
   // The sizes of tests/browser/layout.test.ts; the framed detector lies outside the legend box.
   for (const [width, height] of [[1280, 800], [1600, 1000]] as const) {
-    it(`keeps the 3D legend off the detector and the source at ${width}×${height}, linear and reflectron`, async () => {
+    it(`keeps the 3D legend off the detector and the source, and the spectrum legend and labels off the plot's height and edges, at ${width}×${height}, linear and reflectron`, async () => {
       const context = await app.browser.newContext({ viewport: { width, height } });
       const page = await context.newPage();
       await page.goto(app.server.url);
@@ -70,6 +70,25 @@ describe('fragments in the app', () => {
         await page.waitForFunction(() => document.body.dataset.status === 'running' || document.body.dataset.status === 'done');
         await waitDone(page);
         await page.waitForFunction(() => (document.querySelector('#scene-legend')?.textContent ?? '').includes('decay products'), undefined, { timeout: 60_000 });
+        // Spectrum: the legend is one row that leaves the plot its height (it wrapped onto 4-5 lines of a
+        // narrow card and left a plot 25 px tall), and every fragment label is drawn inside the plot.
+        await page.waitForFunction(() => document.querySelector<HTMLElement>('[data-testid="spectrum"] .uplot')?.dataset.peakLabels !== undefined);
+        const spectrum = await page.evaluate(() => {
+          const host = document.querySelector<HTMLElement>('[data-testid="spectrum"]')!;
+          const box = (e: Element) => e.getBoundingClientRect();
+          const root = host.querySelector<HTMLElement>('.uplot')!;
+          return { host: box(host).toJSON(), legend: box(host.querySelector('.u-legend')!).toJSON(), plot: box(host.querySelector('.u-over')!).toJSON(), labels: JSON.parse(root.dataset.peakLabels!) as { plot: [number, number]; labels: number[] } };
+        });
+        expect(spectrum.legend.height, `${name}: legend ${JSON.stringify(spectrum.legend)}`).toBeLessThanOrEqual(24);
+        expect(spectrum.legend.width).toBeLessThanOrEqual(spectrum.host.width + 1);
+        expect(spectrum.plot.height, `${name}: plot ${JSON.stringify(spectrum.plot)} in ${JSON.stringify(spectrum.host)}`).toBeGreaterThan(0.5 * spectrum.host.height);
+        const { plot, labels } = spectrum.labels;
+        expect(labels.length).toBeGreaterThan(0);
+        for (let k = 0; k < labels.length; k += 3) {
+          expect(labels[k], `${name}: label ${k / 3} starts left of the plot`).toBeGreaterThanOrEqual(plot[0] - 0.5);
+          expect(labels[k + 1], `${name}: label ${k / 3} ends right of the plot`).toBeLessThanOrEqual(plot[1] + 0.5);
+        }
+        if (SHOTS) await page.locator('[data-testid="spectrum"]').screenshot({ path: `${SHOTS}/spectrum-${name}-${width}.png` });
         await page.click('#btn-view-all');
         const geometry = await page.evaluate(() => {
           const canvas = document.querySelector<HTMLCanvasElement>('[data-testid="scene"]')!;

@@ -4,6 +4,9 @@
  * the channel, and the release velocity of a kinetic-energy release.
  */
 
+/** Random streams of the decays are offset from the population's (one per species block there). */
+export const DECAY_STREAM_OFFSET = 0x16_0000;
+
 /**
  * Decay time (s since formation) of an exponential law with mean lifetime τ: inverse transform of
  * 1 − e^(−t/τ). Proper time and laboratory time differ by γ − 1 < 1e-10 at TOF speeds (v < 3·10^5 m/s), so

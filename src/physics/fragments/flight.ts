@@ -9,7 +9,8 @@
  * is crossed in closed form (firstExit: the first plane reached, either side); a source with rising
  * potentials uses the engine's closed form under pulses (crossSourceStageClosed) and a polynomial
  * mirror is integrated (crossProfileNumeric), both with the stop time as their end time. Solved-field
- * regions are not walked (the preset checks refuse decay there).
+ * regions are not walked here: solvedDecay.ts crosses them with the solved-field tracer and uses this
+ * walker only inside the ideal sections of such a model.
  *
  * Coordinates per leg: source z from the repeller (as the engine); drift, return drift and post gap
  * the distance from the leg's entry plane along the flight; mirror (and behind it) the depth from the

@@ -8,21 +8,20 @@
  * Transverse motion: ideal grids leave it unchanged, so the detector-plane position is the precursor's
  * x0 + vx·t_decay, then the product's own transverse velocity (plus its release share) to arrival.
  */
-import type { AnalyserModel } from '../analyser';
+import { hasSolvedRegion, type AnalyserModel } from '../analyser';
 import { createExactPlan, prepareExactPlan, type ExactPlan } from '../exactEngine';
 import { ATOMIC_MASS_CONSTANT_KG } from '../constants';
 import { Fate } from '../fates';
 import { allocateTraceResult, type Ensemble, type TraceResult } from '../../ions/ensemble';
 import { SeededRandom } from '../../ions/random';
 import { LEG_COUNT, Leg, type BlockDecayModel, type DecayProduct, type FragmentModel } from './decayModel';
-import { lifetimeDecayTime_s, pickChannel, releaseVelocity } from './decaySampling';
+import { DECAY_STREAM_OFFSET, lifetimeDecayTime_s, pickChannel, releaseVelocity } from './decaySampling';
+import { traceFragmentsSolved } from './solvedDecay';
 import { copyFlightState, createFlightState, fly, Flight, startFlight, type FlightState } from './flight';
 import { createIonState, startIonState, type IonState as RegionIonState, type SectionCode } from '../regions/contract';
 import { createFlight } from '../regions/driver';
 import { chargeToMassIn } from '../regions/plan';
 
-/** Random streams of the decays are offset from the population's (one per species block there). */
-const DECAY_STREAM_OFFSET = 0x16_0000;
 
 export interface ProductBlock {
   /** Index into FragmentModel.blocks, the channel in it, and which product. */
@@ -104,6 +103,8 @@ function decayPoint(model: AnalyserModel, fragments: FragmentModel, dm: BlockDec
  * become Fate.DECAYED in `trace` (time = decay time); their products are returned.
  */
 export function traceFragments(model: AnalyserModel, fragments: FragmentModel, ens: Ensemble, trace: TraceResult, seed: number): FragmentTrace {
+  // Solved regions are crossed by the solved-field tracer, stopped at the decay (solvedDecay.ts).
+  if (hasSolvedRegion(model)) return traceFragmentsSolved(model, fragments, ens, trace, seed);
   const products: ProductBlock[] = [];
   const counts: BlockDecayCount[] = [];
   fragments.blocks.forEach((dm, d) => {

@@ -202,22 +202,48 @@ export function drawPeakMarks(u: uPlot, marks: readonly PeakMark[] | undefined, 
   ctx.save();
   ctx.font = `${11 * ratio}px sans-serif`;
   ctx.textBaseline = 'top';
-  shown.forEach((m, row) => {
-    const y = top + (2 + 13 * (row % 4)) * ratio;
+  // uPlot leaves the context right-aligned after its y-axis labels: text would then run leftwards off the plot.
+  ctx.textAlign = 'left';
+  const drawn: number[] = [];
+  // Rows of text under the top edge: each label takes the first row where it overlaps no other label.
+  const rowHeight = 13 * ratio;
+  const rows = Math.max(1, Math.min(8, Math.floor((height - 4 * ratio) / rowHeight)));
+  const taken: [number, number][][] = Array.from({ length: rows }, () => []);
+  shown.forEach((m, k) => {
     ctx.strokeStyle = m.colour;
     ctx.setLineDash([3 * ratio, 3 * ratio]);
     ctx.beginPath();
     ctx.moveTo(m.px, top);
     ctx.lineTo(m.px, top + height);
     ctx.stroke();
-    const text = m.texts.length > 1 ? merged(m.texts) : m.texts[0];
+    const text = fitText(ctx, m.texts.length > 1 ? merged(m.texts) : m.texts[0], width);
     const w = ctx.measureText(text).width;
-    // Beside the line, on the side with room.
-    const tx = m.px + 4 * ratio + w <= left + width ? m.px + 4 * ratio : Math.max(left, m.px - 4 * ratio - w);
+    // Beside the line, on the side with room; always inside the plot.
+    const tx = m.px + 4 * ratio + w <= left + width ? m.px + 4 * ratio : Math.max(left, Math.min(m.px - 4 * ratio - w, left + width - w));
+    let row = taken.findIndex((spans) => spans.every(([a, b]) => tx + w + 4 * ratio <= a || tx >= b + 4 * ratio));
+    if (row < 0) row = k % rows;
+    taken[row].push([tx, tx + w]);
+    const y = top + 2 * ratio + row * rowHeight;
     ctx.fillStyle = m.colour;
     ctx.fillText(text, tx, y);
+    drawn.push(tx / ratio, (tx + w) / ratio, y / ratio);
   });
   ctx.restore();
+  // Where the labels went (CSS px in the canvas, with the plot's edges), for the layout check in the browser tests.
+  u.root.dataset.peakLabels = JSON.stringify({ plot: [left / ratio, (left + width) / ratio], labels: drawn });
+}
+
+/** `text`, cut short with an ellipsis where it is wider than `maxWidth` (canvas px). */
+function fitText(ctx: CanvasRenderingContext2D, text: string, maxWidth: number): string {
+  if (ctx.measureText(text).width <= maxWidth) return text;
+  let lo = 0;
+  let hi = text.length;
+  while (lo < hi) {
+    const mid = (lo + hi + 1) >> 1;
+    if (ctx.measureText(text.slice(0, mid) + '…').width <= maxWidth) lo = mid;
+    else hi = mid - 1;
+  }
+  return text.slice(0, lo) + '…';
 }
 
 /** "m/z a → apparent x" and "m/z b → apparent x" on one column read "m/z a, b → apparent x". */

@@ -185,6 +185,8 @@ export class SpectrumChart {
       },
     };
     this.chart = new uPlot(opts, [[]], this.host);
+    // The one-row legend cuts long labels short (style.css): the full label is the entry's tooltip.
+    this.chart.root.querySelectorAll<HTMLElement>('.u-legend .u-series').forEach((row) => (row.title = row.textContent ?? ''));
     fitChart(this.host, this.chart);
   }
 

@@ -33,7 +33,7 @@ export function renderFragmentTable(container: HTMLElement, report: RunReport): 
           el('td', { text: num(p.mz, 3) }),
           el('td', { text: num(p.apparentMz, 3) }),
           el('td', { text: t === null ? '—' : (t / 1000).toFixed(4) + (p.figuresFrom === 'behindMirror' ? ' (behind mirror)' : '') }),
-          el('td', { text: num(p.peak?.fwhm_ns, 2) }),
+          el('td', p.peakNote ? { text: num(p.peak?.fwhm_ns, 2) + (p.peak?.fwhm_ns == null ? ` (${p.peakNote})` : ' *'), title: p.peakNote } : { text: num(p.peak?.fwhm_ns, 2) }),
           el('td', { text: num(p.peak?.resolvingPower, 0) }),
           el('td', { text: num(p.resolvingPower, 0) }),
           el('td', { text: `${(100 * p.transmission).toFixed(1)} %` }),
@@ -43,6 +43,6 @@ export function renderFragmentTable(container: HTMLElement, report: RunReport): 
       }),
     ),
   );
-  const table = el('table', { className: 'data-table', 'data-testid': 'fragment-table' }, el('caption', { text: 'Fragment ions (decay in flight): apparent m/z under the precursor calibration; R from the simulated spectrum peak, ideal R from arrival times alone' }), el('thead', {}, head), el('tbody', {}, ...rows));
+  const table = el('table', { className: 'data-table', 'data-testid': 'fragment-table' }, el('caption', { text: 'Fragment ions (decay in flight): apparent m/z under the precursor calibration; R from the simulated spectrum peak, ideal R from the arrival times alone of the ions under it; * see the cell\'s note' }), el('thead', {}, head), el('tbody', {}, ...rows));
   container.replaceChildren(el('h3', { text: 'Fragments' }), el('div', { className: 'table-scroll' }, table));
 }
