@@ -49,7 +49,7 @@ export interface FlightChoice extends FlightOptions {
 function transferMapFor(model: AnalyserModel, ions: number | undefined, allowed: boolean, tracer: SolvedFieldTracer): SolvedMirrorMapper | null {
   const solved = model.mirror?.solved;
   if (!allowed || !solved || model.forceIntegrator || model.mapSolvedMirror === false || ions === undefined || ions < MAP_MIN_IONS) return null;
-  return new SolvedMirrorMapper(solved, ions, tracer);
+  return new SolvedMirrorMapper(solved, tracer);
 }
 
 /** One kernel per section present in the model. */
