@@ -79,9 +79,9 @@ export const DOMAIN_QUANTILE = 0.02;
 export const APERTURE_MARGIN = 0.8;
 /**
  * Strike pre-test: an ion whose predicted exit line meets the entrance electrode's mirror-side face
- * at STRIKE_RADIUS times the aperture radius or more is taken as struck there without tracing, once
- * STRIKE_CHECKS_MIN held-out traced ions (struck training rays, which the fit never saw, and traced
- * ions after the fit) confirmed the prediction and none contradicted it. Measured on the gridless
+ * at STRIKE_RADIUS times the aperture radius or more is taken as struck there without tracing, if
+ * by the end of validation STRIKE_CHECKS_MIN held-out traced ions (struck training rays, which the
+ * fit never saw, and traced ions during validation) confirmed the prediction and none contradicted it. Measured on the gridless
  * demo (2·10^4 ions): the predicted radius of the ions that struck was ≥ 0.996 of the aperture
  * radius, of those that came back ≤ 0.996, so the 5 % margin is ~50× the scatter seen.
  */
@@ -166,6 +166,17 @@ interface StruckRay {
   dy: number;
   U: number;
   scaledTime: number;
+}
+
+/** Numbers per species in a MirrorMapSnapshot: 16 scalars (q/m, states, normalisation, domains), then the time, position and direction coefficients. */
+const SNAPSHOT_HEAD = 16;
+export const SNAPSHOT_STRIDE = SNAPSHOT_HEAD + TIME_TERMS + 4 * LINEAR_TERMS;
+
+/** A fitted map as plain arrays (transferable between workers): see SolvedMirrorMapper.snapshot and restore. */
+export interface MirrorMapSnapshot {
+  readonly values: Float64Array;
+  /** The settled species' reports at the snapshot (the fitting worker's counts, validation figures, notes). */
+  readonly species: readonly SpeciesMapReport[];
 }
 
 /** One species' part of a run's map. */
@@ -270,6 +281,8 @@ export class SolvedMirrorMapper implements MirrorMap {
   private strikeScaledTime = 0;
   private readonly strike2 = new Float64Array(2);
   private readonly trainRays = TRAIN_RAYS;
+  /** Restored from a snapshot: knows only the snapshot's species, each settled. */
+  private restored = false;
   private readonly aperture: Aperture | null;
 
   /** `tracer`: the run's tracer, for the ions the map does not carry (its counters get their effort). */
@@ -280,10 +293,60 @@ export class SolvedMirrorMapper implements MirrorMap {
     this.aperture = entranceAperture(mirror.region);
   }
 
+  /** True once the species' map is decided (in use, or refused): every later ion's crossing depends on that ion alone. */
+  settled(qOverM_C_per_kg: number): boolean {
+    const m = this.maps.find((s) => s.report.qOverM_C_per_kg === qOverM_C_per_kg);
+    return m !== undefined && (m.state === State.MAPPED || m.state === State.DIRECT);
+  }
+
+  /**
+   * The settled species' maps as plain arrays (SNAPSHOT_STRIDE numbers per species) and their
+   * reports: what a worker that did not fit the map needs to carry the later ions exactly as this one would.
+   */
+  snapshot(): MirrorMapSnapshot {
+    const settled = this.maps.filter((m) => m.state === State.MAPPED || m.state === State.DIRECT);
+    const values = new Float64Array(settled.length * SNAPSHOT_STRIDE);
+    settled.forEach((m, i) => {
+      const o = i * SNAPSHOT_STRIDE;
+      values.set([m.report.qOverM_C_per_kg, m.state, m.strikeState, m.uMid, m.uHalf, m.virtualSource_m, m.rMax, m.dMax, m.eLo, m.eHi, m.aHi, m.cHi, m.eLoStrike, m.eHiStrike, m.aHiStrike, m.cHiStrike], o);
+      values.set(m.timeCoef, o + SNAPSHOT_HEAD);
+      values.set(m.posCoef, o + SNAPSHOT_HEAD + TIME_TERMS);
+      values.set(m.dirCoef, o + SNAPSHOT_HEAD + TIME_TERMS + 2 * LINEAR_TERMS);
+    });
+    return { values, species: settled.map((m) => ({ ...m.report })) };
+  }
+
+  /**
+   * A map restored from `snapshot` (another worker's fit), its counts zero (the snapshot's species
+   * reports keep the fitting worker's); its ions' crossings equal the fitting worker's bit for bit.
+   */
+  static restore(mirror: SolvedMirrorModel, snapshot: MirrorMapSnapshot, tracer?: SolvedFieldTracer): SolvedMirrorMapper {
+    const mapper = new SolvedMirrorMapper(mirror, tracer);
+    const v = snapshot.values;
+    if (v.length !== snapshot.species.length * SNAPSHOT_STRIDE) throw new Error(`a transfer-map snapshot of ${snapshot.species.length} species needs ${snapshot.species.length * SNAPSHOT_STRIDE} values, not ${v.length}`);
+    snapshot.species.forEach((r, i) => {
+      const o = i * SNAPSHOT_STRIDE;
+      if (v[o] !== r.qOverM_C_per_kg || !(v[o + 1] === State.MAPPED || v[o + 1] === State.DIRECT)) throw new Error('a transfer-map snapshot holds a species that is not settled');
+      const m = new SpeciesMap(v[o]);
+      Object.assign(m.report, r, { mapped: 0, traced: 0, struckByMap: 0 });
+      m.state = v[o + 1];
+      m.strikeState = v[o + 2];
+      [m.uMid, m.uHalf, m.virtualSource_m, m.rMax, m.dMax, m.eLo, m.eHi, m.aHi, m.cHi, m.eLoStrike, m.eHiStrike, m.aHiStrike, m.cHiStrike] = v.subarray(o + 3, o + SNAPSHOT_HEAD);
+      m.timeCoef = v.slice(o + SNAPSHOT_HEAD, o + SNAPSHOT_HEAD + TIME_TERMS);
+      m.posCoef = v.slice(o + SNAPSHOT_HEAD + TIME_TERMS, o + SNAPSHOT_HEAD + TIME_TERMS + 2 * LINEAR_TERMS);
+      m.dirCoef = v.slice(o + SNAPSHOT_HEAD + TIME_TERMS + 2 * LINEAR_TERMS, o + SNAPSHOT_STRIDE);
+      mapper.maps.push(m);
+      mapper.report.species.push(m.report);
+    });
+    mapper.restored = true;
+    return mapper;
+  }
+
   private speciesMap(k: number): SpeciesMap {
     if (this.current !== null && this.current.report.qOverM_C_per_kg === k) return this.current;
     let m = this.maps.find((s) => s.report.qOverM_C_per_kg === k);
     if (!m) {
+      if (this.restored) throw new Error(`the restored transfer map has no species of q/m ${k} C/kg: its ions must be traced by the worker that fitted it`);
       m = new SpeciesMap(k);
       this.maps.push(m);
       this.report.species.push(m.report);
@@ -322,8 +385,9 @@ export class SolvedMirrorMapper implements MirrorMap {
       this.report.mapped++;
       return this.applyMap(m, st, k, speed, tLimit_s);
     }
-    const strikeTest = usable && !inside && (m.state === State.MAPPED || m.state === State.VALIDATING) && m.strikeState !== Strike.REFUSED && this.predictsStrike(m, x0, y0, dx0, dy0, U);
-    if (strikeTest && m.state === State.MAPPED && m.strikeState === Strike.USED) {
+    // Checked while the map is validated (decided with it), used once it is.
+    const strikeTest = usable && !inside && ((m.state === State.MAPPED && m.strikeState === Strike.USED) || (m.state === State.VALIDATING && m.strikeState === Strike.CHECKING)) && this.predictsStrike(m, x0, y0, dx0, dy0, U);
+    if (strikeTest && m.state === State.MAPPED) {
       m.report.mapped++;
       m.report.struckByMap++;
       this.report.mapped++;
@@ -390,7 +454,7 @@ export class SolvedMirrorMapper implements MirrorMap {
     if (!struck) return this.refuseStrikes(m, 'an ion predicted to strike the entrance electrode came back out');
     const rel = Math.abs(predicted - scaledTime) / scaledTime;
     if (!(rel <= STRIKE_TIME_TOL)) return this.refuseStrikes(m, `a predicted strike time was off by ${rel.toExponential(1)} relative`);
-    if (++m.report.strikeChecks >= STRIKE_CHECKS_MIN && m.strikeState === Strike.CHECKING) m.strikeState = Strike.USED;
+    m.report.strikeChecks++;
   }
 
   private refuseStrikes(m: SpeciesMap, note: string): void {
@@ -442,6 +506,11 @@ export class SolvedMirrorMapper implements MirrorMap {
     if (timeRms <= TIME_TOL_RMS && posRms <= POSITION_TOL_RMS_M && dirRms <= DIRECTION_TOL_RMS) {
       m.state = State.MAPPED;
       this.report.note = '';
+      // The strike pre-test is decided with the map, so that from here on every ion's crossing depends on that ion alone.
+      if (m.strikeState === Strike.CHECKING) {
+        if (m.report.strikeChecks >= STRIKE_CHECKS_MIN) m.strikeState = Strike.USED;
+        else this.refuseStrikes(m, `too few checks (${m.report.strikeChecks} of ${STRIKE_CHECKS_MIN}) by the end of validation`);
+      }
     } else this.giveUp(m, `validation outside tolerance (rms time ${timeRms.toExponential(1)} relative, exit position ${posRms.toExponential(1)} m, direction ${dirRms.toExponential(1)})`);
   }
 
