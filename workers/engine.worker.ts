@@ -22,8 +22,8 @@ const splitTasks: SplitRunTasks = {
     const chunk = traceRunChunk(request, from, to, map);
     return Comlink.transfer(chunk, traceTransferables(chunk));
   },
-  fitRunMap: (request) => {
-    const fit = fitRunMap(request);
+  fitRunMap: (request, part, parts) => {
+    const fit = fitRunMap(request, part, parts);
     return fit && Comlink.transfer(fit, mapFitTransferables(fit));
   },
   finishRun: (request, traced, mirrorMap) => {

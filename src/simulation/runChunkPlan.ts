@@ -30,6 +30,35 @@ export interface RunMapFit {
   readonly fitted: readonly TraceChunk[];
   readonly snapshot: MirrorMapSnapshot;
   readonly report: MirrorMapReport;
+  /** Per species of `report`: its first ion in the run, and whether its map was still undecided when its ions ran out. */
+  readonly firstIon: readonly number[];
+  readonly open: readonly boolean[];
+}
+
+/**
+ * The fits of several workers, each for its own species (fitRunMap's `part` of `parts`), as one:
+ * species in the run's order, counts added, and the run's note as the unsplit run leaves it (the
+ * last refusal's reason when every species so far was refused, else none).
+ */
+export function mergeMapFits(fits: readonly RunMapFit[]): RunMapFit {
+  if (fits.length === 1) return fits[0];
+  const entries = fits.flatMap((f) => f.report.species.map((s, i) => ({ s, first: f.firstIon[i], open: f.open[i] }))).sort((a, b) => a.first - b.first);
+  let note = '';
+  let allRefused = true;
+  for (const e of entries) {
+    if (e.open || e.s.note === '') {
+      allRefused = false;
+      if (!e.open) note = ''; // decided and in use
+    } else note = allRefused ? e.s.note : '';
+  }
+  const sum = (key: 'mapped' | 'traced' | 'struckByMap') => fits.reduce((n, f) => n + f.report[key], 0);
+  return {
+    fitted: fits.flatMap((f) => f.fitted).sort((a, b) => a.from - b.from),
+    snapshot: { values: Float64Array.from(fits.flatMap((f) => Array.from(f.snapshot.values))), species: fits.flatMap((f) => f.snapshot.species) },
+    report: { mapped: sum('mapped'), traced: sum('traced'), struckByMap: sum('struckByMap'), note, species: entries.map((e) => e.s) },
+    firstIon: entries.map((e) => e.first),
+    open: entries.map((e) => e.open),
+  };
 }
 
 /** What the chunk workers need of a RunMapFit: the map, and which ions are already traced ([from, to) pairs). */
@@ -142,8 +171,8 @@ export function traceTransferables(t: TraceResult | TraceChunk): ArrayBuffer[] {
 export interface SplitRunTasks {
   /** `map`: the shared transfer map of a solved mirror (its fitted ions are skipped). */
   traceRunChunk(request: RunRequest, from: number, to: number, map?: RunMapShare): TraceChunk | Promise<TraceChunk>;
-  /** A solved mirror's transfer map fitted on the run's ions; null when the run uses none. */
-  fitRunMap(request: RunRequest): RunMapFit | null | Promise<RunMapFit | null>;
+  /** A solved mirror's transfer map fitted on the run's ions (the species of `part` of `parts`, for mergeMapFits); null when the run uses none. */
+  fitRunMap(request: RunRequest, part?: number, parts?: number): RunMapFit | null | Promise<RunMapFit | null>;
   /** The whole run finished on a trace computed elsewhere (runRequest with `traced`, and the map's report when one was used). */
   finishRun(request: RunRequest, traced: TraceResult, mirrorMap?: MirrorMapReport): RunOutput | Promise<RunOutput>;
 }

@@ -10,8 +10,9 @@
  * A solved mirror's transfer map learns from the run's first ions of each species in order
  * (src/physics/solvedMirrorMap.ts), so chunks fitting maps of their own would give other numbers
  * (measured before this: 4 chunks moved 8454 of 2·10^4 flight times of the gridless demo, by up to
- * 1.8e-6). Instead one worker fits it (fitRunMap: each species' ions in order until its map is
- * decided, as the unsplit run traces them) and hands the others a snapshot (plain arrays); from
+ * 1.8e-6). Instead the map of each species is fitted by one worker (fitRunMap: the species' ions
+ * in order until its map is decided, as the unsplit run traces them; the species spread over the
+ * workers, mergeMapFits joins them) and every worker restores the snapshot (plain arrays); from
  * there on every ion's crossing depends on that ion alone, so the chunks, skipping the ions the
  * fitting worker traced, give the unsplit run's numbers bit for bit. Runs through a solved source
  * are not split.
@@ -20,6 +21,7 @@ import { allocateTraceResult, type Ensemble, type TraceResult } from '../ions/en
 import { samplePopulation } from '../ions/population';
 import { needsIntegrator, type AnalyserModel } from '../physics/analyser';
 import { traceEnsemble, usesTransferMap } from '../physics/regions/driver';
+import { chargeToMassIn } from '../physics/regions/plan';
 import { legacyTally } from '../physics/regions/legacyTally';
 import { SolvedFieldTracer } from '../physics/regions/solvedTracer';
 import { SolvedMirrorMapper } from '../physics/solvedMirrorMap';
@@ -34,6 +36,7 @@ export {
   hasSolvedMirror,
   mapFitTransferables,
   mapShare,
+  mergeMapFits,
   mergeMirrorMapReports,
   MIN_CHUNK_IONS,
   overlayFitted,
@@ -119,7 +122,7 @@ function rangesBesides(from: number, to: number, skip: readonly number[]): Array
  * as the unsplit run traces them, until its map is decided (in use or refused; checked every
  * FIT_BLOCK_IONS ions), then the snapshot. Null when the run uses no map (every ion traced on its own).
  */
-export function fitRunMap(request: RunRequest, now: () => number = () => performance.now()): RunMapFit | null {
+export function fitRunMap(request: RunRequest, part = 0, parts = 1, now: () => number = () => performance.now()): RunMapFit | null {
   const start = now();
   const { model, ensemble } = sampleRun(request);
   const mirror = model.mirror?.solved;
@@ -127,20 +130,28 @@ export function fitRunMap(request: RunRequest, now: () => number = () => perform
   const mapper = new SolvedMirrorMapper(mirror, new SolvedFieldTracer(legacyTally));
   const trace = allocateTraceResult(ensemble.count);
   const ranges: Array<[number, number]> = [];
+  // One map per q/m (the flight's, chargeToMassIn): species sharing one are fitted together, groups spread over the parts.
+  const ks = ensemble.species.map((sp) => chargeToMassIn(model, sp.mz));
+  const groups = [...new Set(ks)];
   for (let s = 0; s < ensemble.species.length; s++) {
+    if (groups.indexOf(ks[s]) % parts !== part) continue;
     const a = ensemble.speciesStart[s];
     const end = ensemble.speciesStart[s + 1];
     let b = a;
-    // The species' q/m as the flight computes it: read from the mapper once it has seen an ion.
-    while (b < end) {
+    while (b < end && !mapper.settled(ks[s])) {
       const next = Math.min(end, b + FIT_BLOCK_IONS);
       traceEnsemble(model, ensemble, trace, { counters: legacyTally, from: b, to: next, mirrorMap: mapper });
       b = next;
-      const k = mapper.report.species.at(-1)?.qOverM_C_per_kg;
-      if (k !== undefined && mapper.settled(k) && mapper.report.species.length === s + 1) break;
     }
     if (b > a) ranges.push([a, b]);
   }
   const elapsed_ms = now() - start;
-  return { fitted: ranges.map(([a, b]) => chunkOf(trace, a, b, elapsed_ms)), snapshot: mapper.snapshot(), report: { ...mapper.report, species: mapper.report.species.map((s) => ({ ...s })) } };
+  const species = mapper.report.species.map((s) => ({ ...s }));
+  return {
+    fitted: ranges.map(([a, b]) => chunkOf(trace, a, b, elapsed_ms)),
+    snapshot: mapper.snapshot(),
+    report: { ...mapper.report, species },
+    firstIon: species.map((r) => ensemble.speciesStart[ks.indexOf(r.qOverM_C_per_kg)]),
+    open: species.map((r) => !mapper.settled(r.qOverM_C_per_kg)),
+  };
 }

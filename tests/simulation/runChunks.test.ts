@@ -15,7 +15,7 @@ import { allocateTraceResult } from '../../src/ions/ensemble';
 import { samplePopulation } from '../../src/ions/population';
 import { traceEnsemble } from '../../src/physics/regions/driver';
 import { SNAPSHOT_STRIDE, SolvedMirrorMapper } from '../../src/physics/solvedMirrorMap';
-import { chunkBounds, chunkCount, concatChunks, fitRunMap, hasSolvedMirror, mapFitTransferables, MIN_CHUNK_IONS, splitsOverWorkers, traceRunChunk, traceTransferables, type SplitRunTasks, type TraceChunk } from '../../src/simulation/runChunks';
+import { chunkBounds, chunkCount, concatChunks, fitRunMap, hasSolvedMirror, mapFitTransferables, mergeMapFits, MIN_CHUNK_IONS, splitsOverWorkers, traceRunChunk, traceTransferables, type SplitRunTasks, type TraceChunk } from '../../src/simulation/runChunks';
 import type { RunOutput, RunRequest } from '../../src/simulation/runContract';
 import { runOutputTransferables, runRequest } from '../../src/simulation/runOutput';
 import { shouldSplit, splitRun, type SplitRunLane } from '../../src/ui/engine/splitRun';
@@ -121,13 +121,13 @@ describe('which runs are split', () => {
 
 const inProcess: SplitRunTasks = {
   traceRunChunk: (request, from, to, map) => traceRunChunk(request, from, to, map),
-  fitRunMap: (request) => fitRunMap(request),
+  fitRunMap: (request, part, parts) => fitRunMap(request, part, parts),
   finishRun: (request, traced, mirrorMap) => runRequest(request, undefined, traced, mirrorMap),
 };
 const lanes = (n: number): SplitRunLane[] =>
   Array.from({ length: n }, () => ({
     traceRunChunk: async (r, a, b, m) => inProcess.traceRunChunk(r, a, b, m),
-    fitRunMap: async (r) => inProcess.fitRunMap(r),
+    fitRunMap: async (r, p, n) => inProcess.fitRunMap(r, p, n),
     finishRun: async (r, t, m) => inProcess.finishRun(r, t, m),
   }));
 
@@ -158,6 +158,14 @@ describe('a split run equals the unsplit run bit for bit', () => {
     expect(fit.fitted).toHaveLength(2);
     expect(fittedIons).toBeLessThan(0.5 * 6_000);
     expect(fit.snapshot.values.length).toBe(2 * SNAPSHOT_STRIDE);
+    // Two workers fitting one species each give the same fit, joined (and a third, with no species, adds nothing).
+    const parts = [0, 1, 2].map((k) => fitRunMap(request, k, 3)!);
+    expect(parts[2].fitted).toHaveLength(0);
+    expect(parts[0].fitted).toHaveLength(1);
+    const joinedFit = mergeMapFits(parts);
+    expect(bits(joinedFit.snapshot.values)).toBe(bits(fit.snapshot.values));
+    expect(joinedFit.report).toEqual(fit.report);
+    expect(joinedFit.fitted.map((c) => [c.from, c.to, bits(c.flightTime_s)])).toEqual(fit.fitted.map((c) => [c.from, c.to, bits(c.flightTime_s)]));
     // The split run's report counts every ion once, mapped or traced, as the unsplit run's does.
     const split = await splitRun(lanes(3), request);
     const map = split.report.solvedMirrorMap!;
@@ -200,8 +208,8 @@ describe('a split run equals the unsplit run bit for bit', () => {
         const c = traceRunChunk(r, a, b, m);
         return Comlink.transfer(c, traceTransferables(c));
       },
-      fitRunMap: (r) => {
-        const fit = fitRunMap(r);
+      fitRunMap: (r, p, n) => {
+        const fit = fitRunMap(r, p, n);
         return fit && Comlink.transfer(fit, mapFitTransferables(fit));
       },
       finishRun: (r, t, m) => {

@@ -12,6 +12,7 @@ import {
   concatChunks,
   hasSolvedMirror,
   mapShare,
+  mergeMapFits,
   mergeMirrorMapReports,
   overlayFitted,
   splitsOverWorkers,
@@ -28,7 +29,7 @@ import type { Preset } from '../../presets/schema';
 /** One worker as the split run calls it. */
 export interface SplitRunLane {
   traceRunChunk(request: RunRequest, from: number, to: number, map?: RunMapShare): Promise<TraceChunk>;
-  fitRunMap(request: RunRequest): Promise<RunMapFit | null>;
+  fitRunMap(request: RunRequest, part?: number, parts?: number): Promise<RunMapFit | null>;
   finishRun(request: RunRequest, traced: TraceResult, mirrorMap?: MirrorMapReport): Promise<RunOutput>;
 }
 
@@ -58,14 +59,16 @@ export function shouldSplit(request: RunRequest, workers: number): boolean {
 /**
  * The run over `lanes` (calls passed through `guard`, which drops stale results); elapsed_ms
  * becomes the whole split run's wall time, chunks and finishing included. Through a solved mirror
- * the first lane fits the transfer map first (on each species' first ions, in order), and every
- * lane's chunk crosses by that one map (src/simulation/runChunks.ts).
+ * the lanes first fit the transfer map (each its share of the species, on their first ions in
+ * order), and every lane's chunk crosses by those maps (src/simulation/runChunks.ts).
  */
 export async function splitRun(lanes: readonly SplitRunLane[], request: RunRequest, guard: <V>(call: () => Promise<V>) => Promise<V> = (c) => c(), now: () => number = () => performance.now()): Promise<RunOutput> {
   const start = now();
   const ions = runIons(request);
   const bounds = chunkBounds(ions, chunkCount(ions, lanes.length));
-  const fit = hasSolvedMirror(request.preset) ? await guard(() => lanes[0].fitRunMap(request)) : null;
+  // Each lane fits the maps of its share of the species (they are independent), then all trace their chunks by all of them.
+  const fits = hasSolvedMirror(request.preset) ? await Promise.all(lanes.map((lane, k) => guard(() => lane.fitRunMap(request, k, lanes.length)))) : [];
+  const fit = fits.length > 0 && fits.every((f) => f !== null) ? mergeMapFits(fits as RunMapFit[]) : null;
   const share = fit ? mapShare(fit) : undefined;
   const chunks = await Promise.all(bounds.slice(1).map((to, k) => guard(() => lanes[k].traceRunChunk(request, bounds[k], to, share))));
   const trace = concatChunks(ions, chunks);
