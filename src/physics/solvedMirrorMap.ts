@@ -19,7 +19,7 @@
  * One map per species (per q/m): species differ in their time of flight to the mirror, so their
  * (P, D) relation differs, and the ions of a run come species by species in random order within a
  * species (they are sampled so), so the first ones are a fair sample of its domain. The first
- * TRAIN_SHARE of a species (TRAIN_RAYS_MIN…TRAIN_RAYS_MAX) are traced at the normal precision, as
+ * TRAIN_RAYS of a species are traced at the normal precision, as
  * every ion would be (so they cost nothing extra and their results are the direct traces), and
  * fitted: the least-squares fit averages their step-control noise, so the map is more accurate
  * than one trace. The next VALIDATE_RAYS inside the domain are traced at FINE precision (rtol 1e-9)
@@ -27,12 +27,21 @@
  * time, exit position and exit direction meet the limits below and none of those rays struck.
  * Domain: the central range of the training rays (DOMAIN_QUANTILE), and, where the mirror has an
  * entrance aperture, an entry and a predicted exit line that pass it within APERTURE_MARGIN of its
- * radius (the rays that strike it graze its edge). Ions outside are traced directly.
+ * radius (the rays that strike it graze its edge). Ions outside are traced directly, except those
+ * the strike pre-test (STRIKE_RADIUS) takes as struck on the entrance electrode. Once a species'
+ * map is decided (in use or refused, at the end of validation) every later ion's crossing depends
+ * on that ion alone: a run split over workers fits it once and shares it (snapshot, restore).
  *
- * Measured (bench/fieldTraceBench.ts, loaded machine) on the gridless demo's own population at
- * 2·10^4 ions: 79 % mapped, 2.7× the direct run's speed per CPU second, flight-time error 2.6e-7
- * rms of the time inside against 2.7e-7 for the direct trace. The ions left to the tracer (training
- * rays, aperture edge, energy tails, large angles, strikes) bound the gain. Tried and left: the
+ * Measured (bench/fieldTraceBench.ts, back to back with the earlier 600 training rays and no
+ * pre-test, two runs on a machine at load 4–6 on 2 cores) on the gridless demo's own population
+ * at 2·10^4 ions: 83 % mapped (463 of the 774 struck ions by the pre-test), 3.6–4.5× the direct
+ * run's speed per CPU second (before 2.6×), flight-time error 2.3e-7 rms of the time inside
+ * (largest 1.5e-6) against 2.7e-7 for the direct trace. The ions left to the tracer (training
+ * rays, aperture edge, energy tails, large angles, strikes near the margin) bound the gain. Tried
+ * and left: an edge patch (a second map per species fitted to the first 200 ions the core map
+ * left to the tracer, validated alike) failed validation on both species (2.8–3.4e-7 rms against
+ * 2e-7), with FINE training rays it passed on one and mapped only 300 more ions for 30 % more field
+ * evaluations. The
  * domain widened (quantile 0.01, aperture margin 0.9) maps 84 %, but its mapped ions near the edges
  * raised the flight-time error of the test's 6000-ion run to 5.9e-7 rms.
  * Earlier form (one map for all species from the run's first ions, FINE training, a per-ray
