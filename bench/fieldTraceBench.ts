@@ -21,6 +21,7 @@
  *  field_trace_steps_per_ion, field_trace_rejected_per_ion, field_trace_evals_per_ion: integration
  *                                steps, rejections and field evaluations per directly traced ion
  *  field_trace_struck            ions of the run that struck an electrode
+ *  field_trace_struck_by_map     of those, the ions the map's strike pre-test took as struck (not traced)
  * Runnable alone: npx tsx bench/fieldTraceBench.ts
  */
 import { readFileSync } from 'node:fs';
@@ -109,6 +110,7 @@ export function benchFieldTrace(ions = 20000): Record<string, number> {
     field_trace_rejected_per_ion: round(counters.rejected / ens.count),
     field_trace_evals_per_ion: round(counters.evaluations / ens.count),
     field_trace_struck: struck,
+    field_trace_struck_by_map: map ? map.struckByMap : 0,
   };
 }
 

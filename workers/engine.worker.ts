@@ -7,8 +7,8 @@
  * Imports nothing that touches the DOM.
  */
 import * as Comlink from 'comlink';
-import { traceTransferables, type SplitRunTasks } from '../src/simulation/runChunkPlan';
-import { traceRunChunk } from '../src/simulation/runChunks';
+import { mapFitTransferables, traceTransferables, type SplitRunTasks } from '../src/simulation/runChunkPlan';
+import { fitRunMap, traceRunChunk } from '../src/simulation/runChunks';
 import { runOutputTransferables, runRequest } from '../src/simulation/runOutput';
 import { createWorkerApi } from '../src/tuning/workerApi';
 
@@ -18,12 +18,16 @@ const api = createWorkerApi((request) => {
 });
 
 const splitTasks: SplitRunTasks = {
-  traceRunChunk: (request, from, to) => {
-    const chunk = traceRunChunk(request, from, to);
+  traceRunChunk: (request, from, to, map) => {
+    const chunk = traceRunChunk(request, from, to, map);
     return Comlink.transfer(chunk, traceTransferables(chunk));
   },
-  finishRun: (request, traced) => {
-    const result = runRequest(request, undefined, traced);
+  fitRunMap: (request, part, parts) => {
+    const fit = fitRunMap(request, part, parts);
+    return fit && Comlink.transfer(fit, mapFitTransferables(fit));
+  },
+  finishRun: (request, traced, mirrorMap) => {
+    const result = runRequest(request, undefined, traced, mirrorMap);
     return Comlink.transfer(result, runOutputTransferables(result));
   },
 };

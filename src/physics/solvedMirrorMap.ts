@@ -19,7 +19,7 @@
  * One map per species (per q/m): species differ in their time of flight to the mirror, so their
  * (P, D) relation differs, and the ions of a run come species by species in random order within a
  * species (they are sampled so), so the first ones are a fair sample of its domain. The first
- * TRAIN_SHARE of a species (TRAIN_RAYS_MIN…TRAIN_RAYS_MAX) are traced at the normal precision, as
+ * TRAIN_RAYS of a species are traced at the normal precision, as
  * every ion would be (so they cost nothing extra and their results are the direct traces), and
  * fitted: the least-squares fit averages their step-control noise, so the map is more accurate
  * than one trace. The next VALIDATE_RAYS inside the domain are traced at FINE precision (rtol 1e-9)
@@ -27,12 +27,21 @@
  * time, exit position and exit direction meet the limits below and none of those rays struck.
  * Domain: the central range of the training rays (DOMAIN_QUANTILE), and, where the mirror has an
  * entrance aperture, an entry and a predicted exit line that pass it within APERTURE_MARGIN of its
- * radius (the rays that strike it graze its edge). Ions outside are traced directly.
+ * radius (the rays that strike it graze its edge). Ions outside are traced directly, except those
+ * the strike pre-test (STRIKE_RADIUS) takes as struck on the entrance electrode. Once a species'
+ * map is decided (in use or refused, at the end of validation) every later ion's crossing depends
+ * on that ion alone: a run split over workers fits it once and shares it (snapshot, restore).
  *
- * Measured (bench/fieldTraceBench.ts, loaded machine) on the gridless demo's own population at
- * 2·10^4 ions: 79 % mapped, 2.7× the direct run's speed per CPU second, flight-time error 2.6e-7
- * rms of the time inside against 2.7e-7 for the direct trace. The ions left to the tracer (training
- * rays, aperture edge, energy tails, large angles, strikes) bound the gain. Tried and left: the
+ * Measured (bench/fieldTraceBench.ts, back to back with the earlier 600 training rays and no
+ * pre-test, two runs on a machine at load 4–6 on 2 cores) on the gridless demo's own population
+ * at 2·10^4 ions: 83 % mapped (463 of the 774 struck ions by the pre-test), 3.6–4.5× the direct
+ * run's speed per CPU second (before 2.6×), flight-time error 2.3e-7 rms of the time inside
+ * (largest 1.5e-6) against 2.7e-7 for the direct trace. The ions left to the tracer (training
+ * rays, aperture edge, energy tails, large angles, strikes near the margin) bound the gain. Tried
+ * and left: an edge patch (a second map per species fitted to the first 200 ions the core map
+ * left to the tracer, validated alike) failed validation on both species (2.8–3.4e-7 rms against
+ * 2e-7), with FINE training rays it passed on one and mapped only 300 more ions for 30 % more field
+ * evaluations. The
  * domain widened (quantile 0.01, aperture margin 0.9) maps 84 %, but its mapped ions near the edges
  * raised the flight-time error of the test's 6000-ion run to 5.9e-7 rms.
  * Earlier form (one map for all species from the run's first ions, FINE training, a per-ray
@@ -48,10 +57,17 @@ import type { FlightPlan } from './regions/plan';
 import { leftSolvedRegion, type MirrorMap, type SolvedMirrorModel } from './regions/solvedKernels';
 import { SolvedFieldTracer, SolvedPrecision, createSolvedIonState, type SolvedIonState, type SolvedRegion } from './regions/solvedTracer';
 
-/** Training rays per species: a share of the run, within these bounds. */
-export const TRAIN_RAYS_MIN = 400;
-export const TRAIN_RAYS_MAX = 600;
-export const TRAIN_SHARE = 0.04;
+/**
+ * Training rays per species, whatever the run's size. Measured on the gridless demo
+ * (bench/fieldTraceBench.ts's reference run, every 10th ion): at 2·10^4 ions 400 rays gave a
+ * flight-time error of 2.3e-7 rms (largest 1.5e-6) against 2.6e-7 (3.6e-6) with the earlier
+ * 4 % of the run (600 rays): fewer training rays leave more ions to the map, whose least-squares
+ * fit averages the step-control noise of one trace. At 6000 ions (400 rays either way) 300 rays
+ * raised it from 2.5e-7 to 3.7e-7 (its domain, cut at quantiles of fewer rays, reached further out).
+ * Traced at FINE precision instead of NORMAL the rays cost more field evaluations than fewer of
+ * them save (300 FINE: 1.86e6 in the run at 2·10^4 ions, 300 NORMAL: 1.64e6).
+ */
+export const TRAIN_RAYS = 400;
 /** Validation rays per species (FINE traces inside the map's domain). */
 export const VALIDATE_RAYS = 80;
 /** Runs with fewer ions trace every ion directly: fitting would cost more than it saves. */
@@ -70,6 +86,18 @@ export const DIRECTION_TOL_RMS = 2e-4;
 export const DOMAIN_QUANTILE = 0.02;
 /** Entry and predicted exit lines must pass an entrance aperture within this fraction of its radius. */
 export const APERTURE_MARGIN = 0.8;
+/**
+ * Strike pre-test: an ion whose predicted exit line meets the entrance electrode's mirror-side face
+ * at STRIKE_RADIUS times the aperture radius or more is taken as struck there without tracing, if
+ * by the end of validation STRIKE_CHECKS_MIN held-out traced ions (struck training rays, which the
+ * fit never saw, and traced ions during validation) confirmed the prediction and none contradicted it. Measured on the gridless
+ * demo (2·10^4 ions): the predicted radius of the ions that struck was ≥ 0.996 of the aperture
+ * radius, of those that came back ≤ 0.996, so the 5 % margin is ~50× the scatter seen.
+ */
+export const STRIKE_RADIUS = 1.05;
+export const STRIKE_CHECKS_MIN = 8;
+/** Largest relative error of a predicted strike time (of the time inside) among the checks. */
+export const STRIKE_TIME_TOL = 1e-3;
 
 /** Monomial exponents (e, a, b, c) of the time basis: transverse order ≤ 2, fewer energy powers with it. */
 function exponents(maxTransverse: number, energyPowers: readonly number[]): Int8Array {
@@ -136,6 +164,29 @@ interface Ray {
 }
 
 const State = { TRAINING: 0, VALIDATING: 1, MAPPED: 2, DIRECT: 3 } as const;
+/** The strike pre-test: still being checked, used, or refused. */
+const Strike = { CHECKING: 0, USED: 1, REFUSED: 2 } as const;
+
+/** Entry state of a training ray that struck, and where and when (time × sqrt(q/m)) it struck. */
+interface StruckRay {
+  x: number;
+  y: number;
+  dx: number;
+  dy: number;
+  U: number;
+  scaledTime: number;
+}
+
+/** Numbers per species in a MirrorMapSnapshot: 16 scalars (q/m, states, normalisation, domains), then the time, position and direction coefficients. */
+const SNAPSHOT_HEAD = 16;
+export const SNAPSHOT_STRIDE = SNAPSHOT_HEAD + TIME_TERMS + 4 * LINEAR_TERMS;
+
+/** A fitted map as plain arrays (transferable between workers): see SolvedMirrorMapper.snapshot and restore. */
+export interface MirrorMapSnapshot {
+  readonly values: Float64Array;
+  /** The settled species' reports at the snapshot (the fitting worker's counts, validation figures, notes). */
+  readonly species: readonly SpeciesMapReport[];
+}
 
 /** One species' part of a run's map. */
 export interface SpeciesMapReport {
@@ -149,11 +200,18 @@ export interface SpeciesMapReport {
   validationDirectionRms: number | null;
   /** Why the map was not used for this species, or '' when it was. */
   note: string;
+  /** Ions taken as struck on the entrance electrode by the strike pre-test (not traced; counted in `mapped`). */
+  struckByMap: number;
+  /** Traced ions that checked the strike pre-test, and why it is not used ('' when it is or is still being checked). */
+  strikeChecks: number;
+  strikeNote: string;
 }
 
 export interface MirrorMapReport {
   mapped: number;
   traced: number;
+  /** Of `mapped`: ions the strike pre-test took as struck. */
+  struckByMap: number;
   /** Why the map was not used (for every species), or '' when it was used for some. */
   note: string;
   species: SpeciesMapReport[];
@@ -161,13 +219,20 @@ export interface MirrorMapReport {
 
 
 /** The nearest entrance aperture of a region: radius and far face (mesh z), or null. */
-function entranceAperture(region: SolvedRegion): { radius_m: number; farZ_m: number } | null {
-  let best: { radius_m: number; farZ_m: number; zMin: number } | null = null;
+function entranceAperture(region: SolvedRegion): Aperture | null {
+  let best: (Aperture & { zMin: number }) | null = null;
   const s = region.solids;
   for (let k = 0; k < s.length; k += 4) {
-    if (s[k] > 0 && s[k + 2] >= region.entryZ_m && (best === null || s[k + 2] < best.zMin)) best = { radius_m: s[k], farZ_m: s[k + 3], zMin: s[k + 2] };
+    if (s[k] > 0 && s[k + 2] >= region.entryZ_m && (best === null || s[k + 2] < best.zMin)) best = { radius_m: s[k], farZ_m: s[k + 3], zMin: s[k + 2], electrode: region.solidIndex[k / 4] };
   }
-  return best && { radius_m: best.radius_m, farZ_m: best.farZ_m };
+  return best && { radius_m: best.radius_m, farZ_m: best.farZ_m, electrode: best.electrode };
+}
+
+/** An entrance aperture: bore radius, mirror-side face (mesh z) and electrode index. */
+interface Aperture {
+  radius_m: number;
+  farZ_m: number;
+  electrode: number;
 }
 
 /** One species' map: training, validation, then use. */
@@ -186,6 +251,13 @@ class SpeciesMap {
   eHi = 1;
   aHi = 1;
   cHi = 1;
+  /** The strike pre-test's domain: the full range of every training ray, struck ones included. */
+  readonly struckRays: StruckRay[] = [];
+  strikeState: number = Strike.CHECKING;
+  eLoStrike = -1;
+  eHiStrike = 1;
+  aHiStrike = 1;
+  cHiStrike = 1;
   /** Sums of squared validation errors and the largest time error. */
   sumTime2 = 0;
   maxTime = 0;
@@ -193,7 +265,7 @@ class SpeciesMap {
   sumDir2 = 0;
   readonly report: SpeciesMapReport;
   constructor(qOverM: number) {
-    this.report = { qOverM_C_per_kg: qOverM, mapped: 0, traced: 0, validationRays: 0, validationTimeRms: null, validationDirectionRms: null, note: '' };
+    this.report = { qOverM_C_per_kg: qOverM, mapped: 0, traced: 0, validationRays: 0, validationTimeRms: null, validationDirectionRms: null, note: '', struckByMap: 0, strikeChecks: 0, strikeNote: '' };
   }
 }
 
@@ -213,27 +285,77 @@ export class SolvedMirrorMapper implements MirrorMap {
   private readonly dir2 = new Float64Array(2);
   private readonly maps: SpeciesMap[] = [];
   private current: SpeciesMap | null = null;
-  readonly report: MirrorMapReport = { mapped: 0, traced: 0, note: '', species: [] };
-  private readonly trainRays: number;
-  private readonly aperture: { radius_m: number; farZ_m: number } | null;
+  readonly report: MirrorMapReport = { mapped: 0, traced: 0, struckByMap: 0, note: '', species: [] };
+  /** The strike pre-test's prediction at the current input (set by predictsStrike): scaled time of the strike and its point. */
+  private strikeScaledTime = 0;
+  private readonly strike2 = new Float64Array(2);
+  private readonly trainRays = TRAIN_RAYS;
+  /** Restored from a snapshot: knows only the snapshot's species, each settled. */
+  private restored = false;
+  private readonly aperture: Aperture | null;
 
-  /**
-   * `ions`: how many ions the run will bring to the mirror (sets the number of training rays);
-   * `tracer`: the run's tracer, for the ions the map does not carry (its counters get their effort).
-   */
+  /** `tracer`: the run's tracer, for the ions the map does not carry (its counters get their effort). */
   constructor(
     private readonly mirror: SolvedMirrorModel,
-    ions: number,
     private readonly tracer: SolvedFieldTracer = new SolvedFieldTracer(null),
   ) {
-    this.trainRays = Math.round(Math.min(TRAIN_RAYS_MAX, Math.max(TRAIN_RAYS_MIN, TRAIN_SHARE * ions)));
     this.aperture = entranceAperture(mirror.region);
+  }
+
+  /** True once the species' map is decided (in use, or refused): every later ion's crossing depends on that ion alone. */
+  settled(qOverM_C_per_kg: number): boolean {
+    const m = this.maps.find((s) => s.report.qOverM_C_per_kg === qOverM_C_per_kg);
+    return m !== undefined && (m.state === State.MAPPED || m.state === State.DIRECT);
+  }
+
+  /**
+   * The settled species' maps as plain arrays (SNAPSHOT_STRIDE numbers per species) and their
+   * reports: what a worker that did not fit the map needs to carry the later ions exactly as this one would.
+   */
+  snapshot(): MirrorMapSnapshot {
+    const settled = this.maps.filter((m) => m.state === State.MAPPED || m.state === State.DIRECT);
+    const values = new Float64Array(settled.length * SNAPSHOT_STRIDE);
+    settled.forEach((m, i) => {
+      const o = i * SNAPSHOT_STRIDE;
+      values.set([m.report.qOverM_C_per_kg, m.state, m.strikeState, m.uMid, m.uHalf, m.virtualSource_m, m.rMax, m.dMax, m.eLo, m.eHi, m.aHi, m.cHi, m.eLoStrike, m.eHiStrike, m.aHiStrike, m.cHiStrike], o);
+      values.set(m.timeCoef, o + SNAPSHOT_HEAD);
+      values.set(m.posCoef, o + SNAPSHOT_HEAD + TIME_TERMS);
+      values.set(m.dirCoef, o + SNAPSHOT_HEAD + TIME_TERMS + 2 * LINEAR_TERMS);
+    });
+    return { values, species: settled.map((m) => ({ ...m.report })) };
+  }
+
+  /**
+   * A map restored from `snapshot` (another worker's fit), its counts zero (the snapshot's species
+   * reports keep the fitting worker's); its ions' crossings equal the fitting worker's bit for bit.
+   */
+  static restore(mirror: SolvedMirrorModel, snapshot: MirrorMapSnapshot, tracer?: SolvedFieldTracer): SolvedMirrorMapper {
+    const mapper = new SolvedMirrorMapper(mirror, tracer);
+    const v = snapshot.values;
+    if (v.length !== snapshot.species.length * SNAPSHOT_STRIDE) throw new Error(`a transfer-map snapshot of ${snapshot.species.length} species needs ${snapshot.species.length * SNAPSHOT_STRIDE} values, not ${v.length}`);
+    snapshot.species.forEach((r, i) => {
+      const o = i * SNAPSHOT_STRIDE;
+      if (v[o] !== r.qOverM_C_per_kg || !(v[o + 1] === State.MAPPED || v[o + 1] === State.DIRECT)) throw new Error('a transfer-map snapshot holds a species that is not settled');
+      const m = new SpeciesMap(v[o]);
+      Object.assign(m.report, r, { mapped: 0, traced: 0, struckByMap: 0 });
+      m.state = v[o + 1];
+      m.strikeState = v[o + 2];
+      [m.uMid, m.uHalf, m.virtualSource_m, m.rMax, m.dMax, m.eLo, m.eHi, m.aHi, m.cHi, m.eLoStrike, m.eHiStrike, m.aHiStrike, m.cHiStrike] = v.subarray(o + 3, o + SNAPSHOT_HEAD);
+      m.timeCoef = v.slice(o + SNAPSHOT_HEAD, o + SNAPSHOT_HEAD + TIME_TERMS);
+      m.posCoef = v.slice(o + SNAPSHOT_HEAD + TIME_TERMS, o + SNAPSHOT_HEAD + TIME_TERMS + 2 * LINEAR_TERMS);
+      m.dirCoef = v.slice(o + SNAPSHOT_HEAD + TIME_TERMS + 2 * LINEAR_TERMS, o + SNAPSHOT_STRIDE);
+      mapper.maps.push(m);
+      mapper.report.species.push(m.report);
+    });
+    mapper.restored = true;
+    return mapper;
   }
 
   private speciesMap(k: number): SpeciesMap {
     if (this.current !== null && this.current.report.qOverM_C_per_kg === k) return this.current;
     let m = this.maps.find((s) => s.report.qOverM_C_per_kg === k);
     if (!m) {
+      if (this.restored) throw new Error(`the restored transfer map has no species of q/m ${k} C/kg: its ions must be traced by the worker that fitted it`);
       m = new SpeciesMap(k);
       this.maps.push(m);
       this.report.species.push(m.report);
@@ -272,21 +394,96 @@ export class SolvedMirrorMapper implements MirrorMap {
       this.report.mapped++;
       return this.applyMap(m, st, k, speed, tLimit_s);
     }
+    // Checked while the map is validated (decided with it), used once it is.
+    const strikeTest = usable && !inside && ((m.state === State.MAPPED && m.strikeState === Strike.USED) || (m.state === State.VALIDATING && m.strikeState === Strike.CHECKING)) && this.predictsStrike(m, x0, y0, dx0, dy0, U);
+    if (strikeTest && m.state === State.MAPPED) {
+      m.report.mapped++;
+      m.report.struckByMap++;
+      this.report.mapped++;
+      this.report.struckByMap++;
+      return this.applyStrike(st, k, speed);
+    }
     const training = m.state === State.TRAINING;
     const validating = m.state === State.VALIDATING && inside;
     const t0 = ion.t;
     const exit = this.tracer.trace(ion, region, k, tLimit_s, validating ? SolvedPrecision.FINE : SolvedPrecision.NORMAL);
     m.report.traced++;
     this.report.traced++;
+    if (strikeTest) this.checkStrike(m, exit === Fate.STRUCK_ELECTRODE, (ion.t - t0) * Math.sqrt(k), this.strikeScaledTime);
     if (training && usable) {
-      // A training ray that does not come back (a strike) only narrows nothing: it is simply not fitted.
+      // A training ray that does not come back (a strike) is not fitted; it checks the strike pre-test after the fit.
       if (exit === Exit.ENTRY) m.rays.push({ x: x0, y: y0, dx: dx0, dy: dy0, U, scaledTime: (ion.t - t0) * Math.sqrt(k), xOut: ion.x, yOut: ion.y, dxOut: ion.vx / speed, dyOut: ion.vy / speed });
+      else if (exit === Fate.STRUCK_ELECTRODE) m.struckRays.push({ x: x0, y: y0, dx: dx0, dy: dy0, U, scaledTime: (ion.t - t0) * Math.sqrt(k) });
       if (m.report.traced >= this.trainRays) this.fit(m);
     } else if (validating) {
       if (exit !== Exit.ENTRY) this.giveUp(m, 'a validation ray inside the fitted domain did not come back out of the mirror');
       else this.validate(m, (ion.t - t0) * Math.sqrt(k), ion.x, ion.y, ion.vx / speed, ion.vy / speed);
     }
     return finish(st, ion, exit);
+  }
+
+  /**
+   * The strike pre-test at an entry outside the map's domain: inside the range of all training
+   * rays (struck ones included), entering clear of the aperture's edge, and the predicted exit line
+   * meets the entrance electrode's mirror-side face at STRIKE_RADIUS of the aperture radius or
+   * more. Leaves the predicted strike (scaled time, point) in strikeScaledTime and strike2.
+   */
+  private predictsStrike(m: SpeciesMap, x: number, y: number, dx: number, dy: number, U: number): boolean {
+    const ap = this.aperture;
+    if (ap === null) return false;
+    this.setInput(m, x, y, dx, dy, U);
+    const inp = this.inp;
+    if (!(inp.e >= m.eLoStrike && inp.e <= m.eHiStrike && inp.a <= m.aHiStrike && inp.c <= m.cHiStrike)) return false;
+    const depth = ap.farZ_m - this.mirror.region.entryZ_m;
+    const sIn = depth / Math.sqrt(Math.max(1 - dx * dx - dy * dy, 1e-12));
+    const limitIn = APERTURE_MARGIN * ap.radius_m;
+    if (!((x + dx * sIn) ** 2 + (y + dy * sIn) ** 2 <= limitIn * limitIn)) return false;
+    basis(LINEAR_BASIS, inp, this.linRow);
+    const out2 = this.out2;
+    const dir2 = this.dir2;
+    this.transverseOut(m.posCoef, out2);
+    this.transverseOut(m.dirCoef, dir2);
+    const cosOut = Math.sqrt(Math.max(1 - dir2[0] * dir2[0] - dir2[1] * dir2[1], 1e-12));
+    const sOut = depth / cosOut;
+    const xs = out2[0] - dir2[0] * sOut;
+    const ys = out2[1] - dir2[1] * sOut;
+    const limit = STRIKE_RADIUS * ap.radius_m;
+    if (!(xs * xs + ys * ys >= limit * limit)) return false;
+    this.strike2[0] = xs;
+    this.strike2[1] = ys;
+    // The map's time to the entry plane less the straight path back from the face at the entry speed
+    // (the field between the face and the entry plane is weak: the drift potential's side of the aperture).
+    this.strikeScaledTime = this.scaledTime(m) - sOut / Math.sqrt(2 * U); // scaled: time × sqrt(q/m), speed sqrt(2U·q/m)
+    return true;
+  }
+
+  /** A traced ion the strike pre-test predicted struck: a check of the prediction (strike, and its time). */
+  private checkStrike(m: SpeciesMap, struck: boolean, scaledTime: number, predicted: number): void {
+    if (m.strikeState === Strike.REFUSED) return;
+    if (!struck) return this.refuseStrikes(m, 'an ion predicted to strike the entrance electrode came back out');
+    const rel = Math.abs(predicted - scaledTime) / scaledTime;
+    if (!(rel <= STRIKE_TIME_TOL)) return this.refuseStrikes(m, `a predicted strike time was off by ${rel.toExponential(1)} relative`);
+    m.report.strikeChecks++;
+  }
+
+  private refuseStrikes(m: SpeciesMap, note: string): void {
+    m.strikeState = Strike.REFUSED;
+    m.report.strikeNote = note;
+  }
+
+  /** The strike predicted by predictsStrike: the ion ends on the entrance electrode's face. */
+  private applyStrike(st: IonState, k: number, speed: number): boolean {
+    const ion = this.ion;
+    const ap = this.aperture;
+    ion.t = st.t + this.strikeScaledTime / Math.sqrt(k);
+    ion.x = this.strike2[0];
+    ion.y = this.strike2[1];
+    ion.z = ap === null ? ion.z : ap.farZ_m;
+    ion.vx = speed * this.dir2[0];
+    ion.vy = speed * this.dir2[1];
+    ion.vz = -Math.sqrt(Math.max(speed * speed - ion.vx * ion.vx - ion.vy * ion.vy, 0));
+    ion.struckElectrode = ap === null ? -1 : ap.electrode;
+    return finish(st, ion, Fate.STRUCK_ELECTRODE);
   }
 
   private giveUp(m: SpeciesMap, note: string): void {
@@ -318,6 +515,11 @@ export class SolvedMirrorMapper implements MirrorMap {
     if (timeRms <= TIME_TOL_RMS && posRms <= POSITION_TOL_RMS_M && dirRms <= DIRECTION_TOL_RMS) {
       m.state = State.MAPPED;
       this.report.note = '';
+      // The strike pre-test is decided with the map, so that from here on every ion's crossing depends on that ion alone.
+      if (m.strikeState === Strike.CHECKING) {
+        if (m.report.strikeChecks >= STRIKE_CHECKS_MIN) m.strikeState = Strike.USED;
+        else this.refuseStrikes(m, `too few checks (${m.report.strikeChecks} of ${STRIKE_CHECKS_MIN}) by the end of validation`);
+      }
     } else this.giveUp(m, `validation outside tolerance (rms time ${timeRms.toExponential(1)} relative, exit position ${posRms.toExponential(1)} m, direction ${dirRms.toExponential(1)})`);
   }
 
@@ -380,6 +582,17 @@ export class SolvedMirrorMapper implements MirrorMap {
     m.eHi = at(es, 1 - DOMAIN_QUANTILE);
     m.aHi = at(as, 1 - DOMAIN_QUANTILE);
     m.cHi = at(cs, 1 - DOMAIN_QUANTILE);
+    // The strike pre-test's domain: the full range of every training ray, struck ones included.
+    for (const r of m.struckRays) {
+      this.setInput(m, r.x, r.y, r.dx, r.dy, r.U);
+      es.push(inp.e);
+      as.push(inp.a);
+      cs.push(inp.c);
+    }
+    m.eLoStrike = Math.min(...es);
+    m.eHiStrike = Math.max(...es);
+    m.aHiStrike = Math.max(...as);
+    m.cHiStrike = Math.max(...cs);
   }
 
   private fit(m: SpeciesMap): void {
@@ -444,8 +657,13 @@ export class SolvedMirrorMapper implements MirrorMap {
     m.timeCoef = timeCoef;
     [m.posCoef, m.dirCoef] = solveLeastSquaresMany(A2, 2 * n, 2 * LINEAR_TERMS, [pos, dir], 1e-6);
     this.setDomain(m);
-    m.rays.length = 0;
     m.state = State.VALIDATING;
+    // The pre-test against the training rays: none that came back may be predicted struck (a check
+    // on rays the fit saw), and each struck one predicted struck is a held-out check.
+    for (const r of m.rays) if (this.predictsStrike(m, r.x, r.y, r.dx, r.dy, r.U)) this.refuseStrikes(m, 'a training ray predicted to strike the entrance electrode came back out');
+    for (const r of m.struckRays) if (this.predictsStrike(m, r.x, r.y, r.dx, r.dy, r.U)) this.checkStrike(m, true, r.scaledTime, this.strikeScaledTime);
+    m.rays.length = 0;
+    m.struckRays.length = 0;
   }
 
   /** Scaled time at the current input. */
@@ -526,7 +744,9 @@ export function formatMirrorMap(report: MirrorMapReport): string {
   const lines = report.species.map((s) => {
     const how = s.note === '' ? 'transfer map validated' : `traced directly: ${s.note}`;
     const rms = s.validationTimeRms === null ? '' : `, validation rms time ${s.validationTimeRms.toExponential(1)}`;
-    return `  q/m ${s.qOverM_C_per_kg.toPrecision(6)} C/kg: ${s.mapped} ions mapped, ${s.traced} traced (${how}${rms})`;
+    const strikes = s.struckByMap > 0 ? `; ${s.struckByMap} of the mapped taken as struck on the entrance electrode by the strike pre-test, ${s.strikeChecks} traced checks` : s.strikeNote !== '' ? `; strike pre-test not used: ${s.strikeNote}` : '';
+    return `  q/m ${s.qOverM_C_per_kg.toPrecision(6)} C/kg: ${s.mapped} ions mapped, ${s.traced} traced (${how}${rms}${strikes})`;
   });
-  return `Solved mirror: ${report.mapped} ions by the transfer map, ${report.traced} traced through the field\n${lines.join('\n')}\n`;
+  const struck = report.struckByMap > 0 ? ` (${report.struckByMap} of them taken as struck on the entrance electrode by its strike pre-test)` : '';
+  return `Solved mirror: ${report.mapped} ions by the transfer map${struck}, ${report.traced} traced through the field\n${lines.join('\n')}\n`;
 }

@@ -32,9 +32,11 @@ export interface RunOptions {
   readonly analysis?: boolean | 'peaks';
   /**
    * The per-ion trace of this run's population, already computed (a run split over workers:
-   * src/simulation/runChunks.ts); used in place of tracing. Only for models without a solved region.
+   * src/simulation/runChunks.ts); used in place of tracing. Not for a solved source.
    */
   readonly traced?: TraceResult;
+  /** With `traced` through a solved mirror's shared transfer map: how the ions crossed it (the split run's merged report). */
+  readonly mirrorMap?: MirrorMapReport;
 }
 
 export interface SimulationResult {
@@ -61,7 +63,7 @@ export function simulate(preset: Preset, options: RunOptions = {}): SimulationRe
   // The closed form wherever the field allows it (over blocks of ions); ion by ion when some region needs integration.
   const map: { report: MirrorMapReport | null } = { report: null };
   if (!options.traced) traceEnsemble(compiled.model, ensemble, trace, { onMirrorMap: (r) => (map.report = r) });
-  const mirrorMap = map.report;
+  const mirrorMap = options.traced ? (options.mirrorMap ?? null) : map.report;
   applyDetectorPlane(compiled.model, ensemble, trace);
   // With space charge on, the ions are retraced shot by shot (the headline then includes it).
   const load = traceIonLoad(preset, compiled.model, ensemble, trace, population.seed);

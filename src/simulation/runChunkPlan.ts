@@ -4,6 +4,7 @@
  * so the page (src/ui/engine/splitRun.ts) can use it.
  */
 import type { TraceResult } from '../ions/ensemble';
+import type { MirrorMapReport, MirrorMapSnapshot } from '../physics/solvedMirrorMap';
 import type { Preset } from '../presets/schema';
 import type { RunOutput, RunRequest } from './runContract';
 
@@ -16,14 +17,108 @@ export interface TraceChunk extends TraceResult {
   readonly to: number;
   /** Time this worker took to sample and trace its chunk (ms). */
   readonly elapsed_ms: number;
+  /** With a shared transfer map: how this chunk's own ions crossed the solved mirror (counts of this chunk only). */
+  readonly mirrorMap?: MirrorMapReport;
 }
 
 /**
- * True when a run of `preset` may be split: no solved field (read from the preset, so the page can
- * decide without compiling; tests check it agrees with the compiled model).
+ * A solved mirror's transfer map fitted by one worker for a split run (runChunks.fitRunMap): the
+ * ions it traced while fitting (per species from its first ion to where the map was decided, in
+ * ion order), the fitted map as plain arrays, and the map's report for those ions.
+ */
+export interface RunMapFit {
+  readonly fitted: readonly TraceChunk[];
+  readonly snapshot: MirrorMapSnapshot;
+  readonly report: MirrorMapReport;
+  /** Per species of `report`: its first ion in the run, and whether its map was still undecided when its ions ran out. */
+  readonly firstIon: readonly number[];
+  readonly open: readonly boolean[];
+}
+
+/**
+ * The fits of several workers, each for its own species (fitRunMap's `part` of `parts`), as one:
+ * species in the run's order, counts added, and the run's note as the unsplit run leaves it (the
+ * last refusal's reason when every species so far was refused, else none).
+ */
+export function mergeMapFits(fits: readonly RunMapFit[]): RunMapFit {
+  if (fits.length === 1) return fits[0];
+  const entries = fits.flatMap((f) => f.report.species.map((s, i) => ({ s, first: f.firstIon[i], open: f.open[i] }))).sort((a, b) => a.first - b.first);
+  let note = '';
+  let allRefused = true;
+  for (const e of entries) {
+    if (e.open || e.s.note === '') {
+      allRefused = false;
+      if (!e.open) note = ''; // decided and in use
+    } else note = allRefused ? e.s.note : '';
+  }
+  const sum = (key: 'mapped' | 'traced' | 'struckByMap') => fits.reduce((n, f) => n + f.report[key], 0);
+  return {
+    fitted: fits.flatMap((f) => f.fitted).sort((a, b) => a.from - b.from),
+    snapshot: { values: Float64Array.from(fits.flatMap((f) => Array.from(f.snapshot.values))), species: fits.flatMap((f) => f.snapshot.species) },
+    report: { mapped: sum('mapped'), traced: sum('traced'), struckByMap: sum('struckByMap'), note, species: entries.map((e) => e.s) },
+    firstIon: entries.map((e) => e.first),
+    open: entries.map((e) => e.open),
+  };
+}
+
+/** What the chunk workers need of a RunMapFit: the map, and which ions are already traced ([from, to) pairs). */
+export interface RunMapShare {
+  readonly snapshot: MirrorMapSnapshot;
+  readonly fittedRanges: readonly number[];
+}
+
+export function mapShare(fit: RunMapFit): RunMapShare {
+  return { snapshot: fit.snapshot, fittedRanges: fit.fitted.flatMap((c) => [c.from, c.to]) };
+}
+
+/** `trace` with the fitting worker's ions written over it (the chunks leave them zero). */
+export function overlayFitted(trace: TraceResult, fitted: readonly TraceChunk[]): TraceResult {
+  for (const c of fitted) {
+    trace.flightTime_s.set(c.flightTime_s, c.from);
+    trace.fate.set(c.fate, c.from);
+    trace.finalSpeed_m_per_s.set(c.finalSpeed_m_per_s, c.from);
+    trace.weight.set(c.weight, c.from);
+    trace.detectorX_m.set(c.detectorX_m, c.from);
+    trace.detectorY_m.set(c.detectorY_m, c.from);
+  }
+  return trace;
+}
+/**
+ * The report of a run whose ions were carried partly by the fitting worker's map (`fitted`) and
+ * partly by maps restored from its snapshot (`parts`, counting only their own ions): the counts
+ * add up per species, the rest is the fitting worker's.
+ */
+export function mergeMirrorMapReports(fitted: MirrorMapReport, parts: readonly MirrorMapReport[]): MirrorMapReport {
+  const species = fitted.species.map((s) => ({ ...s }));
+  const out: MirrorMapReport = { ...fitted, species };
+  for (const part of parts) {
+    for (const p of part.species) {
+      const s = species.find((x) => x.qOverM_C_per_kg === p.qOverM_C_per_kg);
+      if (!s) throw new Error(`a restored map's report names a species (q/m ${p.qOverM_C_per_kg} C/kg) the fitted map does not`);
+      s.mapped += p.mapped;
+      s.traced += p.traced;
+      s.struckByMap += p.struckByMap;
+    }
+    out.mapped += part.mapped;
+    out.traced += part.traced;
+    out.struckByMap += part.struckByMap;
+  }
+  return out;
+}
+
+
+/**
+ * True when a run of `preset` may be split: no solved source (read from the preset, so the page can
+ * decide without compiling; tests check it agrees with the compiled model). A solved mirror's
+ * transfer map is fitted once and shared (fitRunMap, RunMapShare).
  */
 export function splitsOverWorkers(preset: Preset): boolean {
-  return preset.mirror.type !== 'solved' && !preset.source.solved;
+  return !preset.source.solved;
+}
+
+/** True when the run has a solved mirror (its chunks then share one worker's transfer map, when the run uses one). */
+export function hasSolvedMirror(preset: Preset): boolean {
+  return preset.mirror.type === 'solved';
 }
 
 /** Boundaries of `parts` contiguous chunks of `count` ions (length parts + 1, sizes differ by at most one). */
@@ -74,7 +169,15 @@ export function traceTransferables(t: TraceResult | TraceChunk): ArrayBuffer[] {
 
 /** What a worker offers for split runs (workers/engine.worker.ts); results come back transferred. */
 export interface SplitRunTasks {
-  traceRunChunk(request: RunRequest, from: number, to: number): TraceChunk | Promise<TraceChunk>;
-  /** The whole run finished on a trace computed elsewhere (runRequest with `traced`). */
-  finishRun(request: RunRequest, traced: TraceResult): RunOutput | Promise<RunOutput>;
+  /** `map`: the shared transfer map of a solved mirror (its fitted ions are skipped). */
+  traceRunChunk(request: RunRequest, from: number, to: number, map?: RunMapShare): TraceChunk | Promise<TraceChunk>;
+  /** A solved mirror's transfer map fitted on the run's ions (the species of `part` of `parts`, for mergeMapFits); null when the run uses none. */
+  fitRunMap(request: RunRequest, part?: number, parts?: number): RunMapFit | null | Promise<RunMapFit | null>;
+  /** The whole run finished on a trace computed elsewhere (runRequest with `traced`, and the map's report when one was used). */
+  finishRun(request: RunRequest, traced: TraceResult, mirrorMap?: MirrorMapReport): RunOutput | Promise<RunOutput>;
+}
+
+/** Buffers of a RunMapFit, for transfer. */
+export function mapFitTransferables(fit: RunMapFit): ArrayBuffer[] {
+  return [...fit.fitted.flatMap((c) => traceTransferables(c)), fit.snapshot.values.buffer as ArrayBuffer];
 }

@@ -1,6 +1,7 @@
 /** Turns a simulation result into the run contract's `RunOutput` (shared by the worker and in-process callers). */
 import { focusScan } from '../analysis/focusScan';
 import type { TraceResult } from '../ions/ensemble';
+import type { MirrorMapReport } from '../physics/solvedMirrorMap';
 import type { RunOutput, RunRequest } from './runContract';
 import { pulseReach } from './pulseReach';
 import { simulate } from './run';
@@ -11,10 +12,10 @@ import { productArrays, productTransferables } from './productArrays';
 import { traceFragmentScene } from './fragmentScene';
 import { fragmentSceneTransferables } from './fragmentSceneData';
 
-/** `traced`: the run's per-ion trace when it was computed elsewhere (a split run, src/simulation/runChunks.ts). */
-export function runRequest(request: RunRequest, now: () => number = () => performance.now(), traced?: TraceResult): RunOutput {
+/** `traced`: the run's per-ion trace when it was computed elsewhere (a split run, src/simulation/runChunks.ts); `mirrorMap`: then how it crossed a solved mirror. */
+export function runRequest(request: RunRequest, now: () => number = () => performance.now(), traced?: TraceResult, mirrorMap?: MirrorMapReport): RunOutput {
   const start = now();
-  const result = simulate(request.preset, { ions: request.ions, seed: request.seed, analysis: request.analysis, ...(traced ? { traced } : {}) });
+  const result = simulate(request.preset, { ions: request.ions, seed: request.seed, analysis: request.analysis, ...(traced ? { traced } : {}), ...(mirrorMap ? { mirrorMap } : {}) });
   const elapsed_ms = now() - start;
   const scene = request.scene ? runScene(request.preset, result.compiled, request.scene) : null;
   return {

@@ -1,8 +1,9 @@
 /**
  * The page's runs split over a pool of workers (src/ui/engine/splitRun.ts) give byte-identical
  * results to one worker: the per-ion fingerprint (flight times and fates, document.body.dataset.lastRunDigest)
- * and the results table, for one exact demo (closed form: kept on one worker of the pool) and one
- * rising-pulse demo (split over the pool's workers); and a quick second change drops
+ * and the results table, for one exact demo (closed form: kept on one worker of the pool), one
+ * rising-pulse demo and the gridless solved-mirror demo (split over the pool's workers, the mirror's
+ * transfer map fitted on one and restored on the other); and a quick second change drops
  * the result of the run still in flight, so only the newest change is drawn.
  */
 import { readFileSync } from 'node:fs';
@@ -23,6 +24,8 @@ const pulse = demo('demo-linear-delayed.json', (d) => {
   d.name = 'Pool test: exponential rise';
   d.source.extraction.rise = { shape: 'exponential', timeConstant_ns: 12 };
 });
+// A solved mirror: one worker fits the transfer map, the other restores it (src/simulation/runChunks.ts).
+const gridless = demo('demo-gridless-mirror.json', (d) => (d.name = 'Pool test: gridless mirror'));
 
 async function open(workers: number): Promise<Page> {
   const page = await (await app.browser.newContext({ viewport: { width: 1440, height: 900 } })).newPage();
@@ -53,14 +56,18 @@ async function results(page: Page): Promise<{ digest: string; rows: string[] }> 
 }
 
 describe('runs split over the worker pool', () => {
-  it('give the one-worker results byte for byte (exact and rising-pulse demos)', async () => {
+  it('give the one-worker results byte for byte (exact, rising-pulse and solved-mirror demos)', async () => {
     const one = await open(1);
     const two = await open(2);
-    for (const preset of [exact, pulse]) {
+    for (const [preset, delay] of [
+      [exact, '190'],
+      [pulse, '190'],
+      [gridless, '1850'],
+    ] as const) {
       const seen = [];
       for (const page of [one, two]) {
         await load(page, preset);
-        await setDelay(page, '190');
+        await setDelay(page, delay);
         seen.push(await results(page));
       }
       expect(seen[0].digest).toMatch(/^[0-9a-f]{8}-[0-9a-f]{8}$/);

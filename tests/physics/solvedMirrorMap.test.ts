@@ -14,7 +14,7 @@ import { Fate } from '../../src/physics/fates';
 import { createIonState, startIonState } from '../../src/physics/regions/contract';
 import { createFlight } from '../../src/physics/regions/driver';
 import { tracedMirrorPass } from '../../src/physics/regions/solvedKernels';
-import { TIME_TOL_RMS } from '../../src/physics/solvedMirrorMap';
+import { STRIKE_CHECKS_MIN, TIME_TOL_RMS } from '../../src/physics/solvedMirrorMap';
 import { traceMixed } from '../../src/physics/tracer';
 import { allocateTraceResult } from '../../src/ions/ensemble';
 import { samplePopulation } from '../../src/ions/population';
@@ -84,10 +84,25 @@ describe('transfer map of the gridless demo mirror', () => {
       expect(s.mapped).toBeGreaterThan(0.5 * 3000);
       expect(s.traced).toBeGreaterThan(0); // training rays and ions outside the domain
       expect(s.validationTimeRms!).toBeLessThanOrEqual(TIME_TOL_RMS);
+      expect(s.struckByMap).toBeLessThanOrEqual(s.mapped);
+      if (s.struckByMap > 0) expect(s.strikeChecks).toBeGreaterThanOrEqual(STRIKE_CHECKS_MIN);
     }
     expect(report.mapped + report.traced).toBe(ens.count);
     const direct = allocateTraceResult(ens.count);
     expect(traceMixed({ ...compiled.model, mapSolvedMirror: false }, ens, direct)).toBeNull();
+    // Every ion keeps the fate of the direct trace; the ions the strike pre-test took as struck on
+    // the entrance electrode (the heavier species' wide-angle ions) did strike in the direct trace,
+    // at about the same time (the pre-test's time is the map's, less a straight path back).
+    expect(report.struckByMap).toBeGreaterThan(0);
+    expect(report.struckByMap).toBe(report.species.reduce((n, s) => n + s.struckByMap, 0));
+    let struckDirect = 0;
+    for (let i = 0; i < ens.count; i++) {
+      expect(mapped.fate[i]).toBe(direct.fate[i]);
+      if (direct.fate[i] !== Fate.STRUCK_ELECTRODE) continue;
+      struckDirect++;
+      expect(Math.abs(mapped.flightTime_s[i] - direct.flightTime_s[i])).toBeLessThan(1e-3 * direct.flightTime_s[i]);
+    }
+    expect(report.struckByMap).toBeLessThan(struckDirect); // those near the margin are traced
     // Every 10th ion against a FINE trace of its mirror crossing (rtol 1e-9), the rest of the flight as in the run.
     let mirrorTime = 0;
     const fine = createFlight(compiled.model, { engine: 'mixed', mirrorMap: tracedMirrorPass(mirror, SolvedPrecision.FINE, (inside_s) => (mirrorTime = inside_s)) });

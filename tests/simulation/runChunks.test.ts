@@ -11,7 +11,11 @@ import { hasSolvedRegion } from '../../src/physics/analyser';
 import { compilePreset } from '../../src/presets/compile';
 import { parsePresetText } from '../../src/presets/load';
 import type { Preset } from '../../src/presets/schema';
-import { chunkBounds, chunkCount, concatChunks, MIN_CHUNK_IONS, splitsOverWorkers, traceRunChunk, traceTransferables, type SplitRunTasks, type TraceChunk } from '../../src/simulation/runChunks';
+import { allocateTraceResult } from '../../src/ions/ensemble';
+import { samplePopulation } from '../../src/ions/population';
+import { traceEnsemble } from '../../src/physics/regions/driver';
+import { SNAPSHOT_STRIDE, SolvedMirrorMapper } from '../../src/physics/solvedMirrorMap';
+import { chunkBounds, chunkCount, concatChunks, fitRunMap, hasSolvedMirror, mapFitTransferables, mergeMapFits, MIN_CHUNK_IONS, splitsOverWorkers, traceRunChunk, traceTransferables, type SplitRunTasks, type TraceChunk } from '../../src/simulation/runChunks';
 import type { RunOutput, RunRequest } from '../../src/simulation/runContract';
 import { runOutputTransferables, runRequest } from '../../src/simulation/runOutput';
 import { shouldSplit, splitRun, type SplitRunLane } from '../../src/ui/engine/splitRun';
@@ -26,6 +30,7 @@ function demo(file: string, edit?: (doc: Record<string, any>) => void): Preset {
 }
 
 const exact = demo('demo-linear-delayed.json');
+const gridless = demo('demo-gridless-mirror.json');
 const pulse = demo('demo-linear-delayed.json', (d) => {
   d.source.extraction.rise = { shape: 'exponential', timeConstant_ns: 12 };
 });
@@ -80,23 +85,33 @@ describe('joining chunks', () => {
 });
 
 describe('which runs are split', () => {
-  it('the preset test agrees with the compiled model for every shipped demo (solved fields are not split)', () => {
+  it('the preset tests agree with the compiled model for every shipped demo (solved sources are not split, solved mirrors are)', () => {
     const files = readdirSync(PRESETS).filter((f) => f.startsWith('demo-') && f.endsWith('.json'));
     expect(files.length).toBeGreaterThan(4);
-    let solved = 0;
+    let solvedSources = 0;
+    let solvedMirrors = 0;
     for (const file of files) {
       const p = demo(file);
-      const has = hasSolvedRegion(compilePreset(p).model);
-      if (has) solved++;
-      expect(splitsOverWorkers(p), file).toBe(!has);
+      const model = compilePreset(p).model;
+      const source = model.source.solved !== undefined && model.source.solved !== null;
+      const mirror = model.mirror?.solved !== undefined;
+      if (source) solvedSources++;
+      if (mirror) solvedMirrors++;
+      expect(splitsOverWorkers(p), file).toBe(!source);
+      expect(hasSolvedMirror(p), file).toBe(mirror);
+      expect(hasSolvedRegion(model), file).toBe(source || mirror);
     }
-    expect(solved).toBeGreaterThan(0);
+    expect(solvedSources).toBeGreaterThan(0);
+    expect(solvedMirrors).toBeGreaterThan(0);
   });
 
-  it('a chunk of a solved-field run is refused; such a run is not split', () => {
+  it('a chunk of a solved-source run is refused; a chunk through a mapped solved mirror needs the shared map', () => {
+    const aperture = demo('demo-aperture-source.json');
+    expect(() => traceRunChunk({ preset: aperture, ions: 3000 }, 0, 1500)).toThrow(/solved source/);
+    expect(shouldSplit({ preset: aperture, ions: 20_000 }, 2)).toBe(false);
     const gridless = demo('demo-gridless-mirror.json');
-    expect(() => traceRunChunk({ preset: gridless, ions: 3000 }, 0, 1500)).toThrow(/solved field/);
-    expect(shouldSplit({ preset: gridless, ions: 20_000 }, 2)).toBe(false);
+    expect(() => traceRunChunk({ preset: gridless, ions: 3000 }, 0, 1500)).toThrow(/transfer map/);
+    expect(shouldSplit({ preset: gridless, ions: 20_000 }, 2)).toBe(true);
     // Closed-form runs spend little of the run tracing: not split; integrator-traced runs are.
     expect(shouldSplit({ preset: exact, ions: 20_000 }, 2)).toBe(false);
     expect(shouldSplit({ preset: pulse, ions: 20_000 }, 2)).toBe(true);
@@ -105,15 +120,23 @@ describe('which runs are split', () => {
 });
 
 const inProcess: SplitRunTasks = {
-  traceRunChunk: (request, from, to) => traceRunChunk(request, from, to),
-  finishRun: (request, traced) => runRequest(request, undefined, traced),
+  traceRunChunk: (request, from, to, map) => traceRunChunk(request, from, to, map),
+  fitRunMap: (request, part, parts) => fitRunMap(request, part, parts),
+  finishRun: (request, traced, mirrorMap) => runRequest(request, undefined, traced, mirrorMap),
 };
-const lanes = (n: number): SplitRunLane[] => Array.from({ length: n }, () => ({ traceRunChunk: async (r, a, b) => inProcess.traceRunChunk(r, a, b), finishRun: async (r, t) => inProcess.finishRun(r, t) }));
+const lanes = (n: number): SplitRunLane[] =>
+  Array.from({ length: n }, () => ({
+    traceRunChunk: async (r, a, b, m) => inProcess.traceRunChunk(r, a, b, m),
+    fitRunMap: async (r, p, n) => inProcess.fitRunMap(r, p, n),
+    finishRun: async (r, t, m) => inProcess.finishRun(r, t, m),
+  }));
 
 describe('a split run equals the unsplit run bit for bit', () => {
   const cases: Array<[string, RunRequest]> = [
     ['exact (linear delayed extraction demo)', { preset: exact, ions: 9_001, seed: 11, scene: {} }],
     ['rising pulse (same demo, exponential repeller rise)', { preset: pulse, ions: 6_000, seed: 12 }],
+    // One worker fits the solved mirror's transfer map, the others restore it from its snapshot.
+    ['solved mirror (gridless demo, transfer map fitted once and shared)', { preset: gridless, ions: 6_000, seed: 13 }],
   ];
   for (const [name, request] of cases) {
     it(name, async () => {
@@ -125,17 +148,72 @@ describe('a split run equals the unsplit run bit for bit', () => {
     });
   }
 
+  it('solved mirror: the shared map is what makes the chunks agree (chunks fitting maps of their own differ)', async () => {
+    const request: RunRequest = { preset: gridless, ions: 6_000, seed: 13 };
+    const whole = runRequest(request);
+    const fit = fitRunMap(request)!;
+    expect(fit).not.toBeNull();
+    // The fitting worker traced each species' first ions only (training and validation), not the run.
+    const fittedIons = fit.fitted.reduce((n, c) => n + c.to - c.from, 0);
+    expect(fit.fitted).toHaveLength(2);
+    expect(fittedIons).toBeLessThan(0.5 * 6_000);
+    expect(fit.snapshot.values.length).toBe(2 * SNAPSHOT_STRIDE);
+    // Two workers fitting one species each give the same fit, joined (and a third, with no species, adds nothing).
+    const parts = [0, 1, 2].map((k) => fitRunMap(request, k, 3)!);
+    expect(parts[2].fitted).toHaveLength(0);
+    expect(parts[0].fitted).toHaveLength(1);
+    const joinedFit = mergeMapFits(parts);
+    expect(bits(joinedFit.snapshot.values)).toBe(bits(fit.snapshot.values));
+    expect(joinedFit.report).toEqual(fit.report);
+    expect(joinedFit.fitted.map((c) => [c.from, c.to, bits(c.flightTime_s)])).toEqual(fit.fitted.map((c) => [c.from, c.to, bits(c.flightTime_s)]));
+    // The split run's report counts every ion once, mapped or traced, as the unsplit run's does.
+    const split = await splitRun(lanes(3), request);
+    const map = split.report.solvedMirrorMap!;
+    expect(map).toEqual(whole.report.solvedMirrorMap);
+    expect(map.mapped + map.traced).toBe(6_000);
+    // Control: the same chunks, each fitting its own map from its own first ions, do not give the unsplit numbers.
+    const bounds = chunkBounds(6_000, 3);
+    const own = bounds.slice(1).map((to, k) => {
+      const compiled = compilePreset(gridless);
+      const ens = samplePopulation({ ...compiled.population, totalIons: 6_000, seed: 13 });
+      const t = allocateTraceResult(ens.count);
+      traceEnsemble(compiled.model, ens, t, { from: bounds[k], to });
+      return t.flightTime_s.slice(bounds[k], to);
+    });
+    const joined = new Float64Array(6_000);
+    own.forEach((f, k) => joined.set(f, bounds[k]));
+    let moved = 0;
+    for (let i = 0; i < 6_000; i++) if (joined[i] !== whole.flightTime_s[i]) moved++;
+    expect(moved).toBeGreaterThan(100);
+    expect(bits(split.flightTime_s)).toBe(bits(whole.flightTime_s));
+  });
+
+  it('a restored map refuses a species it was not given', () => {
+    const compiled = compilePreset(gridless);
+    const fit = fitRunMap({ preset: gridless, ions: 6_000, seed: 13 })!;
+    const oneSpecies = { values: fit.snapshot.values.slice(0, SNAPSHOT_STRIDE), species: fit.snapshot.species.slice(0, 1) };
+    const mapper = SolvedMirrorMapper.restore(compiled.model.mirror!.solved!, oneSpecies);
+    const ens = samplePopulation({ ...compiled.population, totalIons: 6_000, seed: 13 });
+    const t = allocateTraceResult(ens.count);
+    expect(() => traceEnsemble(compiled.model, ens, t, { from: ens.speciesStart[1], to: ens.speciesStart[1] + 10, mirrorMap: mapper })).toThrow(/no species of q\/m/);
+    expect(() => SolvedMirrorMapper.restore(compiled.model.mirror!.solved!, { values: fit.snapshot.values.slice(1), species: fit.snapshot.species })).toThrow(/needs/);
+  });
+
   const ports: MessagePort[] = [];
   afterAll(() => ports.forEach((p) => p.close()));
 
   it('over MessageChannel ports, the trace buffers transferred both ways', async () => {
     const transferred: SplitRunTasks = {
-      traceRunChunk: (r, a, b) => {
-        const c = traceRunChunk(r, a, b);
+      traceRunChunk: (r, a, b, m) => {
+        const c = traceRunChunk(r, a, b, m);
         return Comlink.transfer(c, traceTransferables(c));
       },
-      finishRun: (r, t) => {
-        const out = runRequest(r, undefined, t);
+      fitRunMap: (r, p, n) => {
+        const fit = fitRunMap(r, p, n);
+        return fit && Comlink.transfer(fit, mapFitTransferables(fit));
+      },
+      finishRun: (r, t, m) => {
+        const out = runRequest(r, undefined, t, m);
         return Comlink.transfer(out, runOutputTransferables(out));
       },
     };
@@ -145,10 +223,12 @@ describe('a split run equals the unsplit run bit for bit', () => {
       Comlink.expose(transferred, port1 as unknown as Endpoint);
       return Comlink.wrap<SplitRunTasks>(port2 as unknown as Endpoint) as unknown as SplitRunLane;
     });
-    const request: RunRequest = { preset: exact, ions: 5_000, seed: 3 };
-    const whole = runRequest(request);
-    const split = await splitRun(remote, request);
-    expect(bits(split.flightTime_s)).toBe(bits(whole.flightTime_s));
-    expect(withoutClock(split)).toEqual(withoutClock(whole));
+    // The exact demo, and the gridless demo with its fitted map's snapshot transferred to the other lane.
+    for (const request of [{ preset: exact, ions: 5_000, seed: 3 }, { preset: gridless, ions: 4_000, seed: 4 }] as RunRequest[]) {
+      const whole = runRequest(request);
+      const split = await splitRun(remote, request);
+      expect(bits(split.flightTime_s)).toBe(bits(whole.flightTime_s));
+      expect(withoutClock(split)).toEqual(withoutClock(whole));
+    }
   });
 });

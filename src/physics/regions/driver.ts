@@ -48,8 +48,13 @@ export interface FlightChoice extends FlightOptions {
 /** The run's transfer map of a solved mirror (tracing on the run's tracer where it does not hold), or null to trace every ion directly. */
 function transferMapFor(model: AnalyserModel, ions: number | undefined, allowed: boolean, tracer: SolvedFieldTracer): SolvedMirrorMapper | null {
   const solved = model.mirror?.solved;
-  if (!allowed || !solved || model.forceIntegrator || model.mapSolvedMirror === false || ions === undefined || ions < MAP_MIN_IONS) return null;
-  return new SolvedMirrorMapper(solved, ions, tracer);
+  if (!allowed || !solved || !usesTransferMap(model, ions)) return null;
+  return new SolvedMirrorMapper(solved, tracer);
+}
+
+/** True when a run of `ions` ions through `model` crosses its solved mirror by a transfer map (a run split over workers must then share one map). */
+export function usesTransferMap(model: AnalyserModel, ions: number | undefined): boolean {
+  return model.mirror?.solved !== undefined && !model.forceIntegrator && model.mapSolvedMirror !== false && ions !== undefined && ions >= MAP_MIN_IONS;
 }
 
 /** One kernel per section present in the model. */

@@ -6,15 +6,31 @@
  * DOM-free, so Node tests drive it over MessageChannel ports.
  */
 import * as Comlink from 'comlink';
-import { chunkBounds, chunkCount, concatChunks, splitsOverWorkers, traceTransferables, type TraceChunk } from '../../simulation/runChunkPlan';
+import {
+  chunkBounds,
+  chunkCount,
+  concatChunks,
+  hasSolvedMirror,
+  mapShare,
+  mergeMapFits,
+  mergeMirrorMapReports,
+  overlayFitted,
+  splitsOverWorkers,
+  traceTransferables,
+  type RunMapFit,
+  type RunMapShare,
+  type TraceChunk,
+} from '../../simulation/runChunkPlan';
+import type { MirrorMapReport } from '../../physics/solvedMirrorMap';
 import type { RunOutput, RunRequest } from '../../simulation/runContract';
 import type { TraceResult } from '../../ions/ensemble';
 import type { Preset } from '../../presets/schema';
 
 /** One worker as the split run calls it. */
 export interface SplitRunLane {
-  traceRunChunk(request: RunRequest, from: number, to: number): Promise<TraceChunk>;
-  finishRun(request: RunRequest, traced: TraceResult): Promise<RunOutput>;
+  traceRunChunk(request: RunRequest, from: number, to: number, map?: RunMapShare): Promise<TraceChunk>;
+  fitRunMap(request: RunRequest, part?: number, parts?: number): Promise<RunMapFit | null>;
+  finishRun(request: RunRequest, traced: TraceResult, mirrorMap?: MirrorMapReport): Promise<RunOutput>;
 }
 
 /** The ions of a run: the request's override or the preset's count. */
@@ -24,14 +40,15 @@ export function runIons(request: RunRequest): number {
 
 /**
  * True when tracing is most of the run: the integrator traces it (a rising pulse edge, or the
- * integrator asked for). Closed-form runs trace 2·10^4 ions in about 3 ms of a 40 ms run (Node
+ * integrator asked for), or a solved mirror is crossed (tracing ~0.5 s of 2·10^4 ions even with
+ * the transfer map). Closed-form runs trace 2·10^4 ions in about 3 ms of a 40 ms run (Node
  * profile; the simulated digitizer's spectrum is most of the rest, and it is built once, after the
  * join), so splitting them would only add a second sampling and a round trip.
  */
 export function tracingDominates(preset: Preset): boolean {
   const extraction = preset.source.extraction;
   const rising = extraction.mode === 'delayed' && extraction.rise !== undefined && extraction.rise.shape !== 'step';
-  return rising || preset.run.engine === 'integrator';
+  return rising || preset.run.engine === 'integrator' || hasSolvedMirror(preset);
 }
 
 /** True when the run is worth splitting over `workers` workers (and may be split at all). */
@@ -41,14 +58,25 @@ export function shouldSplit(request: RunRequest, workers: number): boolean {
 
 /**
  * The run over `lanes` (calls passed through `guard`, which drops stale results); elapsed_ms
- * becomes the whole split run's wall time, chunks and finishing included.
+ * becomes the whole split run's wall time, chunks and finishing included. Through a solved mirror
+ * the lanes first fit the transfer map (each its share of the species, on their first ions in
+ * order), and every lane's chunk crosses by those maps (src/simulation/runChunks.ts).
  */
 export async function splitRun(lanes: readonly SplitRunLane[], request: RunRequest, guard: <V>(call: () => Promise<V>) => Promise<V> = (c) => c(), now: () => number = () => performance.now()): Promise<RunOutput> {
   const start = now();
   const ions = runIons(request);
   const bounds = chunkBounds(ions, chunkCount(ions, lanes.length));
-  const chunks = await Promise.all(bounds.slice(1).map((to, k) => guard(() => lanes[k].traceRunChunk(request, bounds[k], to))));
+  // Each lane fits the maps of its share of the species (they are independent), then all trace their chunks by all of them.
+  const fits = hasSolvedMirror(request.preset) ? await Promise.all(lanes.map((lane, k) => guard(() => lane.fitRunMap(request, k, lanes.length)))) : [];
+  const fit = fits.length > 0 && fits.every((f) => f !== null) ? mergeMapFits(fits as RunMapFit[]) : null;
+  const share = fit ? mapShare(fit) : undefined;
+  const chunks = await Promise.all(bounds.slice(1).map((to, k) => guard(() => lanes[k].traceRunChunk(request, bounds[k], to, share))));
   const trace = concatChunks(ions, chunks);
-  const output = await guard(() => lanes[0].finishRun(request, Comlink.transfer(trace, traceTransferables(trace))));
+  if (fit) overlayFitted(trace, fit.fitted);
+  const mirrorMap = fit ? mergeMirrorMapReports(fit.report, chunks.map((c) => c.mirrorMap ?? noChunkReport)) : undefined;
+  const output = await guard(() => lanes[0].finishRun(request, Comlink.transfer(trace, traceTransferables(trace)), mirrorMap));
   return { ...output, elapsed_ms: now() - start };
 }
+
+/** A chunk that had none of its own ions to cross the mirror by the map (all fitted elsewhere). */
+const noChunkReport: MirrorMapReport = { mapped: 0, traced: 0, struckByMap: 0, note: '', species: [] };
