@@ -42,12 +42,13 @@ export class RunRenderer {
     const report = output.report;
     const colours = speciesColours(report.species.map((s) => s.mz));
     const view = buildRunView(output, colours, job.preset.acquisition?.sampleInterval_ns ?? null);
+    // The chart first: it reads its host's width, which after the tables' changes would force a layout.
+    this.spectrum.setRun(view.spectrum);
+    this.refreshZoomChoices([...view.spectrum.labels]); // species, then fragment series
     renderPeakTable(this.resultsTable, view.rows, view.calibrationNote, view.calibrationFreedom);
     renderFates(byId('fate-list'), report.fates, report.ions);
     renderFragmentTable(byId('fragment-results'), report);
     byId('run-summary').textContent = runSummary(report, output.elapsed_ms) + (job.kind === 'live' ? ' (quick preview)' : '');
-    this.spectrum.setRun(view.spectrum);
-    this.refreshZoomChoices([...view.spectrum.labels]); // species, then fragment series
 
     const scene = output.scene;
     if (this.scene && scene) {
