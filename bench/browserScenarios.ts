@@ -47,13 +47,17 @@ export async function loadScenario(page: Page, preset: Record<string, unknown>):
   await waitDone(page, 300_000);
 }
 
-/** Type one value into the scenario's control, confirm it, wait for the charts: [latency, engine] ms as the app recorded them. */
-export async function changeOnce(page: Page, s: Scenario, value: string): Promise<[number, number]> {
+/**
+ * Type one value into the scenario's control, confirm it, wait for the charts and the next frame:
+ * [latency to updated charts, engine, latency to the next frame's callbacks] ms as the app recorded them.
+ */
+export async function changeOnce(page: Page, s: Scenario, value: string): Promise<[number, number, number]> {
   const input = page.locator('.lil-controller:visible', { has: page.locator('.lil-name', { hasText: s.control }) }).locator('input').first();
   await input.fill(value);
   await input.press('Enter');
   await waitDone(page, 300_000);
-  return page.evaluate(() => [Number(document.body.dataset.lastUpdateMs), Number(document.body.dataset.lastEngineMs)] as [number, number]);
+  await page.waitForFunction(() => document.body.dataset.lastFrameSeq === document.body.dataset.lastRenderSeq, undefined, { timeout: 60_000 });
+  return page.evaluate(() => [Number(document.body.dataset.lastUpdateMs), Number(document.body.dataset.lastEngineMs), Number(document.body.dataset.lastFrameMs)] as [number, number, number]);
 }
 
 export const median = (xs: number[]): number => {

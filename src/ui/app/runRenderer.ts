@@ -26,6 +26,7 @@ export interface ShownRun {
 
 export class RunRenderer {
   shown: ShownRun | null = null;
+  private finalRunsShown = 0;
   private readonly drawn = createDrawnIons();
   private readonly resultsTable = byId<HTMLTableElement>('results-table');
   private readonly legend = byId('scene-legend');
@@ -75,6 +76,13 @@ export class RunRenderer {
       document.body.dataset.lastRenderMs = (performance.now() - renderStart).toFixed(1);
       // Per-ion result fingerprint: the browser tests compare a pooled run with a one-worker run by it.
       document.body.dataset.lastRunDigest = `${bytesDigest(output.flightTime_s)}-${bytesDigest(output.fate)}`;
+      // And the latency to the next frame's callbacks, after the 3D view's (requested above) has drawn.
+      const shownRun = String(++this.finalRunsShown);
+      document.body.dataset.lastRenderSeq = shownRun;
+      requestAnimationFrame(() => {
+        document.body.dataset.lastFrameMs = (performance.now() - job.requestedAt).toFixed(1);
+        document.body.dataset.lastFrameSeq = shownRun;
+      });
     }
     this.statusLine.textContent = `${formatCount(job.ions)} ions · engine ${output.elapsed_ms.toFixed(0)} ms · shown ${latency.toFixed(0)} ms after the change`;
   }
