@@ -115,7 +115,8 @@ function changeWindows(events: readonly TraceEvent[], threadName: Map<string, st
   const windows: ChangeWindow[] = [];
   keys.forEach((key, k) => {
     const next = keys[k + 1]?.ts ?? Infinity;
-    const jobs = worker.filter((e) => e.ts >= key.ts && e.ts < next);
+    // The run's tasks (a split run has several); short messages (progress, pool bookkeeping) are not the run.
+    const jobs = worker.filter((e) => e.ts >= key.ts && e.ts < next && (e.dur ?? 0) >= 2000);
     if (jobs.length === 0) return;
     const engineFrom = Math.min(...jobs.map((e) => e.ts));
     const engineTo = Math.max(...jobs.map(end));
