@@ -120,7 +120,8 @@ function changeWindows(events: readonly TraceEvent[], threadName: Map<string, st
     if (jobs.length === 0) return;
     const engineFrom = Math.min(...jobs.map((e) => e.ts));
     const engineTo = Math.max(...jobs.map(end));
-    const handler = main.filter((e) => e.name === 'HandlePostMessage' && e.ts >= engineTo && e.ts < next).sort((a, b) => (b.dur ?? 0) - (a.dur ?? 0))[0];
+    // The page may start on the result a little before the worker's task is closed (the post is its last act).
+    const handler = main.filter((e) => e.name === 'HandlePostMessage' && e.ts >= engineTo - 2000 && e.ts < next).sort((a, b) => (b.dur ?? 0) - (a.dur ?? 0))[0];
     if (!handler) return;
     const frame = main.find((e) => (e.name === 'Commit' || e.name === 'Paint') && e.ts >= end(handler));
     const to = frame ? end(frame) : end(handler);
@@ -131,7 +132,7 @@ function changeWindows(events: readonly TraceEvent[], threadName: Map<string, st
         'key handler (edit, validate, autosave, request)': (end(key) - key.ts) / 1000,
         'engine start after the key': (engineFrom - key.ts) / 1000,
         'engine (worker tasks, first to last)': (engineTo - engineFrom) / 1000,
-        'result waiting on the page': (handler.ts - engineTo) / 1000,
+        'result waiting on the page': Math.max(0, handler.ts - engineTo) / 1000,
         'result handler on the page (unpack, render)': (handler.dur ?? 0) / 1000,
         'to the frame committed after it': (to - end(handler)) / 1000,
         'total, key to frame': (to - key.ts) / 1000,
