@@ -4,13 +4,18 @@
  * plus the two steps of a run split over the pool (src/simulation/runChunks.ts): trace a chunk of
  * the run's ions, and finish a run on a concatenated trace.
  * Run results (with the 3D view's scene when asked for) carry typed arrays; their buffers are transferred, not copied.
- * Imports nothing that touches the DOM.
+ * Keeps the last few sampled populations (src/ions/population.ts). Imports nothing that touches the DOM.
  */
 import * as Comlink from 'comlink';
 import { mapFitTransferables, traceTransferables, type SplitRunTasks } from '../src/simulation/runChunkPlan';
 import { fitRunMap, traceRunChunk } from '../src/simulation/runChunks';
 import { runOutputTransferables, runRequest } from '../src/simulation/runOutput';
 import { createWorkerApi } from '../src/tuning/workerApi';
+import { keepSampledPopulations } from '../src/ions/population';
+
+// Successive runs of the page mostly share their ions (a potential or a delay changed), and a run
+// split over the pool samples its population again to finish: reuse the last few.
+keepSampledPopulations(4);
 
 const api = createWorkerApi((request) => {
   const result = runRequest(request);

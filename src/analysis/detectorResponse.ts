@@ -124,6 +124,10 @@ for (let k = 0; k < CDF_POINTS; k++) {
   CDF_TABLE[k] = 0.5 * (1 + erfSeries(u / Math.SQRT2));
   PDF_TABLE[k] = Math.exp(-0.5 * u * u) / Math.sqrt(2 * Math.PI);
 }
+// For the deposition loop, standardNormalCdf written out: φ·step and ×128 for ÷step are exact
+// (powers of two), so it gives the same bits as the function.
+const PDF_STEP_TABLE = PDF_TABLE.map((p) => p * CDF_STEP);
+const CDF_PER_STEP = 1 / CDF_STEP;
 
 /**
  * Φ(u), the standard normal CDF, by cubic Hermite interpolation of a table of Φ and its exact
@@ -175,10 +179,24 @@ export function depositGaussianPulse(
   if (kLo < 0) kLo = 0;
   if (kHi > n - 1) kHi = n - 1;
   const inv = 1 / sd_s;
+  const cdf = CDF_TABLE;
+  const pdf = PDF_STEP_TABLE;
   let below = standardNormalCdf((recordStart_s + kLo * sampleInterval_s - centre_s) * inv);
   const first = below;
   for (let k = kLo; k <= kHi; k++) {
-    const above = standardNormalCdf((recordStart_s + (k + 1) * sampleInterval_s - centre_s) * inv);
+    const u = (recordStart_s + (k + 1) * sampleInterval_s - centre_s) * inv;
+    const a = u < 0 ? -u : u;
+    let above: number;
+    if (a >= PULSE_REACH_SD) above = u < 0 ? 0 : 1;
+    else {
+      const pos = a * CDF_PER_STEP;
+      const j = Math.floor(pos);
+      const s = pos - j;
+      const s2 = s * s;
+      const s3 = s2 * s;
+      const value = (2 * s3 - 3 * s2 + 1) * cdf[j] + (s3 - 2 * s2 + s) * pdf[j] + (-2 * s3 + 3 * s2) * cdf[j + 1] + (s3 - s2) * pdf[j + 1];
+      above = u < 0 ? 1 - value : value;
+    }
     samples[k] += area * (above - below);
     below = above;
   }

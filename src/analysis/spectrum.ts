@@ -10,10 +10,10 @@
 import { Fate } from '../physics/fates';
 import { mzFromTime, type CalibrationCoefficients } from './calibration';
 import {
-  applyTriggerJitter,
   checkDetectorSettings,
   depositGaussianPulse,
   effectivePulseSd_s,
+  triggerOffsets_s,
   type DetectorSettings,
   type SettingIssue,
 } from './detectorResponse';
@@ -112,8 +112,10 @@ export function buildSpectrum(input: SpectrumInput, settings: AcquisitionSetting
   const time_s = new Float64Array(count);
   for (let k = 0; k < count; k++) time_s[k] = start + (k + 0.5) * dt;
 
-  // Shots cover the whole ensemble so an ion's trigger offset does not depend on the range chosen.
-  const recorded = applyTriggerJitter(input.arrival_s, settings);
+  // Shots cover the whole ensemble so an ion's trigger offset does not depend on the range chosen:
+  // ion i is shifted by its shot's offset as applyTriggerJitter does, for the ions of the range only.
+  const offsets = triggerOffsets_s(settings);
+  const shots = settings.shots;
   const sd = effectivePulseSd_s(settings);
   const weight = input.weight;
   const end = start + count * dt;
@@ -124,7 +126,7 @@ export function buildSpectrum(input: SpectrumInput, settings: AcquisitionSetting
   let recordedIntensity = 0;
   for (let i = from; i < to; i++) {
     if (input.fate[i] !== Fate.DETECTED) continue;
-    const t = recorded[i] + offset;
+    const t = input.arrival_s[i] + offsets[i % shots] + offset;
     const w = weight ? weight[i] : 1;
     if (!Number.isFinite(t) || !Number.isFinite(w)) throw new RangeError(`ion ${i}: arrival time or weight is not finite`);
     detectedIons++;

@@ -70,7 +70,38 @@ export function allocateCounts(abundances: readonly number[], total: number): nu
   return counts;
 }
 
+/**
+ * The last few populations sampled, when keepSampledPopulations turned it on (the engine worker
+ * does): the page's runs mostly change potentials or timing, not the ions, and a run split over
+ * workers samples the same population again to finish. An ensemble is read-only to every caller
+ * (tests/ions/populationCache.test.ts checks that a run leaves it as sampled), so handing out
+ * the same one gives the same numbers. Keyed by the whole spec, numbers written exactly.
+ */
+let kept: { key: string; ensemble: Ensemble }[] = [];
+let keepCount = 0;
+
+/** Keep the last `entries` sampled populations for reuse (0 turns it off and forgets them). */
+export function keepSampledPopulations(entries: number): void {
+  keepCount = Math.max(0, Math.floor(entries));
+  kept = kept.slice(0, keepCount);
+}
+
+function populationKey(spec: PopulationSpec): string {
+  // String(x) is exact for every double (and tells Infinity, -Infinity and NaN apart, which JSON does not).
+  return JSON.stringify(spec, (_key, value: unknown) => (typeof value === 'number' ? `n${String(value)}` : value));
+}
+
 export function samplePopulation(spec: PopulationSpec): Ensemble {
+  if (keepCount === 0) return drawPopulation(spec);
+  const key = populationKey(spec);
+  const at = kept.findIndex((e) => e.key === key);
+  const entry = at >= 0 ? kept.splice(at, 1)[0] : { key, ensemble: drawPopulation(spec) };
+  kept.unshift(entry);
+  kept.length = Math.min(kept.length, keepCount);
+  return entry.ensemble;
+}
+
+function drawPopulation(spec: PopulationSpec): Ensemble {
   const counts = allocateCounts(
     spec.species.map((s) => s.abundance),
     spec.totalIons,

@@ -305,7 +305,15 @@ function focusSection(preset: Preset, model: AnalyserModel, population: Populati
   const result = analyseFocus(flightTime, probe);
   if (!result.ok) return { error: result.reason };
   // Space-focus plane of the source alone: a linear drift of variable length behind the ground grid.
-  const linear = (drift_m: number): AnalyserModel => ({ ...model, drift: { ...model.drift, length_m: drift_m }, mirror: null, postAcceleration: null, detectorAperture: null });
+  // One model object per drift length: the five stencil ions of a slope then share one flight
+  // (traceSingleIon keeps the flight of the last model; building one costs more than the ion).
+  let linearModel: AnalyserModel | null = null;
+  const linear = (drift_m: number): AnalyserModel => {
+    if (linearModel === null || linearModel.drift.length_m !== drift_m) {
+      linearModel = { ...model, drift: { ...model.drift, length_m: drift_m }, mirror: null, postAcceleration: null, detectorAperture: null };
+    }
+    return linearModel;
+  };
   const plane = findSpaceFocusPlane(
     (z, D) => {
       const r = traceSingleIon(linear(D), species.mz, z, Math.sqrt((2 * U0) / mass_kg));

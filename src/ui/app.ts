@@ -75,13 +75,14 @@ export async function startApp(): Promise<void> {
       panel.showIssues([]);
       setup.preset = checked.value;
       compare.settingsChanged('valid');
+      // The run first, so that the worker starts while the page saves and refreshes the other views.
+      requestRun(phase);
       setup.refreshHeader();
       if (phase === 'final') {
         autosave();
         tuning.refresh();
         measured.refresh();
       }
-      requestRun(phase);
     },
   });
   const requestRun = (kind: EditPhase): void => runs.request(setup.preset, kind, panel.settings.liveIons);

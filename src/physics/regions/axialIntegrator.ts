@@ -153,12 +153,14 @@ const FORCE_LAWS = 3;
 
 export class AxialIntegrator {
   private readonly force = new RegionForce();
-  private readonly workspace = createWorkspace(DOP853, 2);
+  // Made on first use: a flight builds an integrator whether or not an ion needs one, and single-ion
+  // callers (the focus analysis) build many flights of all-closed-form models.
+  private workspaceMade: RungeKuttaWorkspace | null = null;
+  private probeMade: PlaneOnInterpolant | null = null;
   private readonly result = createResult(2, 4);
   private readonly precise = preciseOptions();
   private readonly pulse = pulseOptions();
   private options = this.precise;
-  private readonly planeProbe = new PlaneOnInterpolant(this.workspace);
   private readonly rootReport = createRootReport();
 
   /**
@@ -167,6 +169,14 @@ export class AxialIntegrator {
    * numbers do not depend on what the process traced before.
    */
   private readonly lastFirstStep = new Float64Array(FORCE_LAWS);
+
+  private get workspace(): RungeKuttaWorkspace {
+    return (this.workspaceMade ??= createWorkspace(DOP853, 2));
+  }
+
+  private get planeProbe(): PlaneOnInterpolant {
+    return (this.probeMade ??= new PlaneOnInterpolant(this.workspace));
+  }
 
   /** @param counters where the effort is summed (none when null) */
   constructor(public counters: TraceCounters | null = null) {}

@@ -275,8 +275,12 @@ export class AnalyserScene {
     const col = this.pathGeometry.getAttribute('color') as BufferAttribute;
     this.lanes = displayLanes(this.layout, ions.speciesCount);
     const n = this.lanes.spacing_mm > 0 ? this.fillLanes(ions, pos.array as Float32Array, col.array as Float32Array) : fillPaths(ions, this.layout, pos.array as Float32Array, col.array as Float32Array, MAX_PATH_VERTICES);
-    pos.needsUpdate = true;
-    col.needsUpdate = true;
+    // Upload only the vertices written (the buffers hold MAX_PATH_VERTICES; a run draws far fewer).
+    for (const attribute of [pos, col]) {
+      attribute.clearUpdateRanges();
+      attribute.addUpdateRange(0, 3 * n);
+      attribute.needsUpdate = true;
+    }
     this.pathGeometry.setDrawRange(0, n);
     this.packetGeometry.setDrawRange(0, ions.count);
     if (this.time_s > ions.endTime_s) this.time_s = ions.endTime_s;
