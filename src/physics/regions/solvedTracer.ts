@@ -208,17 +208,28 @@ export const solvedCounters: SolvedTraceCounters = {
   },
 };
 
+/** A tracer's integrator state: field sample, force, tolerances, Runge-Kutta workspace. */
+class TracerWork {
+  readonly sample = createFieldSample();
+  readonly context = new RegionForce(this.sample);
+  readonly options = precisionOptions();
+  readonly workspace = createWorkspace(DOPRI5, 6);
+  readonly result = createResult(6, 4);
+  readonly y0 = new Float64Array(6);
+}
+
 /** Traces ions through solved regions; owns its integrator state (one per driver call). */
 export class SolvedFieldTracer {
-  private readonly sample = createFieldSample();
-  private readonly context = new RegionForce(this.sample);
-  private readonly options = precisionOptions();
-  private readonly workspace = createWorkspace(DOPRI5, 6);
-  private readonly result = createResult(6, 4);
-  private readonly y0 = new Float64Array(6);
+  // Made on the first trace: every flight builds a tracer, and most (the focus analysis builds about
+  // 90 all-ideal flights per run) never trace, so they should allocate nothing.
+  private work: TracerWork | null = null;
 
   /** @param counters where the effort is summed (none when null) */
   constructor(public counters: TraceCounters | null = null) {}
+
+  private get state(): TracerWork {
+    return (this.work ??= new TracerWork());
+  }
 
   /**
    * The field is static, so v² + 2(q/m)φ is conserved along the path (energy conservation). The
@@ -227,7 +238,7 @@ export class SolvedFieldTracer {
    * makes the exit speed equal the entry speed exactly, as time reversal demands.
    */
   private restoreEnergy(ion: SolvedIonState, region: SolvedRegion, qOverM: number, energy0: number): void {
-    const sample = this.sample;
+    const sample = this.state.sample;
     sampleField(region.map, Math.sqrt(ion.x * ion.x + ion.y * ion.y), ion.z, sample);
     const speed2 = energy0 - 2 * qOverM * sample.potential_V;
     const now2 = ion.vx * ion.vx + ion.vy * ion.vy + ion.vz * ion.vz;
@@ -245,11 +256,12 @@ export class SolvedFieldTracer {
    * Fate.STRUCK_ELECTRODE or Fate.INTEGRATION_FAILED.
    */
   trace(ion: SolvedIonState, region: SolvedRegion, qOverM: number, tLimit_s: number, precision: number = SolvedPrecision.NORMAL): RegionExit {
-    const options = this.options[precision];
-    const context = this.context;
-    const sample = this.sample;
-    const result = this.result;
-    const y0 = this.y0;
+    const work = this.state;
+    const options = work.options[precision];
+    const context = work.context;
+    const sample = work.sample;
+    const result = work.result;
+    const y0 = work.y0;
     context.map = region.map;
     context.region = region;
     context.qOverM = qOverM;
@@ -283,7 +295,7 @@ export class SolvedFieldTracer {
       y0[5] = ion.vz;
       options.maxStep = Infinity; // the force caps each step (stepCapAt) once the ion is outside the corridor
       options.firstStep = Math.min(firstStep, tLimit_s - ion.t);
-      solveSpace(this.workspace, context, ion.t, y0, tLimit_s, context.entryZ_m, context.farZ_m, options, result);
+      solveSpace(work.workspace, context, ion.t, y0, tLimit_s, context.entryZ_m, context.farZ_m, options, result);
       const counters = this.counters;
       if (counters !== null) {
         counters.solvedSteps += result.steps;
