@@ -16,21 +16,32 @@
  * QR) in those variables normalised to the species' range.
  *
  * Designed rays, not the run's first ions: when a species begins, the driver hands the map the
- * species' start arrays; the map spans their whole range (axial speed and position from their
- * least to their largest value, the transverse invariants up to their largest) with DESIGN_PER_TERM
- * rays per fitted term on a Halton sequence (axial coordinates on cosine-spaced, Chebyshev-like
- * points, so the polynomial is pinned at the ends of the range), traced at FINE precision (rtol
- * 1e-9, ~50× closer to the reference trace than the normal one). So the domain is the population's
- * own and no tail of it is left to the tracer. Rays that strike, leave during the delay, or come
- * within APERTURE_MARGIN of an aperture edge (their straight exit line back to each apertured plate,
- * or their start) shrink the transverse domain until none is left in it; the ions outside are
- * traced directly, as are ions whose predicted path comes near an edge. The first VALIDATE_IONS
- * ions of the species inside the domain are traced at FINE precision (they keep those results) and
- * compared with the map; the map carries the rest only if the rms and largest errors of exit time,
- * exit energy, position and direction meet the limits below.
+ * species' start arrays; the map spans their range (axial speed and position from their least to
+ * their largest value; start offset and transverse speed up to TRANSVERSE_QUANTILE of the species,
+ * at most TRANSVERSE_RMS_SPAN times their rms, so that a few stray ions cannot stretch it) with
+ * DESIGN_PER_TERM rays per fitted term on a Halton sequence (axial coordinates on cosine-spaced,
+ * Chebyshev-like points, so the polynomial is pinned at the ends of the range), traced at FINE
+ * precision (rtol 1e-9, ~25× closer to the rtol-1e-12 reference than the normal trace on the demo).
+ * Rays that strike, leave during the delay, or come within APERTURE_MARGIN of an aperture edge (at
+ * the start, or on their straight exit line back to each apertured plate) shrink the transverse
+ * range, and the rays are designed again over what is left (at most DESIGN_PASSES times). The
+ * first VALIDATE_IONS ions of the species inside the domain are traced at FINE precision (they keep
+ * those results) and compared with the map; the map carries the rest only if the rms and largest
+ * errors of exit time, exit energy, position and direction meet the limits below. Ions outside the
+ * domain (transverse tails, other starts) and ions whose predicted path comes near an edge are
+ * traced directly at the normal precision; the report counts them by reason.
  *
- * Measured (bench/sourceTraceBench.ts, loaded machine) on the aperture-source demo at 2·10^4 ions:
- * see the README's benchmark paragraph and the figures in the commit that added this file.
+ * Measured (bench/sourceTraceBench.ts, 2·10^4 ions of the aperture-source demo, machine loaded by
+ * other work): 99.2 % mapped, 6.5·10^4–7.0·10^4 against 3.8·10^3–4.9·10^3 ions per CPU second for
+ * the direct trace in the same run (14–17×); flight-time error 2.7e-8 rms (largest 4.3e-7, from the traced tails) of the time inside the
+ * source against 1.35e-6 (4.0e-6) for the direct trace. Of the remaining time ~55 % is the designed
+ * rays, ~25 % validation, ~20 % the traced tails; evaluating the map is negligible. The direct
+ * trace spends more than half its ~450 field evaluations in the extraction delay.
+ * Where it does not hold: in a source with 0.4 mm aperture radii (tests/physics/solvedSourceMap.test.ts)
+ * the exit time bends sharply for starts below ~330 m/s (its second difference in vz0 changes
+ * 100-fold), which no polynomial of this order follows to 5e-7; validation then declines the map.
+ * Likewise wide beams (start offsets over ~half an aperture radius, transverse speeds of ~1 km/s on
+ * the demo) need higher transverse orders than the map has: declined, traced directly.
  */
 import { solveLeastSquaresMany } from '../fields/leastSquares';
 import type { Ensemble } from '../ions/ensemble';
@@ -56,7 +67,7 @@ export const DESIGN_PASSES = 3;
 export const SOURCE_MAP_MIN_IONS = 600;
 /**
  * Validation limits against FINE traces. Time: rms 5e-7 of the time inside the source (the direct
- * trace at its default tolerance is ~6e-6 off the rtol-1e-12 reference on the demo, mostly a bias
+ * trace at its default tolerance is 1e-6…6e-6 rms off the rtol-1e-12 reference on the demo, mostly a bias
  * built up in the delay), largest 2e-6. Exit energy per charge: 2e-8 relative rms (a drift of
  * length L then takes L/v·1e-8 longer or shorter: 0.2 ps on the demo's 1.2 m at ~20 µs, 2e-7 of
  * the ~1 µs inside the source, below the time limit). Exit position 1 µm rms, direction
