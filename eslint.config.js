@@ -3,7 +3,7 @@ import js from '@eslint/js';
 import tseslint from 'typescript-eslint';
 
 export default tseslint.config(
-  { ignores: ['dist/**', 'node_modules/**', 'coverage/**', 'bench/out/**', 'bench/.engine-figures.mjs'] },
+  { ignores: ['dist/**', 'node_modules/**', 'coverage/**', 'bench/out/**', 'bench/.engine-figures.mjs', 'bench/.source-trace.mjs'] },
   js.configs.recommended,
   ...tseslint.configs.recommended,
   {

@@ -33,7 +33,16 @@ async function engineFigures(): Promise<Record<string, number | string>> {
   return JSON.parse(out.trim().split('\n').pop() ?? '{}') as Record<string, number | string>;
 }
 
+/** The solved-source tracing figures (bench/sourceTraceBench.ts), as an esbuild bundle in a plain Node process like the engine figures. */
+async function sourceTraceFigures(): Promise<Record<string, number>> {
+  const bundle = new URL('./.source-trace.mjs', import.meta.url).pathname;
+  await build({ entryPoints: [new URL('./sourceTraceBench.ts', import.meta.url).pathname], bundle: true, platform: 'node', format: 'esm', outfile: bundle, logLevel: 'silent' });
+  const call = `const m = await import(${JSON.stringify(pathToFileURL(bundle).href)}); process.stdout.write(JSON.stringify(m.benchSourceTrace()) + '\\n');`;
+  const out = execFileSync(process.execPath, ['--input-type=module', '-e', call], { encoding: 'utf8', maxBuffer: 1 << 26 });
+  return JSON.parse(out.trim().split('\n').pop() ?? '{}') as Record<string, number>;
+}
+
 const json = process.argv.includes('--json');
-const figures: Record<string, number | string> = { ...(await engineFigures()), ...(await runTuningBench()), ...runMeasuredBench(), ...(await runToleranceBench()) };
+const figures: Record<string, number | string> = { ...(await engineFigures()), ...(await sourceTraceFigures()), ...(await runTuningBench()), ...runMeasuredBench(), ...(await runToleranceBench()) };
 if (json) process.stdout.write(JSON.stringify(figures) + '\n');
 else for (const [key, value] of Object.entries(figures)) process.stdout.write(`${key.padEnd(28)} ${value}\n`);

@@ -18,6 +18,7 @@ import { compareWithIdeal, formatIdealComparison } from './simulation/idealCompa
 import { isMeasuredCommand, MEASURED_USAGE, runMeasuredCommand } from './cli/measuredCommand';
 import { isToleranceCommand, runToleranceCommand, TOLERANCE_USAGE, type ToleranceCliOptions } from './cli/toleranceCommand';
 import { formatMirrorMap } from './physics/solvedMirrorMap';
+import { formatSourceMap } from './physics/solvedSourceMap';
 import { FRAGMENT_USAGE, formatFragmentTable, isSteppingCommand, runSteppingCommand } from './cli/fragmentCommand';
 import { applyIonLoadArgs, formatIonLoad, ION_LOAD_USAGE, takeIonLoadArg, type IonLoadArgs } from './cli/ionLoadArgs';
 
@@ -195,6 +196,7 @@ export function main(argv: readonly string[], io: CliIo = processIo, options: Tu
       ...(args.spectrum ? { spectrum: spectrumJson(result.analysis.spectrum) } : {}),
       ...(comparison ? { idealComparison: comparison } : {}),
       ...(result.report.solvedMirrorMap ? { solvedMirrorMap: result.report.solvedMirrorMap } : {}),
+      ...(result.report.solvedSourceMap ? { solvedSourceMap: result.report.solvedSourceMap } : {}),
       ...(result.ionLoad
         ? { ionLoad: { ionsPerShot: result.ionLoad.ionsPerShot, countLaw: result.ionLoad.countLaw, shots: result.ionLoad.shots }, detection: result.ionLoad.detection, spaceCharge: result.ionLoad.spaceCharge }
         : {}),
@@ -207,6 +209,7 @@ export function main(argv: readonly string[], io: CliIo = processIo, options: Tu
     io.out(formatTable(preset, result));
     if (result.fragments) io.out(formatFragmentTable(result.fragments.report));
     if (result.report.solvedMirrorMap) io.out(formatMirrorMap(result.report.solvedMirrorMap));
+    if (result.report.solvedSourceMap) io.out(formatSourceMap(result.report.solvedSourceMap));
     if (comparison) io.out(formatIdealComparison(comparison));
     if (result.ionLoad) io.out(formatIonLoad(result.ionLoad));
   }

@@ -103,6 +103,8 @@ export interface AnalyserModel {
   readonly integratePulse?: boolean;
   /** false: trace every ion through a solved mirror; otherwise the run's fitted transfer map carries the ions where it validates (src/physics/solvedMirrorMap.ts). */
   readonly mapSolvedMirror?: boolean;
+  /** false: trace every ion through a solved source; otherwise the run's transfer map carries the ions where it validates (src/physics/solvedSourceMap.ts). */
+  readonly mapSolvedSource?: boolean;
 }
 
 /** True when some region has no closed form and must be integrated. */

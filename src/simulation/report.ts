@@ -3,6 +3,7 @@
  * boundary (names carry the unit).
  */
 import type { MirrorMapReport } from '../physics/solvedMirrorMap';
+import type { SourceMapReport } from '../physics/solvedSourceMap';
 import { arrivalStats } from '../analysis/arrivalStats';
 import { countFates, Fate, type FateCounts } from '../physics/fates';
 import { sToNs } from '../physics/units';
@@ -98,6 +99,8 @@ export interface RunReport {
   readonly ionLoad?: IonLoadReport | null;
   /** How a solved mirror was crossed: ions carried by the run's transfer map, ions traced (src/physics/solvedMirrorMap.ts); absent without one. */
   readonly solvedMirrorMap?: MirrorMapReport;
+  /** How a solved source was crossed: ions carried by the run's transfer map, ions traced and why (src/physics/solvedSourceMap.ts); absent without one. */
+  readonly solvedSourceMap?: SourceMapReport;
 }
 
 /** The report with the measurement sections (spectrum peaks, calibration, focus) filled in. */

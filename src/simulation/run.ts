@@ -9,6 +9,7 @@ import { samplePopulation } from '../ions/population';
 import { applyDetectorPlane } from '../physics/exactEngine';
 import { traceEnsemble } from '../physics/regions/driver';
 import type { MirrorMapReport } from '../physics/solvedMirrorMap';
+import type { SourceMapReport } from '../physics/solvedSourceMap';
 import { attachAnalysis, buildReport, type RunReport } from './report';
 import { buildAnalysisSections, type AnalysisSections } from './analysisReport';
 import { ionLoadSections, traceIonLoad, type IonLoadReport } from './ionLoad';
@@ -61,9 +62,10 @@ export function simulate(preset: Preset, options: RunOptions = {}): SimulationRe
   const ensemble = samplePopulation(population);
   const trace = options.traced ?? allocateTraceResult(ensemble.count);
   // The closed form wherever the field allows it (over blocks of ions); ion by ion when some region needs integration.
-  const map: { report: MirrorMapReport | null } = { report: null };
-  if (!options.traced) traceEnsemble(compiled.model, ensemble, trace, { onMirrorMap: (r) => (map.report = r) });
+  const map: { report: MirrorMapReport | null; source: SourceMapReport | null } = { report: null, source: null };
+  if (!options.traced) traceEnsemble(compiled.model, ensemble, trace, { onMirrorMap: (r) => (map.report = r), onSourceMap: (r) => (map.source = r) });
   const mirrorMap = options.traced ? (options.mirrorMap ?? null) : map.report;
+  const sourceMap = map.source;
   applyDetectorPlane(compiled.model, ensemble, trace);
   // With space charge on, the ions are retraced shot by shot (the headline then includes it).
   const load = traceIonLoad(preset, compiled.model, ensemble, trace, population.seed);
@@ -84,7 +86,7 @@ export function simulate(preset: Preset, options: RunOptions = {}): SimulationRe
           { withSpectrum: options.withSpectrum, peaksOnly: options.analysis === 'peaks', ...(fragmentTrace ? { spectrumTrace: withProducts(trace, fragmentTrace) } : {}) },
         );
   const ionLoad = load && options.analysis !== false ? ionLoadSections(preset, compiled.model, ensemble, trace, load, population.seed) : null;
-  const analysed = { ...attachAnalysis(report, analysis), ...(ionLoad ? { ionLoad } : {}), ...(mirrorMap ? { solvedMirrorMap: mirrorMap } : {}) };
+  const analysed = { ...attachAnalysis(report, analysis), ...(ionLoad ? { ionLoad } : {}), ...(mirrorMap ? { solvedMirrorMap: mirrorMap } : {}), ...(sourceMap ? { solvedSourceMap: sourceMap } : {}) };
   const fragmentReport = fragmentModel && fragmentTrace ? buildFragmentReports(preset, fragmentModel, fragmentTrace, ensemble, analysed) : null;
   const withFragments = fragmentReport
     ? { ...analysed, species: analysed.species.map((s, k) => ({ ...s, ...withChannels(fragmentReport, k) })) }

@@ -1,7 +1,7 @@
 /**
  * Seeded runs of every shipped preset (and of model variants that reach the engine paths no shipped
  * preset uses: rising pulses of each shape, a polynomial mirror, the forced integrator, the
- * integrated pulse, the solved-mirror transfer map), reduced to digests of the traced arrays.
+ * integrated pulse, the solved-mirror and solved-source transfer maps), reduced to digests of the traced arrays.
  * tests/regression/presetGolden.test.ts compares them with the committed fixture bit for bit;
  * scripts/write-golden.ts rewrites the fixture, which is done only when a number is meant to change.
  */
@@ -234,6 +234,10 @@ export function goldenCases(): Record<string, () => CaseDigest> {
   cases['gridless mirror, transfer map'] = () => {
     const c = compileInput(JSON.parse(readFileSync(new URL('demo-gridless-mirror.json', PRESET_DIR), 'utf8')), 'gridless');
     return runModel({ ...c.model, mapSolvedMirror: true }, c.population, 1600, 20);
+  };
+  cases['aperture source, transfer map'] = () => {
+    const c = compileInput(JSON.parse(readFileSync(new URL('demo-aperture-source.json', PRESET_DIR), 'utf8')), 'aperture source');
+    return runModel(c.model, c.population, 2400, 21); // 600 ions per species: the source map's smallest run
   };
   return cases;
 }

@@ -11,6 +11,7 @@ import type { Ensemble, TraceResult } from '../../ions/ensemble';
 import { hasSolvedRegion, needsIntegrator, type AnalyserModel } from '../analyser';
 import { Exit, Fate, type FateCode } from '../fates';
 import { MAP_MIN_IONS, SolvedMirrorMapper, type MirrorMapReport } from '../solvedMirrorMap';
+import { SOURCE_MAP_MIN_IONS, SolvedSourceMapper, type SourceMapReport } from '../solvedSourceMap';
 import { AxialIntegrator } from './axialIntegrator';
 import { createBlockScratch, traceSpeciesBlocks } from './blockDriver';
 import {
@@ -32,7 +33,7 @@ import {
 import { chargeToMassIn, createFlightPlan, prepareFlightPlan, type FlightPlan } from './plan';
 import { ProfileMirrorKernel } from './profileMirror';
 import { NumericFieldFreeKernel, NumericPostGapKernel, NumericStageMirrorKernel } from './numericRegion';
-import { SolvedMirrorKernel, SolvedSourceKernel, type MirrorMap } from './solvedKernels';
+import { SolvedMirrorKernel, SolvedSourceKernel, type MirrorMap, type SourceMap } from './solvedKernels';
 import { SolvedFieldTracer } from './solvedTracer';
 import { FieldFreeKernel, PostGapKernel, PulsedSourceKernel, StageMirrorKernel, StaticSourceKernel } from './uniformStages';
 
@@ -43,6 +44,17 @@ export interface FlightChoice extends FlightOptions {
   readonly mirrorMap?: MirrorMap;
   /** Told, after an ensemble, how the run's transfer map crossed the solved mirror (ions mapped and traced, and why not). */
   readonly onMirrorMap?: (report: MirrorMapReport) => void;
+  /** A caller's own crossing of the solved source in place of the run's map (a reference trace in tests and benchmarks). */
+  readonly sourceMap?: SourceMap;
+  /** Told, after an ensemble, how the run's transfer map crossed the solved source (ions mapped and traced, and why). */
+  readonly onSourceMap?: (report: SourceMapReport) => void;
+}
+
+/** The run's transfer map of a solved source (src/physics/solvedSourceMap.ts), or null to trace every ion directly. */
+function sourceMapFor(model: AnalyserModel, ions: number | undefined, allowed: boolean, tracer: SolvedFieldTracer): SolvedSourceMapper | null {
+  const solved = model.source.solved;
+  if (!allowed || !solved || model.forceIntegrator || model.mapSolvedSource === false || ions === undefined || ions < SOURCE_MAP_MIN_IONS) return null;
+  return new SolvedSourceMapper(solved, tracer);
 }
 
 /** The run's transfer map of a solved mirror (tracing on the run's tracer where it does not hold), or null to trace every ion directly. */
@@ -58,12 +70,12 @@ export function usesTransferMap(model: AnalyserModel, ions: number | undefined):
 }
 
 /** One kernel per section present in the model. */
-function chooseKernels(model: AnalyserModel, integrator: AxialIntegrator, tracer: SolvedFieldTracer, map: MirrorMap | null): (RegionKernel | null)[] {
+function chooseKernels(model: AnalyserModel, integrator: AxialIntegrator, tracer: SolvedFieldTracer, map: MirrorMap | null, sourceMap: SourceMap | null = null): (RegionKernel | null)[] {
   const kernels: (RegionKernel | null)[] = new Array<RegionKernel | null>(SECTION_COUNT).fill(null);
   const forced = model.forceIntegrator;
   const tLimit = model.maxFlightTime_s;
   const src = model.source;
-  if (src.solved) kernels[Section.SOURCE] = new SolvedSourceKernel(src.solved, tLimit, tracer);
+  if (src.solved) kernels[Section.SOURCE] = new SolvedSourceKernel(src.solved, tLimit, tracer, sourceMap);
   else if (forced || src.rise.kind !== 'step') kernels[Section.SOURCE] = new PulsedSourceKernel(model, integrator);
   else kernels[Section.SOURCE] = new StaticSourceKernel();
   kernels[Section.DRIFT] = forced ? new NumericFieldFreeKernel(Section.DRIFT, integrator, tLimit) : new FieldFreeKernel(Section.DRIFT);
@@ -83,6 +95,8 @@ export class ModelFlight implements Flight {
   readonly kernels: readonly (RegionKernel | null)[];
   /** The run's transfer map, when one is used. */
   readonly map: SolvedMirrorMapper | null;
+  /** The run's transfer map of a solved source, when one is used (the driver hands it each species' ions). */
+  readonly sourceMap: SolvedSourceMapper | null;
   private readonly integrator: AxialIntegrator;
   private qOverM = NaN;
 
@@ -95,7 +109,8 @@ export class ModelFlight implements Flight {
     const tracer = new SolvedFieldTracer(counters);
     this.integrator = integrator;
     this.map = options.mirrorMap ? null : transferMapFor(model, options.ions, options.transferMap !== false, tracer);
-    this.kernels = chooseKernels(model, integrator, tracer, options.mirrorMap ?? this.map);
+    this.sourceMap = options.sourceMap ? null : sourceMapFor(model, options.ions, options.transferMap !== false, tracer);
+    this.kernels = chooseKernels(model, integrator, tracer, options.mirrorMap ?? this.map, options.sourceMap ?? this.sourceMap);
   }
 
   /** Forget the integrator's first steps, so the next ion's numbers depend on it alone. */
@@ -233,6 +248,7 @@ export function traceEnsemble(model: AnalyserModel, ensemble: Ensemble, out: Tra
     const b = Math.min(to, ensemble.speciesStart[s + 1]);
     if (a >= b) continue;
     flight.setMz(ensemble.species[s].mz);
+    if (flight.sourceMap !== null) flight.sourceMap.beginSpecies(ensemble, a, b, flight.plan.qOverM);
     for (let i = a; i < b; i++) {
       // Only solved regions read the transverse state (elsewhere applyDetectorPlane uses the ensemble's).
       if (solved) startIonState(st, ensemble.z0_m[i], ensemble.vz0_m_per_s[i], ensemble.x0_m[i], ensemble.y0_m[i], ensemble.vx0_m_per_s[i], ensemble.vy0_m_per_s[i]);
@@ -251,6 +267,7 @@ export function traceEnsemble(model: AnalyserModel, ensemble: Ensemble, out: Tra
     }
   }
   if (flight.map !== null && options.onMirrorMap) options.onMirrorMap({ ...flight.map.report });
+  if (flight.sourceMap !== null && options.onSourceMap) options.onSourceMap({ ...flight.sourceMap.report });
 }
 
 /** traceEnsemble keeps the contract's signature. */

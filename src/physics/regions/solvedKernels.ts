@@ -12,7 +12,7 @@ import { Exit, Fate, type RegionExit } from '../fates';
 import { nextBreakpoint_s } from '../waveforms';
 import { Section, SegmentKind, transverseXAt, transverseYAt, type IonState, type RegionKernel, type SegmentObserver } from './contract';
 import type { FlightPlan } from './plan';
-import { createSolvedIonState, SolvedFieldTracer, type SolvedIonState } from './solvedTracer';
+import { createSolvedIonState, SolvedFieldTracer, SolvedPrecision, type SolvedIonState } from './solvedTracer';
 
 /** A mirror whose field is solved rather than ideal; see src/presets/compileFields.ts. */
 export interface SolvedMirrorModel {
@@ -97,13 +97,21 @@ export function crossSolvedMirror(st: IonState, plan: FlightPlan, mirror: Solved
  * φ(t) = Σ V_k(t) φ_k of the extraction waveform; integration restarts at every jump or kink of the
  * waveform. Exit.FAR at the region's far plane (then the drift), or the fate.
  */
-export function crossSolvedSource(st: IonState, source: SolvedSourceModel, qOverM: number, tLimit_s: number, tracer: SolvedFieldTracer, ion: SolvedIonState): RegionExit {
+export function crossSolvedSource(
+  st: IonState,
+  source: SolvedSourceModel,
+  qOverM: number,
+  tLimit_s: number,
+  tracer: SolvedFieldTracer,
+  ion: SolvedIonState,
+  precision: number = SolvedPrecision.NORMAL,
+): RegionExit {
   enter(ion, st, source.repellerFaceZ_m + st.z);
   if (st.z <= 0 && st.v < 0) return (st.fate = Fate.STRUCK_REPELLER); // formed on the repeller moving into it
   let exit: number;
   while (true) {
     const tEnd = Math.min(nextBreakpoint_s(source.timing, ion.t), tLimit_s);
-    exit = tracer.trace(ion, source.region, qOverM, tEnd);
+    exit = tracer.trace(ion, source.region, qOverM, tEnd, precision);
     if (exit !== Exit.PAUSED || !(ion.t < tLimit_s)) break;
   }
   st.t = ion.t;
@@ -125,22 +133,55 @@ export function crossSolvedSource(st: IonState, source: SolvedSourceModel, qOver
   }
 }
 
-/** The section kernel of a solved source. */
+/** What the solved-source kernel needs of a transfer map (src/physics/solvedSourceMap.ts). */
+export interface SourceMap {
+  /** Through the source from the ion's start, by the map where it holds: Exit.FAR (st at the far plane) or the fate. */
+  crossIon(st: IonState, qOverM: number, tLimit_s: number): RegionExit;
+  /** Mesh z where the last ion stopped (the far plane when it got through). */
+  readonly stopZ_m: number;
+}
+
+/**
+ * A crossing of the solved source traced at a chosen precision, for FlightChoice.sourceMap: the
+ * reference the transfer map and the normal trace are measured against. `onTime` is told the time
+ * spent inside.
+ */
+export function tracedSourcePass(source: SolvedSourceModel, precision: number, onTime: (inside_s: number) => void): SourceMap {
+  const tracer = new SolvedFieldTracer(null);
+  const ion = createSolvedIonState();
+  return {
+    get stopZ_m() {
+      return ion.z;
+    },
+    crossIon(st: IonState, qOverM: number, tLimit_s: number): RegionExit {
+      const t0 = st.t;
+      const exit = crossSolvedSource(st, source, qOverM, tLimit_s, tracer, ion, precision);
+      onTime(st.t - t0);
+      return exit;
+    },
+  };
+}
+
+/** The section kernel of a solved source: traced in 3-D, or by the run's transfer map where it holds. */
 export class SolvedSourceKernel implements RegionKernel {
   readonly section = Section.SOURCE;
-  readonly name = 'source: solved field, traced in 3-D';
+  readonly name: string;
   private readonly ion = createSolvedIonState();
   constructor(
     private readonly source: SolvedSourceModel,
     private readonly tLimit_s: number,
     private readonly tracer: SolvedFieldTracer,
-  ) {}
+    private readonly map: SourceMap | null = null,
+  ) {
+    this.name = map ? 'source: solved field, transfer map where it holds' : 'source: solved field, traced in 3-D';
+  }
   cross(st: IonState, plan: FlightPlan, observer: SegmentObserver | null): RegionExit {
     const t0 = st.t;
     const z0 = st.z;
     const v0 = st.v;
-    const exit = crossSolvedSource(st, this.source, plan.qOverM, this.tLimit_s, this.tracer, this.ion);
-    chord(observer, Section.SOURCE, t0, z0, v0, st, this.ion.z - this.source.repellerFaceZ_m);
+    const map = this.map;
+    const exit = map !== null ? map.crossIon(st, plan.qOverM, this.tLimit_s) : crossSolvedSource(st, this.source, plan.qOverM, this.tLimit_s, this.tracer, this.ion);
+    if (observer !== null) chord(observer, Section.SOURCE, t0, z0, v0, st, (map !== null ? map.stopZ_m : this.ion.z) - this.source.repellerFaceZ_m);
     return exit;
   }
 }
