@@ -127,7 +127,7 @@ export function fitRunMap(request: RunRequest, part = 0, parts = 1, now: () => n
   const { model, ensemble } = sampleRun(request);
   const mirror = model.mirror?.solved;
   if (!mirror || !usesTransferMap(model, ensemble.count)) return null;
-  const mapper = new SolvedMirrorMapper(mirror, new SolvedFieldTracer(legacyTally));
+  const mapper = new SolvedMirrorMapper(mirror, new SolvedFieldTracer(legacyTally), model.mirror?.returnLength_m ?? 0);
   const trace = allocateTraceResult(ensemble.count);
   const ranges: Array<[number, number]> = [];
   // One map per q/m (the flight's, chargeToMassIn): species sharing one are fitted together, groups spread over the parts.
