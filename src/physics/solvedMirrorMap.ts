@@ -330,6 +330,8 @@ class SpeciesMap {
   /** Where the whole map is refused: the candidate splits by energy (fitted after retraining), and the one in use (null: the whole map). */
   partitions: Partition[] = [];
   chosen: Partition | null = null;
+  /** Once in use: the estimated share of its later ions that the map leaves to the tracer (for balancing a split run's chunks). */
+  tracedShare = 1;
   /** Traced ions of the species at which training ends (the first fit, then the pieces' fit). */
   trainUntil = TRAIN_RAYS;
   eLo = -1;
@@ -399,6 +401,15 @@ export class SolvedMirrorMapper implements MirrorMap {
     private readonly returnLength_m = 0,
   ) {
     this.aperture = entranceAperture(mirror.region);
+  }
+
+  /**
+   * Of a settled species' later ions, the share expected to be traced (1 when its map is refused):
+   * the share of its ions so far that the decided map would not carry (strike pre-test not counted).
+   */
+  tracedShare(qOverM_C_per_kg: number): number {
+    const m = this.maps.find((s) => s.report.qOverM_C_per_kg === qOverM_C_per_kg);
+    return m === undefined || m.state !== State.MAPPED ? 1 : m.tracedShare;
   }
 
   /** True once the species' map is decided (in use, or refused): every later ion's crossing depends on that ion alone. */
@@ -678,7 +689,6 @@ export class SolvedMirrorMapper implements MirrorMap {
     const w = m.whole;
     if (w.state === State.VALIDATING) return;
     if (w.state === State.MAPPED) {
-      m.rays.length = 0;
       m.report.validationTimeRms = Math.sqrt(w.sumTime2 / w.rays);
       m.report.validationDirectionRms = Math.sqrt(w.sumDir2 / w.rays);
       return this.inUse(m);
@@ -695,7 +705,6 @@ export class SolvedMirrorMapper implements MirrorMap {
     const held = (part: Partition) => es.filter((e) => e >= m.eLo && e <= m.eHi && part.piece(e).state === State.MAPPED).length;
     let best: Partition | null = null;
     for (const part of m.partitions) if (held(part) > (best === null ? 0 : held(best))) best = part;
-    m.rays.length = 0;
     const shown = best ?? m.partitions[0];
     m.report.pieces = shown.pieces.map((p, k) => ({
       uFrom_V: m.uMid + m.uHalf * (k === 0 ? m.eLo : shown.splits[k - 1]),
@@ -704,7 +713,10 @@ export class SolvedMirrorMapper implements MirrorMap {
       validationTimeRms: p.rays > 0 ? Math.sqrt(p.sumTime2 / p.rays) : null,
       note: p.note,
     }));
-    if (best === null) return this.giveUp(m, `${w.note}; no energy piece validated`);
+    if (best === null) {
+      m.rays.length = 0;
+      return this.giveUp(m, `${w.note}; no energy piece validated`);
+    }
     const used = best.pieces.filter((p) => p.state === State.MAPPED);
     const n = used.reduce((sum, p) => sum + p.rays, 0);
     m.report.validationTimeRms = Math.sqrt(used.reduce((sum, p) => sum + p.sumTime2, 0) / n);
@@ -716,6 +728,15 @@ export class SolvedMirrorMapper implements MirrorMap {
   private inUse(m: SpeciesMap): void {
     m.state = State.MAPPED;
     this.report.note = '';
+    // The share of the species' ions so far (all traced) that the map would carry: how much tracing the rest will need.
+    let carried = 0;
+    for (const r of m.rays) {
+      if (!this.setInput(m, r.x, r.y, r.dx, r.dy, r.U)) continue;
+      const f = this.fitFor(m);
+      if (f !== null && this.inDomain(m, f, r.x, r.y, r.dx, r.dy)) carried++;
+    }
+    m.tracedShare = 1 - carried / Math.max(m.report.traced, 1);
+    m.rays.length = 0;
     // The strike pre-test is decided with the map, so that from here on every ion's crossing depends on that ion alone.
     if (m.strikeState === Strike.CHECKING) {
       if (m.report.strikeChecks >= STRIKE_CHECKS_MIN) m.strikeState = Strike.USED;

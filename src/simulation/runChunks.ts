@@ -30,6 +30,7 @@ import type { RunRequest } from './runContract';
 import { splitsOverWorkers, type RunMapFit, type RunMapShare, type TraceChunk } from './runChunkPlan';
 
 export {
+  balancedBounds,
   chunkBounds,
   chunkCount,
   concatChunks,
@@ -153,5 +154,6 @@ export function fitRunMap(request: RunRequest, part = 0, parts = 1, now: () => n
     report: { ...mapper.report, species },
     firstIon: species.map((r) => ensemble.speciesStart[ks.indexOf(r.qOverM_C_per_kg)]),
     open: species.map((r) => !mapper.settled(r.qOverM_C_per_kg)),
+    tracedShare: species.map((r) => mapper.tracedShare(r.qOverM_C_per_kg)),
   };
 }

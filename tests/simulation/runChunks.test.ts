@@ -15,6 +15,7 @@ import { allocateTraceResult } from '../../src/ions/ensemble';
 import { samplePopulation } from '../../src/ions/population';
 import { traceEnsemble } from '../../src/physics/regions/driver';
 import { SNAPSHOT_STRIDE, SolvedMirrorMapper } from '../../src/physics/solvedMirrorMap';
+import { balancedBounds, MAPPED_ION_COST, type RunMapFit } from '../../src/simulation/runChunkPlan';
 import { chunkBounds, chunkCount, concatChunks, fitRunMap, hasSolvedMirror, mapFitTransferables, mergeMapFits, MIN_CHUNK_IONS, splitsOverWorkers, traceRunChunk, traceTransferables, type SplitRunTasks, type TraceChunk } from '../../src/simulation/runChunks';
 import type { RunOutput, RunRequest } from '../../src/simulation/runContract';
 import { runOutputTransferables, runRequest } from '../../src/simulation/runOutput';
@@ -58,6 +59,28 @@ describe('chunk bounds', () => {
       expect(Math.max(...sizes) - Math.min(...sizes)).toBeLessThanOrEqual(1);
       expect(Math.min(...sizes)).toBeGreaterThan(0);
     }
+  });
+
+  it('balanced by expected tracing work: fitted ions free, mapped ones cheap, each chunk within one ion of an equal share', () => {
+    // Two species from ions 0 and 10 000; the first 500 and 600 of each fitted; 10 % and 30 % of the rest traced.
+    const chunk = (from: number, to: number) => ({ from, to }) as unknown as RunMapFit['fitted'][number];
+    const fit = { fitted: [chunk(0, 500), chunk(10_000, 10_600)], firstIon: [0, 10_000], tracedShare: [0.1, 0.3] } as unknown as RunMapFit;
+    const cost = (i: number) => (i < 500 || (i >= 10_000 && i < 10_600) ? 0 : (i < 10_000 ? 0.1 : 0.3) * (1 - MAPPED_ION_COST) + MAPPED_ION_COST);
+    for (const parts of [2, 3, 5]) {
+      const b = balancedBounds(20_000, parts, fit);
+      expect(b[0]).toBe(0);
+      expect(b[b.length - 1]).toBe(20_000);
+      expect(b.length - 1).toBe(parts);
+      const work = b.slice(1).map((to, k) => {
+        let w = 0;
+        for (let i = b[k]; i < to; i++) w += cost(i); // summed ion by ion, independently of the bounds' own arithmetic
+        return w;
+      });
+      const total = work.reduce((x, y) => x + y, 0);
+      for (const w of work) expect(Math.abs(w - total / parts)).toBeLessThanOrEqual(1);
+    }
+    // The heavier-traced second species gets the smaller chunk: bounds differ from equal sizes.
+    expect(balancedBounds(20_000, 2, fit)[1]).toBeGreaterThan(10_000);
   });
 
   it('small runs stay in one chunk', () => {
