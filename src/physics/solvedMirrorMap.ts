@@ -28,11 +28,16 @@
  * Domain: the central range of the training rays (DOMAIN_QUANTILE), and, where the mirror has an
  * entrance aperture, an entry and a predicted exit line that pass it within APERTURE_MARGIN of its
  * radius (the rays that strike it graze its edge). Ions outside are traced directly, except those
- * the strike pre-test (STRIKE_RADIUS) takes as struck on the entrance electrode. Once a species'
+ * the strike pre-test (STRIKE_RADIUS) takes as struck on the entrance electrode. Where the whole-
+ * domain map is refused, the species trains on more ions and its domain is split by energy into
+ * pieces validated one by one (RETRAIN_RAYS); the ions of refused pieces are traced. Once a species'
  * map is decided (in use or refused, at the end of validation) every later ion's crossing depends
  * on that ion alone: a run split over workers fits it once and shares it (snapshot, restore).
  *
- * Measured (bench/fieldTraceBench.ts, back to back with the earlier 600 training rays and no
+ * Measured before the exit position and direction were fitted to the rays clear of the aperture
+ * only (which brought the error at the demo's settings to 1.6e-7 rms, largest 1.1e-6, the share
+ * mapped unchanged) and before the energy pieces:
+ * (bench/fieldTraceBench.ts, back to back with the earlier 600 training rays and no
  * pre-test, two runs on a machine at load 4–6 on 2 cores) on the gridless demo's own population
  * at 2·10^4 ions: 83 % mapped (463 of the 774 struck ions by the pre-test), 3.6–4.5× the direct
  * run's speed per CPU second (before 2.6×), flight-time error 2.3e-7 rms of the time inside
@@ -202,10 +207,10 @@ interface StruckRay {
 /**
  * Numbers per species in a MirrorMapSnapshot: 17 scalars (q/m, states, normalisation, domains,
  * pieces in use: 0 for the whole map), MAX_PIECES − 1 splits, then the whole map and each piece
- * (state, eMid, eHalf, time, position and direction coefficients; unused slots refused, zero).
+ * (state, eMid, eHalf, linMid, linHalf, time, position and direction coefficients; unused slots refused, zero).
  */
 const SNAPSHOT_HEAD = 17;
-const FIT_STRIDE = 3 + TIME_TERMS + 4 * LINEAR_TERMS;
+const FIT_STRIDE = 5 + TIME_TERMS + 4 * LINEAR_TERMS;
 export const SNAPSHOT_STRIDE = SNAPSHOT_HEAD + (MAX_PIECES - 1) + (1 + MAX_PIECES) * FIT_STRIDE;
 
 function putFit(values: Float64Array, o: number, f: PolyFit | undefined): void {
@@ -213,18 +218,18 @@ function putFit(values: Float64Array, o: number, f: PolyFit | undefined): void {
     values[o] = State.DIRECT;
     return;
   }
-  values.set([f.state, f.eMid, f.eHalf], o);
-  values.set(f.timeCoef, o + 3);
-  values.set(f.posCoef, o + 3 + TIME_TERMS);
-  values.set(f.dirCoef, o + 3 + TIME_TERMS + 2 * LINEAR_TERMS);
+  values.set([f.state, f.eMid, f.eHalf, f.linMid, f.linHalf], o);
+  values.set(f.timeCoef, o + 5);
+  values.set(f.posCoef, o + 5 + TIME_TERMS);
+  values.set(f.dirCoef, o + 5 + TIME_TERMS + 2 * LINEAR_TERMS);
 }
 
 function getFit(v: Float64Array, o: number): PolyFit {
   const f = new PolyFit();
-  [f.state, f.eMid, f.eHalf] = v.subarray(o, o + 3);
-  f.timeCoef = v.slice(o + 3, o + 3 + TIME_TERMS);
-  f.posCoef = v.slice(o + 3 + TIME_TERMS, o + 3 + TIME_TERMS + 2 * LINEAR_TERMS);
-  f.dirCoef = v.slice(o + 3 + TIME_TERMS + 2 * LINEAR_TERMS, o + FIT_STRIDE);
+  [f.state, f.eMid, f.eHalf, f.linMid, f.linHalf] = v.subarray(o, o + 5);
+  f.timeCoef = v.slice(o + 5, o + 5 + TIME_TERMS);
+  f.posCoef = v.slice(o + 5 + TIME_TERMS, o + 5 + TIME_TERMS + 2 * LINEAR_TERMS);
+  f.dirCoef = v.slice(o + 5 + TIME_TERMS + 2 * LINEAR_TERMS, o + FIT_STRIDE);
   return f;
 }
 
@@ -304,6 +309,9 @@ class PolyFit {
   state: number = State.VALIDATING;
   eMid = 0;
   eHalf = 1;
+  /** The energy variable of the exit position and direction (an energy piece shares one fit over the whole domain: 0, 1). */
+  linMid = 0;
+  linHalf = 1;
   timeCoef = new Float64Array(TIME_TERMS);
   posCoef = new Float64Array(2 * LINEAR_TERMS);
   dirCoef = new Float64Array(2 * LINEAR_TERMS);
@@ -759,9 +767,14 @@ export class SolvedMirrorMapper implements MirrorMap {
     return inp.eg >= m.eLo && inp.eg <= m.eHi && inp.a <= m.aHi && inp.c <= m.cHi;
   }
 
-  /** The energy variable of map `f` at the current input (the whole map's is e itself: (e − 0)/1). */
-  private localize(f: PolyFit): void {
+  /** The energy variable of map `f`'s time at the current input (the whole map's is e itself: (e − 0)/1). */
+  private localizeTime(f: PolyFit): void {
     this.inp.e = (this.inp.eg - f.eMid) / f.eHalf;
+  }
+
+  /** The energy variable of map `f`'s exit position and direction. */
+  private localizeLinear(f: PolyFit): void {
+    this.inp.e = (this.inp.eg - f.linMid) / f.linHalf;
   }
 
   /**
@@ -770,7 +783,7 @@ export class SolvedMirrorMapper implements MirrorMap {
    * direction in out2 and dir2.
    */
   private inDomain(m: SpeciesMap, f: PolyFit, x: number, y: number, dx: number, dy: number): boolean {
-    this.localize(f);
+    this.localizeLinear(f);
     basis(LINEAR_BASIS, this.inp, this.linRow);
     const out2 = this.out2;
     const dir2 = this.dir2;
@@ -827,7 +840,11 @@ export class SolvedMirrorMapper implements MirrorMap {
     if (m.whole.state === State.DIRECT) {
       // After retraining: the candidate splits by energy, in the first fit's normalisation and domain.
       m.struckRays.length = 0;
-      m.partitions = PIECE_COUNTS.map((count) => this.fitPartition(m, count)).filter((part) => part !== null);
+      // One exit position and direction fit over the whole domain for every piece: on the rays clear
+      // of the aperture it holds to ~1e-6 rad where the time needs pieces, and it saves nine fits.
+      const lin = new PolyFit();
+      this.fitPoly(m, lin, m.rays, 'linear');
+      m.partitions = PIECE_COUNTS.map((count) => this.fitPartition(m, count, lin)).filter((part) => part !== null);
       if (m.partitions.length === 0) {
         m.rays.length = 0;
         return this.giveUp(m, `${m.whole.note}; too few training rays for energy pieces`);
@@ -873,7 +890,7 @@ export class SolvedMirrorMapper implements MirrorMap {
   }
 
   /** Map `f` fitted (least squares) to `rays`, in its local energy variable. */
-  private fitPoly(m: SpeciesMap, f: PolyFit, rays: readonly Ray[]): void {
+  private fitPoly(m: SpeciesMap, f: PolyFit, rays: readonly Ray[], parts: 'both' | 'time' | 'linear' = 'both'): void {
     const n = rays.length;
     const A = new Float64Array(n * TIME_TERMS);
     const rhs = new Float64Array(n);
@@ -892,16 +909,23 @@ export class SolvedMirrorMapper implements MirrorMap {
     const inp = this.inp;
     const timeRow = this.timeRow;
     const linRow = this.linRow;
-    rays.forEach((r, i) => {
-      this.setInput(m, r.x, r.y, r.dx, r.dy, r.U);
-      this.localize(f);
-      basis(TIME_BASIS, inp, timeRow);
-      A.set(timeRow, i * TIME_TERMS);
-      rhs[i] = r.scaledTime / timeScale - 1; // fit the variation about the mean, for precision
-    });
+    if (parts !== 'linear') {
+      rays.forEach((r, i) => {
+        this.setInput(m, r.x, r.y, r.dx, r.dy, r.U);
+        this.localizeTime(f);
+        basis(TIME_BASIS, inp, timeRow);
+        A.set(timeRow, i * TIME_TERMS);
+        rhs[i] = r.scaledTime / timeScale - 1; // fit the variation about the mean, for precision
+      });
+      const timeCoef = solveLeastSquares(A, n, TIME_TERMS, rhs, 1e-6);
+      for (let k = 0; k < TIME_TERMS; k++) timeCoef[k] *= timeScale;
+      timeCoef[0] += timeScale; // the basis' first term is the constant 1
+      f.timeCoef = timeCoef;
+    }
+    if (parts === 'time') return;
     linRays.forEach((r, i) => {
       this.setInput(m, r.x, r.y, r.dx, r.dy, r.U);
-      this.localize(f);
+      this.localizeLinear(f);
       basis(LINEAR_BASIS, inp, linRow);
       // Exit (x, y) = A·g + B·h: two rows per ray, g's coefficients then h's.
       for (let k = 0; k < LINEAR_TERMS; k++) {
@@ -915,10 +939,6 @@ export class SolvedMirrorMapper implements MirrorMap {
       dir[2 * i] = r.dxOut;
       dir[2 * i + 1] = r.dyOut;
     });
-    const timeCoef = solveLeastSquares(A, n, TIME_TERMS, rhs, 1e-6);
-    for (let k = 0; k < TIME_TERMS; k++) timeCoef[k] *= timeScale;
-    timeCoef[0] += timeScale; // the basis' first term is the constant 1
-    f.timeCoef = timeCoef;
     [f.posCoef, f.dirCoef] = solveLeastSquaresMany(A2, 2 * nl, 2 * LINEAR_TERMS, [pos, dir], 1e-6);
   }
 
@@ -938,7 +958,7 @@ export class SolvedMirrorMapper implements MirrorMap {
    * the training rays within it and PIECE_OVERLAP of its width beyond; null when a piece would
    * have fewer than twice the time basis' terms.
    */
-  private fitPartition(m: SpeciesMap, count: number): Partition | null {
+  private fitPartition(m: SpeciesMap, count: number, lin: PolyFit): Partition | null {
     const inp = this.inp;
     const es = m.rays.map((r) => (this.setInput(m, r.x, r.y, r.dx, r.dy, r.U), inp.eg));
     const inner = es.filter((e) => e >= m.eLo && e <= m.eHi).sort((p, q) => p - q);
@@ -955,7 +975,9 @@ export class SolvedMirrorMapper implements MirrorMap {
       const f = new PolyFit();
       f.eMid = 0.5 * (lo + hi);
       f.eHalf = 0.5 * (hi - lo);
-      this.fitPoly(m, f, rays);
+      this.fitPoly(m, f, rays, 'time');
+      f.posCoef = lin.posCoef;
+      f.dirCoef = lin.dirCoef;
       pieces.push(f);
     }
     return new Partition(splits, pieces);
@@ -963,6 +985,7 @@ export class SolvedMirrorMapper implements MirrorMap {
 
   /** Scaled time of map `f` at the current input (localised to f by inDomain). */
   private scaledTime(f: PolyFit): number {
+    this.localizeTime(f);
     const timeRow = this.timeRow;
     basis(TIME_BASIS, this.inp, timeRow);
     let t = 0;
