@@ -1060,7 +1060,8 @@ function finish(st: IonState, ion: SolvedIonState, exit: RegionExit): boolean {
 /** One line per species for the text report: how its ions crossed the solved mirror. */
 export function formatMirrorMap(report: MirrorMapReport): string {
   const lines = report.species.map((s) => {
-    const how = s.note === '' ? 'transfer map validated' : `traced directly: ${s.note}`;
+    // A species whose ions ran out before its map was decided (training or validation) has no note and no validation figures.
+    const how = s.note !== '' ? `traced directly: ${s.note}` : s.validationTimeRms === null ? 'traced directly: too few ions to decide the transfer map' : 'transfer map validated';
     const rms = s.validationTimeRms === null ? '' : `, validation rms time ${s.validationTimeRms.toExponential(1)}`;
     const strikes = s.struckByMap > 0 ? `; ${s.struckByMap} of the mapped taken as struck on the entrance electrode by the strike pre-test, ${s.strikeChecks} traced checks` : s.strikeNote !== '' ? `; strike pre-test not used: ${s.strikeNote}` : '';
     const pieces = s.pieces.length === 0 ? '' : `; whole-domain map refused, by energy: ${s.pieces.map((p) => `${p.uFrom_V.toFixed(0)}–${p.uTo_V.toFixed(0)} V ${p.note === '' ? 'mapped' : `traced (${p.note})`}`).join(', ')}`;
