@@ -1065,10 +1065,10 @@ function finish(st: IonState, ion: SolvedIonState, exit: RegionExit): boolean {
 export function formatMirrorMap(report: MirrorMapReport): string {
   const lines = report.species.map((s) => {
     // A species whose ions ran out before its map was decided (training or validation) has no note and no validation figures.
-    const how = s.note !== '' ? `traced directly: ${s.note}` : s.validationTimeRms === null ? 'traced directly: too few ions to decide the transfer map' : 'transfer map validated';
+    const how = s.note !== '' ? `traced directly: ${s.note}` : s.validationTimeRms === null ? 'traced directly: too few ions to decide the transfer map' : s.pieces.length > 0 ? 'transfer map validated on energy pieces' : 'transfer map validated';
     const rms = s.validationTimeRms === null ? '' : `, validation rms time ${s.validationTimeRms.toExponential(1)}`;
     const strikes = s.struckByMap > 0 ? `; ${s.struckByMap} of the mapped taken as struck on the entrance electrode by the strike pre-test, ${s.strikeChecks} traced checks` : s.strikeNote !== '' ? `; strike pre-test not used: ${s.strikeNote}` : '';
-    const pieces = s.pieces.length === 0 ? '' : `; whole-domain map refused, by energy: ${s.pieces.map((p) => `${p.uFrom_V.toFixed(0)}–${p.uTo_V.toFixed(0)} V ${p.note === '' ? 'mapped' : `traced (${p.note})`}`).join(', ')}`;
+    const pieces = s.pieces.length === 0 ? '' : `; the whole-domain map refused, by energy: ${s.pieces.map((p) => `${p.uFrom_V.toFixed(0)}–${p.uTo_V.toFixed(0)} V ${p.note === '' ? 'mapped' : `traced (${p.note})`}`).join(', ')}`;
     return `  q/m ${s.qOverM_C_per_kg.toPrecision(6)} C/kg: ${s.mapped} ions mapped, ${s.traced} traced (${how}${rms}${pieces}${strikes})`;
   });
   const struck = report.struckByMap > 0 ? ` (${report.struckByMap} of them taken as struck on the entrance electrode by its strike pre-test)` : '';
