@@ -18,11 +18,16 @@
  *                                of the mirror's time, the return drift's change through the exit
  *                                direction included); field_trace_max_rel_err the largest
  *  field_trace_direct_rms_rel_err, field_trace_direct_max_rel_err: the same for the direct run
+ *  field_trace_changed_rms_rel_err, _max_: the same over the reference ions whose flight time the
+ *                                map changed (mapped, or traced at FINE precision for validation);
+ *                                field_trace_changed_direct_rms_rel_err, _max_: the direct run's on those ions
  *  field_trace_steps_per_ion, field_trace_rejected_per_ion, field_trace_evals_per_ion: integration
  *                                steps, rejections and field evaluations per directly traced ion
  *  field_trace_struck            ions of the run that struck an electrode
  *  field_trace_struck_by_map     of those, the ions the map's strike pre-test took as struck (not traced)
- * Runnable alone: npx tsx bench/fieldTraceBench.ts
+ *  field_trace_low_bp_*          the speeds, map fraction and errors for the same run with the back plate at
+ *                                LOW_BACK_PLATE_V (where the map is split by energy, see solvedMirrorMap.ts)
+ * Runnable alone: npx tsx bench/fieldTraceBench.ts [back plate potential (V): that setting only]
  */
 import { readFileSync } from 'node:fs';
 import { pathToFileURL } from 'node:url';
@@ -41,8 +46,23 @@ import { validatePreset } from '../src/presets/load';
 
 const round = (x: number, digits = 4) => Number(x.toPrecision(digits));
 
+/** The figures of the demo as shipped, and (prefix field_trace_low_bp_) of the same run with the back plate at LOW_BACK_PLATE_V. */
 export function benchFieldTrace(ions = 20000): Record<string, number> {
-  const doc: unknown = JSON.parse(readFileSync(new URL('../presets/demo-gridless-mirror.json', import.meta.url), 'utf8'));
+  const low = benchFieldTraceAt(ions, LOW_BACK_PLATE_V);
+  const keep = ['ions_per_s', 'direct_ions_per_s', 'cpu_ions_per_s', 'direct_cpu_ions_per_s', 'map_fraction', 'rms_rel_err', 'max_rel_err', 'direct_rms_rel_err', 'direct_max_rel_err', 'changed_rms_rel_err', 'changed_max_rel_err', 'changed_direct_rms_rel_err', 'changed_direct_max_rel_err'];
+  return { ...benchFieldTraceAt(ions), ...Object.fromEntries(keep.map((k) => [`field_trace_low_bp_${k}`, low[`field_trace_${k}`]])) };
+}
+
+/**
+ * A back plate potential where ions of the upper energies turn close to the back plate, and the
+ * whole-domain map is refused (the page benchmark's solved-field changes type 5580–5660 V).
+ */
+export const LOW_BACK_PLATE_V = 5620;
+
+/** The figures at the demo's settings, or with its back plate at `backPlate_V`. */
+export function benchFieldTraceAt(ions = 20000, backPlate_V?: number): Record<string, number> {
+  const doc = JSON.parse(readFileSync(new URL('../presets/demo-gridless-mirror.json', import.meta.url), 'utf8')) as { mirror: { backPlate: { potential_V: number } } };
+  if (backPlate_V !== undefined) doc.mirror.backPlate.potential_V = backPlate_V;
   const valid = validatePreset(doc);
   if (!valid.ok) throw new Error(JSON.stringify(valid.issues));
   const compiled = compilePreset(valid.value);
@@ -77,8 +97,9 @@ export function benchFieldTrace(ions = 20000): Record<string, number> {
   let mirrorTime = 0; // set by each reference pass
   const reference = createFlight(directModel, { engine: 'mixed', mirrorMap: tracedMirrorPass(mirror, SolvedPrecision.REFERENCE, (inside_s) => (mirrorTime = inside_s)) });
   const st = createIonState();
-  const err = { user: [0, 0], direct: [0, 0] };
+  const err = { user: [0, 0], direct: [0, 0], changed: [0, 0], changedDirect: [0, 0] };
   let count = 0;
+  let changed = 0;
   for (let s = 0; s < ens.species.length; s++) {
     reference.setMz(ens.species[s].mz);
     for (let i = ens.speciesStart[s]; i < ens.speciesStart[s + 1]; i += 10) {
@@ -92,6 +113,13 @@ export function benchFieldTrace(ions = 20000): Record<string, number> {
       err.direct[0] += ed * ed;
       err.direct[1] = Math.max(err.direct[1], ed);
       count++;
+      // The ions the map carried (or a FINE validation trace): the rest are the direct trace itself.
+      if (user.out.flightTime_s[i] === direct.out.flightTime_s[i]) continue;
+      err.changed[0] += eu * eu;
+      err.changed[1] = Math.max(err.changed[1], eu);
+      err.changedDirect[0] += ed * ed;
+      err.changedDirect[1] = Math.max(err.changedDirect[1], ed);
+      changed++;
     }
   }
   let struck = 0;
@@ -106,6 +134,10 @@ export function benchFieldTrace(ions = 20000): Record<string, number> {
     field_trace_max_rel_err: round(err.user[1], 3),
     field_trace_direct_rms_rel_err: round(Math.sqrt(err.direct[0] / count), 3),
     field_trace_direct_max_rel_err: round(err.direct[1], 3),
+    field_trace_changed_rms_rel_err: round(Math.sqrt(err.changed[0] / Math.max(changed, 1)), 3),
+    field_trace_changed_max_rel_err: round(err.changed[1], 3),
+    field_trace_changed_direct_rms_rel_err: round(Math.sqrt(err.changedDirect[0] / Math.max(changed, 1)), 3),
+    field_trace_changed_direct_max_rel_err: round(err.changedDirect[1], 3),
     field_trace_steps_per_ion: round(counters.steps / ens.count),
     field_trace_rejected_per_ion: round(counters.rejected / ens.count),
     field_trace_evals_per_ion: round(counters.evaluations / ens.count),
@@ -115,5 +147,6 @@ export function benchFieldTrace(ions = 20000): Record<string, number> {
 }
 
 if (process.argv[1] && import.meta.url === pathToFileURL(process.argv[1]).href) {
-  for (const [key, value] of Object.entries(benchFieldTrace())) console.log(`${key}: ${value}`);
+  const at = process.argv[2];
+  for (const [key, value] of Object.entries(at === undefined ? benchFieldTrace() : benchFieldTraceAt(20000, Number(at)))) console.log(`${key}: ${value}`);
 }

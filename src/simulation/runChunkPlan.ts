@@ -33,6 +33,8 @@ export interface RunMapFit {
   /** Per species of `report`: its first ion in the run, and whether its map was still undecided when its ions ran out. */
   readonly firstIon: readonly number[];
   readonly open: readonly boolean[];
+  /** Per species of `report`: the share of its ions after the fitted ones expected to be traced directly (SolvedMirrorMapper.tracedShare). */
+  readonly tracedShare: readonly number[];
 }
 
 /**
@@ -42,7 +44,7 @@ export interface RunMapFit {
  */
 export function mergeMapFits(fits: readonly RunMapFit[]): RunMapFit {
   if (fits.length === 1) return fits[0];
-  const entries = fits.flatMap((f) => f.report.species.map((s, i) => ({ s, first: f.firstIon[i], open: f.open[i] }))).sort((a, b) => a.first - b.first);
+  const entries = fits.flatMap((f) => f.report.species.map((s, i) => ({ s, first: f.firstIon[i], open: f.open[i], share: f.tracedShare[i] }))).sort((a, b) => a.first - b.first);
   let note = '';
   let allRefused = true;
   for (const e of entries) {
@@ -58,6 +60,7 @@ export function mergeMapFits(fits: readonly RunMapFit[]): RunMapFit {
     report: { mapped: sum('mapped'), traced: sum('traced'), struckByMap: sum('struckByMap'), note, species: entries.map((e) => e.s) },
     firstIon: entries.map((e) => e.first),
     open: entries.map((e) => e.open),
+    tracedShare: entries.map((e) => e.share),
   };
 }
 
@@ -126,6 +129,53 @@ export function chunkBounds(count: number, parts: number): number[] {
   const n = Math.max(1, Math.min(Math.floor(parts), count));
   const bounds = [0];
   for (let k = 1; k <= n; k++) bounds.push(Math.floor((k * count) / n));
+  return bounds;
+}
+
+/**
+ * Cost of an ion the map carries (its flight outside the mirror and the map's two field samples),
+ * relative to one traced through the mirror. From the chunk timings of the gridless demo split in
+ * two (Node, 10^4 ions each, 715 and 1653 traced: 88 and 152 ms, i.e. 0.068 ms more per traced
+ * ion, and ≤ 39 ms for the rest of a chunk, sampling included): about 0.002 ms, ~3 %.
+ */
+export const MAPPED_ION_COST = 0.03;
+
+/**
+ * Boundaries of `parts` contiguous chunks of `count` ions with about equal expected tracing work
+ * under the shared map `fit`: the fitted ions cost nothing (the chunks skip them), every other ion
+ * of a species 1 when traced and MAPPED_ION_COST when mapped, by the species' tracedShare. Every
+ * chunk keeps at least one ion. Bit-identical results whatever the bounds (each ion's crossing
+ * depends on that ion alone once the map is decided).
+ */
+export function balancedBounds(count: number, parts: number, fit: RunMapFit): number[] {
+  const n = Math.max(1, Math.min(Math.floor(parts), count));
+  // Piecewise-constant cost per ion: species from their first ion on, fitted ranges zero.
+  const cuts = new Set<number>([0, count, ...fit.firstIon, ...fit.fitted.flatMap((c) => [c.from, c.to])]);
+  const edges = [...cuts].filter((x) => x >= 0 && x <= count).sort((a, b) => a - b);
+  const costAt = (i: number): number => {
+    if (fit.fitted.some((c) => i >= c.from && i < c.to)) return 0;
+    let s = -1;
+    for (let k = 0; k < fit.firstIon.length; k++) if (fit.firstIon[k] <= i && (s < 0 || fit.firstIon[k] > fit.firstIon[s])) s = k;
+    const traced = s < 0 ? 1 : fit.tracedShare[s];
+    return traced + (1 - traced) * MAPPED_ION_COST;
+  };
+  const segments = edges.slice(1).map((to, k) => ({ from: edges[k], to, cost: costAt(edges[k]) }));
+  const total = segments.reduce((sum, g) => sum + g.cost * (g.to - g.from), 0);
+  if (!(total > 0)) return chunkBounds(count, parts);
+  const bounds = [0];
+  let acc = 0;
+  let seg = 0;
+  for (let k = 1; k < n; k++) {
+    const target = (k * total) / n;
+    while (seg < segments.length && acc + segments[seg].cost * (segments[seg].to - segments[seg].from) < target) {
+      acc += segments[seg].cost * (segments[seg].to - segments[seg].from);
+      seg++;
+    }
+    const g = segments[Math.min(seg, segments.length - 1)];
+    const at = g.cost > 0 ? g.from + Math.ceil((target - acc) / g.cost) : g.from;
+    bounds.push(Math.min(count - (n - k), Math.max(bounds[k - 1] + 1, Math.min(at, g.to))));
+  }
+  bounds.push(count);
   return bounds;
 }
 

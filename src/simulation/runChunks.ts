@@ -30,6 +30,7 @@ import type { RunRequest } from './runContract';
 import { splitsOverWorkers, type RunMapFit, type RunMapShare, type TraceChunk } from './runChunkPlan';
 
 export {
+  balancedBounds,
   chunkBounds,
   chunkCount,
   concatChunks,
@@ -127,7 +128,7 @@ export function fitRunMap(request: RunRequest, part = 0, parts = 1, now: () => n
   const { model, ensemble } = sampleRun(request);
   const mirror = model.mirror?.solved;
   if (!mirror || !usesTransferMap(model, ensemble.count)) return null;
-  const mapper = new SolvedMirrorMapper(mirror, new SolvedFieldTracer(legacyTally));
+  const mapper = new SolvedMirrorMapper(mirror, new SolvedFieldTracer(legacyTally), model.mirror?.returnLength_m ?? 0);
   const trace = allocateTraceResult(ensemble.count);
   const ranges: Array<[number, number]> = [];
   // One map per q/m (the flight's, chargeToMassIn): species sharing one are fitted together, groups spread over the parts.
@@ -153,5 +154,6 @@ export function fitRunMap(request: RunRequest, part = 0, parts = 1, now: () => n
     report: { ...mapper.report, species },
     firstIon: species.map((r) => ensemble.speciesStart[ks.indexOf(r.qOverM_C_per_kg)]),
     open: species.map((r) => !mapper.settled(r.qOverM_C_per_kg)),
+    tracedShare: species.map((r) => mapper.tracedShare(r.qOverM_C_per_kg)),
   };
 }

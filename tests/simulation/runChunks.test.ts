@@ -15,6 +15,7 @@ import { allocateTraceResult } from '../../src/ions/ensemble';
 import { samplePopulation } from '../../src/ions/population';
 import { traceEnsemble } from '../../src/physics/regions/driver';
 import { SNAPSHOT_STRIDE, SolvedMirrorMapper } from '../../src/physics/solvedMirrorMap';
+import { balancedBounds, MAPPED_ION_COST, type RunMapFit } from '../../src/simulation/runChunkPlan';
 import { chunkBounds, chunkCount, concatChunks, fitRunMap, hasSolvedMirror, mapFitTransferables, mergeMapFits, MIN_CHUNK_IONS, splitsOverWorkers, traceRunChunk, traceTransferables, type SplitRunTasks, type TraceChunk } from '../../src/simulation/runChunks';
 import type { RunOutput, RunRequest } from '../../src/simulation/runContract';
 import { runOutputTransferables, runRequest } from '../../src/simulation/runOutput';
@@ -31,6 +32,10 @@ function demo(file: string, edit?: (doc: Record<string, any>) => void): Preset {
 
 const exact = demo('demo-linear-delayed.json');
 const gridless = demo('demo-gridless-mirror.json');
+// Back plate low enough that the whole-domain map is refused and the map is split by energy (src/physics/solvedMirrorMap.ts).
+const gridlessLow = demo('demo-gridless-mirror.json', (d) => {
+  d.mirror.backPlate.potential_V = 5800;
+});
 const pulse = demo('demo-linear-delayed.json', (d) => {
   d.source.extraction.rise = { shape: 'exponential', timeConstant_ns: 12 };
 });
@@ -54,6 +59,28 @@ describe('chunk bounds', () => {
       expect(Math.max(...sizes) - Math.min(...sizes)).toBeLessThanOrEqual(1);
       expect(Math.min(...sizes)).toBeGreaterThan(0);
     }
+  });
+
+  it('balanced by expected tracing work: fitted ions free, mapped ones cheap, each chunk within one ion of an equal share', () => {
+    // Two species from ions 0 and 10 000; the first 500 and 600 of each fitted; 10 % and 30 % of the rest traced.
+    const chunk = (from: number, to: number) => ({ from, to }) as unknown as RunMapFit['fitted'][number];
+    const fit = { fitted: [chunk(0, 500), chunk(10_000, 10_600)], firstIon: [0, 10_000], tracedShare: [0.1, 0.3] } as unknown as RunMapFit;
+    const cost = (i: number) => (i < 500 || (i >= 10_000 && i < 10_600) ? 0 : (i < 10_000 ? 0.1 : 0.3) * (1 - MAPPED_ION_COST) + MAPPED_ION_COST);
+    for (const parts of [2, 3, 5]) {
+      const b = balancedBounds(20_000, parts, fit);
+      expect(b[0]).toBe(0);
+      expect(b[b.length - 1]).toBe(20_000);
+      expect(b.length - 1).toBe(parts);
+      const work = b.slice(1).map((to, k) => {
+        let w = 0;
+        for (let i = b[k]; i < to; i++) w += cost(i); // summed ion by ion, independently of the bounds' own arithmetic
+        return w;
+      });
+      const total = work.reduce((x, y) => x + y, 0);
+      for (const w of work) expect(Math.abs(w - total / parts)).toBeLessThanOrEqual(1);
+    }
+    // The heavier-traced second species gets the smaller chunk: bounds differ from equal sizes.
+    expect(balancedBounds(20_000, 2, fit)[1]).toBeGreaterThan(10_000);
   });
 
   it('small runs stay in one chunk', () => {
@@ -137,6 +164,7 @@ describe('a split run equals the unsplit run bit for bit', () => {
     ['rising pulse (same demo, exponential repeller rise)', { preset: pulse, ions: 6_000, seed: 12 }],
     // One worker fits the solved mirror's transfer map, the others restore it from its snapshot.
     ['solved mirror (gridless demo, transfer map fitted once and shared)', { preset: gridless, ions: 6_000, seed: 13 }],
+    ['solved mirror, back plate 5800 V (map split by energy, fitted once and shared)', { preset: gridlessLow, ions: 8_000, seed: 13 }],
   ];
   for (const [name, request] of cases) {
     it(name, async () => {
@@ -145,6 +173,11 @@ describe('a split run equals the unsplit run bit for bit', () => {
       expect(bits(split.flightTime_s)).toBe(bits(whole.flightTime_s));
       expect(bits(split.fate)).toBe(bits(whole.fate));
       expect(withoutClock(split)).toEqual(withoutClock(whole));
+      if (request.preset === gridlessLow) {
+        // The case is what it says: some species carried by energy pieces (else it tests nothing new).
+        const map = whole.report.solvedMirrorMap!;
+        expect(map.species.some((s) => s.pieces.length > 0 && s.note === '' && s.mapped > 0)).toBe(true);
+      }
     });
   }
 

@@ -61,7 +61,7 @@ function sourceMapFor(model: AnalyserModel, ions: number | undefined, allowed: b
 function transferMapFor(model: AnalyserModel, ions: number | undefined, allowed: boolean, tracer: SolvedFieldTracer): SolvedMirrorMapper | null {
   const solved = model.mirror?.solved;
   if (!allowed || !solved || !usesTransferMap(model, ions)) return null;
-  return new SolvedMirrorMapper(solved, tracer);
+  return new SolvedMirrorMapper(solved, tracer, model.mirror?.returnLength_m ?? 0);
 }
 
 /** True when a run of `ions` ions through `model` crosses its solved mirror by a transfer map (a run split over workers must then share one map). */

@@ -7,6 +7,7 @@
  */
 import * as Comlink from 'comlink';
 import {
+  balancedBounds,
   chunkBounds,
   chunkCount,
   concatChunks,
@@ -65,11 +66,13 @@ export function shouldSplit(request: RunRequest, workers: number): boolean {
 export async function splitRun(lanes: readonly SplitRunLane[], request: RunRequest, guard: <V>(call: () => Promise<V>) => Promise<V> = (c) => c(), now: () => number = () => performance.now()): Promise<RunOutput> {
   const start = now();
   const ions = runIons(request);
-  const bounds = chunkBounds(ions, chunkCount(ions, lanes.length));
   // Each lane fits the maps of its share of the species (they are independent), then all trace their chunks by all of them.
   const fits = hasSolvedMirror(request.preset) ? await Promise.all(lanes.map((lane, k) => guard(() => lane.fitRunMap(request, k, lanes.length)))) : [];
   const fit = fits.length > 0 && fits.every((f) => f !== null) ? mergeMapFits(fits as RunMapFit[]) : null;
   const share = fit ? mapShare(fit) : undefined;
+  // Chunks of equal expected tracing work under the map (the fitted ions are skipped, mapped ones cost little), else of equal size.
+  const parts = chunkCount(ions, lanes.length);
+  const bounds = fit ? balancedBounds(ions, parts, fit) : chunkBounds(ions, parts);
   const chunks = await Promise.all(bounds.slice(1).map((to, k) => guard(() => lanes[k].traceRunChunk(request, bounds[k], to, share))));
   const trace = concatChunks(ions, chunks);
   if (fit) overlayFitted(trace, fit.fitted);
