@@ -19,6 +19,10 @@ import type { RunOutput, RunRequest } from '../../src/simulation/runContract';
 import { runRequest } from '../../src/simulation/runOutput';
 import { simulate } from '../../src/simulation/run';
 import { chargeToMassIn } from '../../src/physics/regions/plan';
+import { traceEnsemble } from '../../src/physics/regions/driver';
+import { allocateTraceResult } from '../../src/ions/ensemble';
+import { samplePopulation } from '../../src/ions/population';
+import { compilePreset } from '../../src/presets/compile';
 import { shouldSplit, splitRun, type SplitRunLane } from '../../src/ui/engine/splitRun';
 
 const PRESETS = new URL('../../presets/', import.meta.url);
@@ -96,6 +100,46 @@ describe('a rising extraction pulse through a solved mirror', () => {
       expect(out.report.solvedMirrorMap!.mapped).toBeGreaterThan(0);
     });
   }
+});
+
+describe("runs whose ions share the integrator's first-step memory", () => {
+  // The adaptive integrator starts each solve from the previous ion's first step, so ion i's
+  // numbers depend on the ions before it in the same pass: a chunk starting afresh would differ.
+  const profile = demo('demo-reflectron-single.json', (d) => {
+    d.source.extraction = { mode: 'delayed', delay_ns: 406.2, rise: { shape: 'exponential', timeConstant_ns: 20 } };
+    d.mirror = { type: 'profile', depth_mm: 350, profile: { kind: 'polynomial', coefficients_V: [26000, 3000] }, returnLength_mm: 500 };
+  });
+  const integrated = demo('demo-linear-delayed.json', (d) => {
+    d.run.engine = 'integrator';
+  });
+  const integratedMirror = gridless((d) => {
+    d.run.engine = 'integrator';
+  });
+  it('are not split, and a chunk of one is refused with the reason', () => {
+    for (const preset of [profile, integrated, integratedMirror]) {
+      expect(shouldSplit({ preset, ions: 20_000 }, 2)).toBe(false);
+      expect(() => traceRunChunk({ preset, ions: 4_000 }, 2_000, 4_000)).toThrow(/first step/);
+    }
+    // A pasted-table profile is a stack of uniform stages (closed form): split as usual with a rising pulse.
+    const table = demo('demo-reflectron-single.json', (d) => {
+      d.source.extraction = { mode: 'delayed', delay_ns: 406.2, rise: { shape: 'exponential', timeConstant_ns: 20 } };
+      d.mirror = { type: 'profile', depth_mm: 350, profile: { kind: 'table', points: [[100, 24000], [350, 29222]] }, returnLength_mm: 500 };
+    });
+    expect(shouldSplit({ preset: table, ions: 20_000 }, 2)).toBe(true);
+  });
+  it('control: split anyway (chunks traced directly), they would differ from the unsplit run', () => {
+    for (const preset of [profile, integrated]) {
+      const ions = 4_000;
+      const compiled = compilePreset(preset);
+      const ens = samplePopulation({ ...compiled.population, totalIons: ions, seed: 5 });
+      const whole = allocateTraceResult(ions);
+      traceEnsemble(compiled.model, ens, whole);
+      const parts = allocateTraceResult(ions);
+      traceEnsemble(compiled.model, ens, parts, { from: 0, to: 2_000, ions });
+      traceEnsemble(compiled.model, ens, parts, { from: 2_000, to: ions, ions });
+      expect(firstDifference(parts.flightTime_s, whole.flightTime_s)).toBeGreaterThanOrEqual(2_000);
+    }
+  });
 });
 
 describe('species sharing one charge-to-mass ratio share one transfer map', () => {
