@@ -117,7 +117,8 @@ export function mergeMirrorMapReports(fitted: MirrorMapReport, parts: readonly M
  * source's map is not. Runs the adaptive integrator carries from ion to ion are not split either:
  * it starts each solve from the previous ion's first step (AxialIntegrator, a good guess since
  * successive ions are alike), so an ion's numbers depend on the ions traced before it in the same
- * pass, and a chunk starting afresh differs in the last bits (measured: tests/simulation/runChunksSetups.test.ts).
+ * pass, and a chunk starting afresh differs (tests/simulation/runChunksSetups.test.ts; measured on
+ * 3 chunks of 2000 ions: 3852 to 4000 of 6000 flight times moved, by up to 6e-12 relative).
  * That is every region under `run.engine = "integrator"`, and a polynomial or harmonic mirror
  * profile (a pasted table is a stack of uniform stages, closed form). A rising pulse alone is in
  * closed form (pulsedStage) and is split.
