@@ -111,12 +111,28 @@ export function mergeMirrorMapReports(fitted: MirrorMapReport, parts: readonly M
 
 
 /**
- * True when a run of `preset` may be split: no solved source (read from the preset, so the page can
- * decide without compiling; tests check it agrees with the compiled model). A solved mirror's
- * transfer map is fitted once and shared (fitRunMap, RunMapShare).
+ * Why a run of `preset` may not be split over workers, or null when it may (read from the preset,
+ * so the page can decide without compiling; tests check it agrees with the compiled model). A
+ * solved mirror's transfer map is fitted once and shared (fitRunMap, RunMapShare); a solved
+ * source's map is not. Runs the adaptive integrator carries from ion to ion are not split either:
+ * it starts each solve from the previous ion's first step (AxialIntegrator, a good guess since
+ * successive ions are alike), so an ion's numbers depend on the ions traced before it in the same
+ * pass, and a chunk starting afresh differs (tests/simulation/runChunksSetups.test.ts; measured on
+ * 3 chunks of 2000 ions: 3852 to 4000 of 6000 flight times moved, by up to 6e-12 relative).
+ * That is every region under `run.engine = "integrator"`, and a polynomial or harmonic mirror
+ * profile (a pasted table is a stack of uniform stages, closed form). A rising pulse alone is in
+ * closed form (pulsedStage) and is split.
  */
+export function splitRefusal(preset: Preset): string | null {
+  if (preset.source.solved) return 'a run through a solved source field is not split over workers (its transfer map learns from the run\'s ions in order)';
+  const integrated = preset.run.engine === 'integrator' ? 'run.engine = "integrator"' : preset.mirror.type === 'profile' && preset.mirror.profile.kind !== 'table' ? `the ${preset.mirror.profile.kind} mirror profile` : null;
+  if (integrated) return `a run whose integrator carries its first step from ion to ion (${integrated}) is not split over workers: a chunk would not give the unsplit run's numbers`;
+  return null;
+}
+
+/** True when a run of `preset` may be split (splitRefusal gives the reason when not). */
 export function splitsOverWorkers(preset: Preset): boolean {
-  return !preset.source.solved;
+  return splitRefusal(preset) === null;
 }
 
 /** True when the run has a solved mirror (its chunks then share one worker's transfer map, when the run uses one). */

@@ -14,8 +14,8 @@
  * in order until its map is decided, as the unsplit run traces them; the species spread over the
  * workers, mergeMapFits joins them) and every worker restores the snapshot (plain arrays); from
  * there on every ion's crossing depends on that ion alone, so the chunks, skipping the ions the
- * fitting worker traced, give the unsplit run's numbers bit for bit. Runs through a solved source
- * are not split.
+ * fitting worker traced, give the unsplit run's numbers bit for bit. Runs through a solved source,
+ * and runs whose integrator carries its first step from ion to ion, are not split (splitRefusal).
  */
 import { allocateTraceResult, type Ensemble, type TraceResult } from '../ions/ensemble';
 import { samplePopulation } from '../ions/population';
@@ -27,7 +27,7 @@ import { SolvedFieldTracer } from '../physics/regions/solvedTracer';
 import { SolvedMirrorMapper } from '../physics/solvedMirrorMap';
 import { compilePreset } from '../presets/compile';
 import type { RunRequest } from './runContract';
-import { splitsOverWorkers, type RunMapFit, type RunMapShare, type TraceChunk } from './runChunkPlan';
+import { splitRefusal, type RunMapFit, type RunMapShare, type TraceChunk } from './runChunkPlan';
 
 export {
   balancedBounds,
@@ -41,6 +41,7 @@ export {
   mergeMirrorMapReports,
   MIN_CHUNK_IONS,
   overlayFitted,
+  splitRefusal,
   splitsOverWorkers,
   traceTransferables,
   type RunMapFit,
@@ -54,7 +55,8 @@ const FIT_BLOCK_IONS = 100;
 
 /** The run's model and its whole population, as simulate() samples it. */
 function sampleRun(request: RunRequest): { model: AnalyserModel; ensemble: Ensemble } {
-  if (!splitsOverWorkers(request.preset)) throw new Error('a run through a solved source field is not split over workers');
+  const refusal = splitRefusal(request.preset);
+  if (refusal !== null) throw new Error(refusal);
   const compiled = compilePreset(request.preset);
   const population = {
     ...compiled.population,

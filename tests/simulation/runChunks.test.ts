@@ -112,24 +112,40 @@ describe('joining chunks', () => {
 });
 
 describe('which runs are split', () => {
-  it('the preset tests agree with the compiled model for every shipped demo (solved sources are not split, solved mirrors are)', () => {
+  it('the preset tests agree with the compiled model for every shipped demo and edited ones (solved sources and integrator-carried runs are not split, solved mirrors are)', () => {
     const files = readdirSync(PRESETS).filter((f) => f.startsWith('demo-') && f.endsWith('.json'));
     expect(files.length).toBeGreaterThan(4);
+    // Besides the demos: the integrator everywhere, and mirror profiles of each kind (only a table is closed form).
+    const edited: Array<[string, Preset]> = [
+      ['linear demo, run.engine integrator', demo('demo-linear-delayed.json', (d) => (d.run.engine = 'integrator'))],
+      ['gridless demo, run.engine integrator', demo('demo-gridless-mirror.json', (d) => (d.run.engine = 'integrator'))],
+      ...(['polynomial', 'harmonic', 'table'] as const).map((kind): [string, Preset] => [
+        `single reflectron demo, ${kind} mirror profile`,
+        demo('demo-reflectron-single.json', (d) => {
+          const profile = kind === 'polynomial' ? { kind, coefficients_V: [26000, 3000] } : kind === 'harmonic' ? { kind, backPlate_V: 29222 } : { kind, points: [[100, 24000], [350, 29222]] };
+          d.mirror = { type: 'profile', depth_mm: 350, profile, returnLength_mm: 500 };
+        }),
+      ]),
+    ];
     let solvedSources = 0;
     let solvedMirrors = 0;
-    for (const file of files) {
-      const p = demo(file);
+    let integrated = 0;
+    for (const [file, p] of [...files.map((f): [string, Preset] => [f, demo(f)]), ...edited]) {
       const model = compilePreset(p).model;
       const source = model.source.solved !== undefined && model.source.solved !== null;
       const mirror = model.mirror?.solved !== undefined;
+      // The integrator carries its first step from ion to ion where it integrates every region or a mirror profile.
+      const carried = model.forceIntegrator || (model.mirror?.profile ?? null) !== null;
       if (source) solvedSources++;
       if (mirror) solvedMirrors++;
-      expect(splitsOverWorkers(p), file).toBe(!source);
+      if (carried) integrated++;
+      expect(splitsOverWorkers(p), file).toBe(!source && !carried);
       expect(hasSolvedMirror(p), file).toBe(mirror);
       expect(hasSolvedRegion(model), file).toBe(source || mirror);
     }
     expect(solvedSources).toBeGreaterThan(0);
     expect(solvedMirrors).toBeGreaterThan(0);
+    expect(integrated).toBe(4);
   });
 
   it('a chunk of a solved-source run is refused; a chunk through a mapped solved mirror needs the shared map', () => {
