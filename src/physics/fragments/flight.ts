@@ -8,7 +8,7 @@
  * backwards (kinetic-energy release) or pushed back across a grid by its new field. Each uniform stage
  * is crossed in closed form (firstExit: the first plane reached, either side); a source with rising
  * potentials uses the engine's closed form under pulses (crossSourceStageClosed) and a polynomial
- * mirror is integrated (crossProfileNumeric), both with the stop time as their end time. Solved-field
+ * mirror is integrated (the caller's AxialIntegrator: its first-step memory belongs to one run), both with the stop time as their end time. Solved-field
  * regions are not walked here: solvedDecay.ts crosses them with the solved-field tracer and uses this
  * walker only inside the ideal sections of such a model.
  *
@@ -19,7 +19,8 @@
 import type { AnalyserModel } from '../analyser';
 import { holdExactUntil, type ExactPlan, type IonState } from '../exactEngine';
 import { Fate } from '../fates';
-import { Exit, crossProfileNumeric } from '../numericRegions';
+import { Exit } from '../numericRegions';
+import type { AxialIntegrator } from '../regions/axialIntegrator';
 import { crossSourceStageClosed } from '../pulsedStage';
 import { createMotion, firstExit } from '../uniformField';
 import { settleTime_s, switchStart_s } from '../waveforms';
@@ -102,7 +103,7 @@ function coast(st: FlightState, dt: number, a: number): void {
  * Fly `st` with the charge-to-mass ratio of `plan` (qOverM 0 for a neutral) until `tStop` or its fate.
  * `behind` is the linear detector behind the mirror, if the analyser has one.
  */
-export function fly(st: FlightState, plan: ExactPlan, model: AnalyserModel, behind: BehindMirrorDetectorModel | null, tStop: number): number {
+export function fly(st: FlightState, plan: ExactPlan, model: AnalyserModel, behind: BehindMirrorDetectorModel | null, tStop: number, integrator: AxialIntegrator): number {
   const tLimit = model.maxFlightTime_s;
   const stop = Math.min(tStop, tLimit);
   for (let guard = 0; guard < 64; guard++) {
@@ -117,7 +118,7 @@ export function fly(st: FlightState, plan: ExactPlan, model: AnalyserModel, behi
         if (r < 0 && (st.leg as number) === Leg.MIRROR) st.w *= model.mirror?.entranceGridTransmission ?? 1;
         break;
       case Leg.MIRROR:
-        r = model.mirror?.profile ? flyProfileMirror(st, plan, model, stop) : flyStageMirror(st, plan, stop);
+        r = model.mirror?.profile ? flyProfileMirror(st, plan, model, stop, integrator) : flyStageMirror(st, plan, stop);
         break;
       case Leg.BEHIND:
         r = flyBehind(st, plan, behind, stop);
@@ -270,9 +271,9 @@ function flyStageMirror(st: FlightState, plan: ExactPlan, stop: number): number 
   return Flight.ENDED;
 }
 
-function flyProfileMirror(st: FlightState, plan: ExactPlan, model: AnalyserModel, stop: number): number {
+function flyProfileMirror(st: FlightState, plan: ExactPlan, model: AnalyserModel, stop: number, integrator: AxialIntegrator): number {
   const mirror = model.mirror!;
-  const exit = crossProfileNumeric(st, mirror.profile!, plan.qOverM, stop);
+  const exit = integrator.crossProfile(st, mirror.profile!, plan.qOverM, stop);
   if (exit === Exit.TIME_LIMIT) return Flight.STOPPED;
   if (exit === Exit.FAILED) {
     st.fate = Fate.INTEGRATION_FAILED;

@@ -31,6 +31,8 @@ import { createSolvedIonState, SolvedFieldTracer } from '../regions/solvedTracer
 import { LEG_COUNT, Leg, type BehindMirrorDetectorModel, type BlockDecayModel, type DecayProduct, type FragmentModel } from './decayModel';
 import { DECAY_STREAM_OFFSET, lifetimeDecayTime_s, pickChannel, releaseVelocity } from './decaySampling';
 import { createFlightState, fly, Flight, startFlight } from './flight';
+import { AxialIntegrator } from '../regions/axialIntegrator';
+import { legacyTally } from '../regions/legacyTally';
 import { NeutralSolvedKernel } from './neutralSolved';
 import type { BlockDecayCount, FragmentTrace, ProductBlock } from './traceFragments';
 
@@ -85,6 +87,8 @@ export class SolvedDecayWalker {
   private readonly scratch = createIonState();
   private readonly legState = createFlightState();
   private readonly exactPlan: ExactPlan = createExactPlan();
+  /** For the ideal sections' integrated crossings; its first-step memory stays within this run. */
+  private readonly integrator = new AxialIntegrator(legacyTally);
 
   constructor(
     private readonly model: AnalyserModel,
@@ -166,7 +170,7 @@ export class SolvedDecayWalker {
       fs.w = entry.w * (s === Section.MIRROR ? (model.mirror?.entranceGridTransmission ?? 1) : 1);
       fs.leg = s;
     }
-    if (fly(fs, this.exactPlan, model, this.behind, tStop_s) !== Flight.STOPPED || fs.leg !== s) return false;
+    if (fly(fs, this.exactPlan, model, this.behind, tStop_s, this.integrator) !== Flight.STOPPED || fs.leg !== s) return false;
     out.t = fs.t;
     out.section = s;
     out.z = fs.z;
@@ -186,6 +190,7 @@ export class SolvedProductFlight {
   private readonly ion = createIonState();
   private readonly legState = createFlightState();
   private readonly exactPlan: ExactPlan;
+  private readonly integrator = new AxialIntegrator(legacyTally);
   /** The driver's kernels, with the solved ones replaced by straight flight for a neutral. */
   private readonly kernels: readonly (RegionKernel | null)[];
   /** After fly: the product's fate, time, weight, speed and detector-plane position. */
@@ -233,7 +238,7 @@ export class SolvedProductFlight {
       fs.t = t;
       fs.w = w;
       fs.leg = Leg.BEHIND;
-      fly(fs, this.exactPlan, this.model, this.behind, Infinity);
+      fly(fs, this.exactPlan, this.model, this.behind, Infinity, this.integrator);
       fate = fs.fate;
       t = fs.t;
       w = fs.w;

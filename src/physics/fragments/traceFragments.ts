@@ -18,6 +18,8 @@ import { LEG_COUNT, Leg, type BlockDecayModel, type DecayProduct, type FragmentM
 import { DECAY_STREAM_OFFSET, lifetimeDecayTime_s, pickChannel, releaseVelocity } from './decaySampling';
 import { traceFragmentsSolved } from './solvedDecay';
 import { copyFlightState, createFlightState, fly, Flight, startFlight, type FlightState } from './flight';
+import { AxialIntegrator } from '../regions/axialIntegrator';
+import { legacyTally } from '../regions/legacyTally';
 import { createIonState, startIonState, type IonState as RegionIonState, type SectionCode } from '../regions/contract';
 import { createFlight } from '../regions/driver';
 import { chargeToMassIn } from '../regions/plan';
@@ -78,7 +80,7 @@ function planFor(model: AnalyserModel, product: DecayProduct): ExactPlan {
 }
 
 /** Where (and whether) precursor ion i decays; fills `st` with its state at the decay. */
-function decayPoint(model: AnalyserModel, fragments: FragmentModel, dm: BlockDecayModel, plan: ExactPlan, ens: Ensemble, i: number, u1: number, u2: number): boolean {
+function decayPoint(model: AnalyserModel, fragments: FragmentModel, dm: BlockDecayModel, plan: ExactPlan, ens: Ensemble, i: number, u1: number, u2: number, integrator: AxialIntegrator): boolean {
   const st = precursorState;
   const behind = fragments.behindMirror;
   let tDecay: number;
@@ -87,7 +89,7 @@ function decayPoint(model: AnalyserModel, fragments: FragmentModel, dm: BlockDec
   } else {
     if (!(u1 < dm.law.fraction)) return false;
     startFlight(st, ens.z0_m[i], ens.vz0_m_per_s[i]);
-    fly(st, plan, model, behind, Infinity);
+    fly(st, plan, model, behind, Infinity, integrator);
     const tIn = st.legEntry_s[dm.law.leg];
     if (Number.isNaN(tIn)) return false; // lost before it got there
     let tOut = st.t;
@@ -95,7 +97,7 @@ function decayPoint(model: AnalyserModel, fragments: FragmentModel, dm: BlockDec
     tDecay = tIn + u2 * (tOut - tIn);
   }
   startFlight(st, ens.z0_m[i], ens.vz0_m_per_s[i]);
-  return fly(st, plan, model, behind, tDecay) === Flight.STOPPED;
+  return fly(st, plan, model, behind, tDecay, integrator) === Flight.STOPPED;
 }
 
 /**
@@ -107,6 +109,8 @@ export function traceFragments(model: AnalyserModel, fragments: FragmentModel, e
   if (hasSolvedRegion(model)) return traceFragmentsSolved(model, fragments, ens, trace, seed);
   const products: ProductBlock[] = [];
   const counts: BlockDecayCount[] = [];
+  // The integrator (polynomial-profile mirror) keeps its first step from solve to solve: one per run, so that a run's numbers depend on nothing traced before it.
+  const integrator = new AxialIntegrator(legacyTally);
   fragments.blocks.forEach((dm, d) => {
     const from = ens.speciesStart[dm.block];
     const to = ens.speciesStart[dm.block + 1];
@@ -125,7 +129,7 @@ export function traceFragments(model: AnalyserModel, fragments: FragmentModel, e
       const uChannel = rng.uniform();
       const uCos = rng.uniform();
       const uPhi = rng.uniform();
-      if (!decayPoint(model, fragments, dm, plan, ens, from + k, u1, u2)) continue;
+      if (!decayPoint(model, fragments, dm, plan, ens, from + k, u1, u2, integrator)) continue;
       const st = precursorState;
       const c = pickChannel(branching, uChannel);
       const ch = dm.channels[c];
@@ -154,7 +158,7 @@ export function traceFragments(model: AnalyserModel, fragments: FragmentModel, e
     dm.channels.forEach((ch, c) => {
       for (const role of ['fragment', 'complement'] as const) {
         const product = ch[role];
-        const block = traceProducts(model, fragments, ens, from, scratch, c, role, product, ch, perChannel[c]);
+        const block = traceProducts(model, fragments, ens, from, scratch, c, role, product, ch, perChannel[c], integrator);
         products.push({ decayBlock: d, channel: c, role, product, ...block });
       }
     });
@@ -173,6 +177,7 @@ function traceProducts(
   product: DecayProduct,
   ch: { readonly fragment: DecayProduct; readonly complement: DecayProduct },
   count: number,
+  integrator: AxialIntegrator,
 ): Omit<ProductBlock, 'decayBlock' | 'channel' | 'role' | 'product'> {
   const out = allocateTraceResult(count);
   const decayTime_s = new Float64Array(count);
@@ -224,9 +229,9 @@ function traceProducts(
         st.fate = Fate.UNSET;
         st.leg = Leg.BEHIND;
         st.z = mirrorDepth_m(plan, model); // on the back plate
-        fly(st, plan, model, behind, Infinity);
+        fly(st, plan, model, behind, Infinity, integrator);
       }
-    } else fly(st, plan, model, behind, Infinity);
+    } else fly(st, plan, model, behind, Infinity, integrator);
     const vx = ens.vx0_m_per_s[i] + share * scratch.kick[3 * k + 1];
     const vy = ens.vy0_m_per_s[i] + share * scratch.kick[3 * k + 2];
     const x = ens.x0_m[i] + ens.vx0_m_per_s[i] * tDecay + vx * (st.t - tDecay);

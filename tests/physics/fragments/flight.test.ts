@@ -9,6 +9,7 @@ import { Fate } from '../../../src/physics/fates';
 import { ATOMIC_MASS_CONSTANT_KG, ELEMENTARY_CHARGE_C } from '../../../src/physics/constants';
 import { Leg } from '../../../src/physics/fragments/decayModel';
 import { copyFlightState, createFlightState, fly, Flight, startFlight } from '../../../src/physics/fragments/flight';
+import { AxialIntegrator } from '../../../src/physics/regions/axialIntegrator';
 import { traceSingleIon } from '../../../src/simulation/singleIon';
 
 function load(name: string, edit: (doc: Record<string, unknown>) => void = () => {}): Preset {
@@ -24,7 +25,7 @@ const rel = (a: number, b: number): number => Math.abs(a - b) / Math.abs(b);
 function flyWhole(model: AnalyserModel, mz: number, z0: number, v0: number) {
   const plan = prepareExactPlan(createExactPlan(), model, mz);
   const st = startFlight(createFlightState(), z0, v0);
-  const r = fly(st, plan, model, null, Infinity);
+  const r = fly(st, plan, model, null, Infinity, new AxialIntegrator());
   return { r, st };
 }
 
@@ -32,11 +33,12 @@ function flyWhole(model: AnalyserModel, mz: number, z0: number, v0: number) {
 function decayAt(model: AnalyserModel, mzP: number, mzF: number, z0: number, v0: number, tStop: number, kick = 0) {
   const planP = prepareExactPlan(createExactPlan(), model, mzP);
   const planF = prepareExactPlan(createExactPlan(), model, mzF);
+  const integrator = new AxialIntegrator();
   const st = startFlight(createFlightState(), z0, v0);
-  expect(fly(st, planP, model, null, tStop)).toBe(Flight.STOPPED);
+  expect(fly(st, planP, model, null, tStop, integrator)).toBe(Flight.STOPPED);
   const at = copyFlightState(createFlightState(), st);
   st.v += kick;
-  fly(st, planF, model, null, Infinity);
+  fly(st, planF, model, null, Infinity, integrator);
   return { at, st };
 }
 
@@ -163,18 +165,19 @@ describe('leg-by-leg flight from any state', () => {
     const mz = population.species[0].mz;
     const planP = prepareExactPlan(createExactPlan(), model, mz);
     const planN = prepareExactPlan(createExactPlan(), model, Infinity);
+    const integrator = new AxialIntegrator();
     const st = startFlight(createFlightState(), 0, 400);
-    fly(st, planP, model, null, 5e-6);
+    fly(st, planP, model, null, 5e-6, integrator);
     expect(st.leg).toBe(Leg.DRIFT);
     const { t, z, v } = st;
     const behind = { distance_m: 0.6, radius_m: Infinity };
-    fly(st, planN, model, behind, Infinity);
+    fly(st, planN, model, behind, Infinity, integrator);
     expect(st.fate).toBe(Fate.DETECTED_BEHIND_MIRROR);
     expect(st.v).toBe(v);
     expect(rel(st.t, t + (0.7 - z + 0.6) / v)).toBeLessThan(1e-12);
     const lost = startFlight(createFlightState(), 0, 400);
-    fly(lost, planP, model, null, 5e-6);
-    fly(lost, planN, model, null, Infinity);
+    fly(lost, planP, model, null, 5e-6, integrator);
+    fly(lost, planN, model, null, Infinity, integrator);
     expect(lost.fate).toBe(Fate.NEUTRAL_LOST);
   });
 });
