@@ -87,10 +87,13 @@ export function acquisitionSettings(preset: Preset, trace: TraceResult, from = 0
   if (start === undefined || length === undefined) {
     let lo = Infinity;
     let hi = -Infinity;
+    // The arrays in locals: traces come in several object shapes, and a property load per ion then costs more than the loop.
+    const fate = trace.fate;
+    const time = trace.flightTime_s;
     for (let i = from; i < to; i++) {
-      if (trace.fate[i] !== Fate.DETECTED) continue;
-      lo = Math.min(lo, trace.flightTime_s[i]);
-      hi = Math.max(hi, trace.flightTime_s[i]);
+      if (fate[i] !== Fate.DETECTED) continue;
+      lo = Math.min(lo, time[i]);
+      hi = Math.max(hi, time[i]);
     }
     if (!(hi >= lo)) return null;
     const margin = 8 * Math.hypot(acq.pulseWidth_ns / 2.3548, acq.detectorJitter_ns, acq.triggerJitter_ns) * 1e-9 + 20 * sample_s;
@@ -125,11 +128,13 @@ const toNs = (s: number | null): number | null => (s === null ? null : s * 1e9);
 
 /** Detected ions in [from, to) and their robust arrival-time sd (shortest 76.1 % interval / 2.3548, the sd of a gaussian). */
 function ionSpread(trace: TraceResult, from: number, to: number): [number, number] {
+  const fate = trace.fate;
+  const time = trace.flightTime_s;
   let n = 0;
-  for (let i = from; i < to; i++) if (trace.fate[i] === Fate.DETECTED) n++;
+  for (let i = from; i < to; i++) if (fate[i] === Fate.DETECTED) n++;
   if (n < 2) return [n, 0];
   const t = new Float64Array(n);
-  for (let i = from, k = 0; i < to; i++) if (trace.fate[i] === Fate.DETECTED) t[k++] = trace.flightTime_s[i];
+  for (let i = from, k = 0; i < to; i++) if (fate[i] === Fate.DETECTED) t[k++] = time[i];
   t.sort();
   const inside = Math.max(1, Math.ceil(GAUSSIAN_FWHM_FRACTION * n) - 1);
   let shortest = Infinity;

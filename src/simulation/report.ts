@@ -140,10 +140,13 @@ export function speciesIonStart(ens: Ensemble): Int32Array {
 function blockReport(ens: Ensemble, trace: TraceResult, s: number): SpeciesReport {
   const from = ens.speciesStart[s];
   const to = ens.speciesStart[s + 1];
+  // The arrays in locals: traces come in several object shapes (a property load per ion would dominate).
+  const fate = trace.fate;
+  const time = trace.flightTime_s;
   let detected = 0;
-  for (let i = from; i < to; i++) if (trace.fate[i] === Fate.DETECTED) detected++;
+  for (let i = from; i < to; i++) if (fate[i] === Fate.DETECTED) detected++;
   const times = new Float64Array(detected);
-  for (let i = from, k = 0; i < to; i++) if (trace.fate[i] === Fate.DETECTED) times[k++] = trace.flightTime_s[i];
+  for (let i = from, k = 0; i < to; i++) if (fate[i] === Fate.DETECTED) times[k++] = time[i];
   times.sort();
   const stats = arrivalStats(times);
   const info = ens.species[s];
