@@ -182,7 +182,13 @@ export function buildAnalysisSections(
   ens: Ensemble,
   trace: TraceResult,
   meanFlightTime_s: readonly (number | null)[],
-  options: { readonly withSpectrum?: boolean; readonly peaksOnly?: boolean; readonly spectrumTrace?: TraceResult } = {},
+  options: {
+    readonly withSpectrum?: boolean;
+    readonly peaksOnly?: boolean;
+    readonly spectrumTrace?: TraceResult;
+    /** Build the focus section (default true); the page asks for it apart (src/simulation/runOutput.ts, runExtras). */
+    readonly focus?: boolean;
+  } = {},
 ): AnalysisSections {
   // The full spectrum also records what else reached the detector (fragment ions: src/simulation/fragmentReport.ts).
   const recorded = options.spectrumTrace ?? trace;
@@ -217,7 +223,7 @@ export function buildAnalysisSections(
       mz: coeffs ? timeAxisToMz(full.time_s, coeffs).mz : null,
     };
   }
-  return { speciesPeaks, calibration, focus: focusSection(preset, model, population), spectrum };
+  return { speciesPeaks, calibration, focus: options.focus === false ? null : focusSection(preset, model, population), spectrum };
 }
 
 function toSeconds(c: CalibrationSection['coefficients']): CalibrationCoefficients {
@@ -288,7 +294,8 @@ function referenceStart(population: PopulationSpec, mass_kg: number) {
   return { z0, zSpread, U0, USpread };
 }
 
-function focusSection(preset: Preset, model: AnalyserModel, population: PopulationSpec): FocusSection | { readonly error: string } {
+/** The focus analysis of the preset's reference ion (single ions traced on the run's model; no ensemble needed). */
+export function focusSection(preset: Preset, model: AnalyserModel, population: PopulationSpec): FocusSection | { readonly error: string } {
   const refMz = preset.analysis?.focusReferenceMz;
   const species =
     refMz === undefined ? population.species[0] : population.species.reduce((a, b) => (Math.abs(b.mz - refMz) < Math.abs(a.mz - refMz) ? b : a));

@@ -31,6 +31,8 @@ export interface RunOptions {
    * only the per-species spectrum peaks (what a scan ranked by the measured R needs).
    */
   readonly analysis?: boolean | 'peaks';
+  /** With the analysis: also its focus section (default true); a page that draws the headline first asks for it apart. */
+  readonly focus?: boolean;
   /**
    * The per-ion trace of this run's population, already computed (a run split over workers:
    * src/simulation/runChunks.ts); used in place of tracing. Not for a solved source.
@@ -83,7 +85,12 @@ export function simulate(preset: Preset, options: RunOptions = {}): SimulationRe
           ensemble,
           trace,
           report.species.map((s) => (s.flightTime_ns === null ? null : s.flightTime_ns * 1e-9)),
-          { withSpectrum: options.withSpectrum, peaksOnly: options.analysis === 'peaks', ...(fragmentTrace ? { spectrumTrace: withProducts(trace, fragmentTrace) } : {}) },
+          {
+            withSpectrum: options.withSpectrum,
+            peaksOnly: options.analysis === 'peaks',
+            focus: options.focus,
+            ...(fragmentTrace ? { spectrumTrace: withProducts(trace, fragmentTrace) } : {}),
+          },
         );
   const ionLoad = load && options.analysis !== false ? ionLoadSections(preset, compiled.model, ensemble, trace, load, population.seed) : null;
   const analysed = { ...attachAnalysis(report, analysis), ...(ionLoad ? { ionLoad } : {}), ...(mirrorMap ? { solvedMirrorMap: mirrorMap } : {}), ...(sourceMap ? { solvedSourceMap: sourceMap } : {}) };

@@ -2,7 +2,11 @@
 import { focusScan } from '../analysis/focusScan';
 import type { TraceResult } from '../ions/ensemble';
 import type { MirrorMapReport } from '../physics/solvedMirrorMap';
-import type { RunOutput, RunRequest } from './runContract';
+import type { RunExtras, RunExtrasRequest, RunOutput, RunRequest } from './runContract';
+import { compilePreset } from '../presets/compile';
+import { samplePopulation } from '../ions/population';
+import { compileFragments } from '../presets/compileFragments';
+import { focusSection } from './analysisReport';
 import { pulseReach } from './pulseReach';
 import { simulate } from './run';
 import { speciesIonStart } from './report';
@@ -15,7 +19,14 @@ import { fragmentSceneTransferables } from './fragmentSceneData';
 /** `traced`: the run's per-ion trace when it was computed elsewhere (a split run, src/simulation/runChunks.ts); `mirrorMap`: then how it crossed a solved mirror. */
 export function runRequest(request: RunRequest, now: () => number = () => performance.now(), traced?: TraceResult, mirrorMap?: MirrorMapReport): RunOutput {
   const start = now();
-  const result = simulate(request.preset, { ions: request.ions, seed: request.seed, analysis: request.analysis, ...(traced ? { traced } : {}), ...(mirrorMap ? { mirrorMap } : {}) });
+  const result = simulate(request.preset, {
+    ions: request.ions,
+    seed: request.seed,
+    analysis: request.analysis,
+    focus: request.focus,
+    ...(traced ? { traced } : {}),
+    ...(mirrorMap ? { mirrorMap } : {}),
+  });
   const elapsed_ms = now() - start;
   const scene = request.scene ? runScene(request.preset, result.compiled, request.scene) : null;
   return {
@@ -32,6 +43,34 @@ export function runRequest(request: RunRequest, now: () => number = () => perfor
     ...(scene && result.fragments ? { fragmentScene: traceFragmentScene(result.compiled, result.fragments.model, scene.layout) } : {}),
     ...(result.fragments ? { products: productArrays(result.fragments.trace, result.fragments.report, (d) => result.fragments!.model.blocks[d].species) } : {}),
   };
+}
+
+/**
+ * The parts of a run that read nothing of its per-ion trace: the focus section, the focus scan, the
+ * scene (and the decay products' paths). Each is what runRequest would have put in its output for
+ * the same request (the same functions on the same compiled model), so a page may draw the run's
+ * charts first and these when they come.
+ */
+export function runExtras(request: RunExtrasRequest, now: () => number = () => performance.now()): RunExtras {
+  const start = now();
+  const compiled = compilePreset(request.preset);
+  const population = { ...compiled.population, totalIons: request.ions ?? compiled.population.totalIons, seed: request.seed ?? compiled.population.seed };
+  const withPopulation = { ...compiled, population };
+  const scene = request.scene ? runScene(request.preset, withPopulation, request.scene) : null;
+  // The decay model is per species block of the ensemble (isotope peaks included); the worker keeps its last samples.
+  const fragments = scene && request.preset.ions.species.some((s) => s.decay) ? compileFragments(request.preset, samplePopulation(population).species) : null;
+  return {
+    ...(request.focus ? { focus: focusSection(request.preset, compiled.model, population) } : {}),
+    ...(request.focusScan ? { focusScan: focusScan(compiled.model, request.preset) } : {}),
+    ...(scene ? { scene } : {}),
+    ...(scene && fragments ? { fragmentScene: traceFragmentScene(withPopulation, fragments, scene.layout) } : {}),
+    elapsed_ms: now() - start,
+  };
+}
+
+/** Buffers of RunExtras, for zero-copy transfer out of a worker. */
+export function runExtrasTransferables(out: RunExtras): ArrayBuffer[] {
+  return [...(out.scene ? sceneTransferables(out.scene) : []), ...(out.fragmentScene ? fragmentSceneTransferables(out.fragmentScene) : [])] as ArrayBuffer[];
 }
 
 /** Buffers of a RunOutput, for zero-copy transfer out of a worker. */

@@ -62,7 +62,12 @@ export async function startApp(): Promise<void> {
   const spectrum = new SpectrumChart(byId('spectrum'));
   const zoomSelect = byId<HTMLSelectElement>('zoom-peak');
   const renderer = new RunRenderer(spectrum, scene, zoomSelect);
-  const runs = new RunQueue(engine, (job, output) => renderer.render(job, output), (message) => (statusLine.textContent = message));
+  const runs = new RunQueue(
+    engine,
+    (job, output) => renderer.render(job, output),
+    (job, extras) => renderer.renderExtras(job, extras),
+    (message) => (statusLine.textContent = message),
+  );
 
   const panel = new ParameterPanel(byId('panel-host'), byId('panel-issues'), {
     onEdit: (draft, phase) => {

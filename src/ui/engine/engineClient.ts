@@ -3,7 +3,7 @@
  * a cancel that works at once. Backed by the worker pool client (src/tuning/workerClient.ts,
  * workers/pool.ts), which terminates and respawns its workers on cancel and rejects what was pending.
  */
-import type { RunOutput, RunRequest } from '../../simulation/runContract';
+import type { RunExtras, RunExtrasRequest, RunOutput, RunRequest } from '../../simulation/runContract';
 import type { Progress, ScanRequest, ScanResult, TuneRequest, TuneResult } from '../../tuning/api';
 import { CancelledError } from '../../tuning/errors';
 import type { EngineWorkerClient } from '../../tuning/workerClient';
@@ -11,8 +11,20 @@ import type { ToleranceRequest, ToleranceResult } from '../../tolerance/analysis
 import { createEngineWorkerPool, defaultPoolSize } from '../../../workers/pool';
 import { shouldSplit, splitRun, type SplitRunLane } from './splitRun';
 
+/** A run asked for in two parts: the headline (report without focus, per-ion arrays) and the extras (focus, focus scan, scene). */
+export interface RunParts {
+  readonly headline: Promise<RunOutput>;
+  readonly extras: Promise<RunExtras>;
+}
+
 export interface EngineClient {
   run(request: RunRequest): Promise<RunOutput>;
+  /**
+   * The run of `request` with its focus section, focus scan and scene computed apart (on another
+   * worker where there is one), so the charts can be drawn before them. Both parts together hold
+   * what `run(request)` returns, with the same numbers.
+   */
+  runParts(request: RunRequest): RunParts;
   scan(request: ScanRequest, onProgress?: (p: Progress) => void): Promise<ScanResult>;
   optimise(request: TuneRequest, onProgress?: (p: Progress) => void): Promise<TuneResult>;
   /** The stability analysis (src/tolerance/); optional so that other engines need not offer it. */
@@ -26,6 +38,24 @@ export function isCancelled(err: unknown): boolean {
   return err instanceof CancelledError || (err instanceof Error && err.name === 'CancelledError');
 }
 
+/** A worker as runParts calls it for the extras (workers/engine.worker.ts). */
+interface ExtrasLane {
+  runExtras(request: RunExtrasRequest): Promise<RunExtras>;
+}
+
+/** `lane` with `onChunk` called when a chunk is posted to it. */
+function afterChunk(lane: SplitRunLane, onChunk: () => void): SplitRunLane {
+  return {
+    traceRunChunk: (...args) => {
+      const chunk = lane.traceRunChunk(...args);
+      onChunk();
+      return chunk;
+    },
+    fitRunMap: (...args) => lane.fitRunMap(...args),
+    finishRun: (...args) => lane.finishRun(...args),
+  };
+}
+
 class PoolEngineClient implements EngineClient {
   constructor(private readonly client: EngineWorkerClient) {}
 
@@ -33,6 +63,35 @@ class PoolEngineClient implements EngineClient {
     // Split over the pool where that keeps the numbers (no solved field) and is worth it.
     if (shouldSplit(request, this.client.size)) return this.client.onLanes<SplitRunLane, RunOutput>((lanes, guard) => splitRun(lanes as unknown as SplitRunLane[], request, guard));
     return this.client.run(request);
+  }
+
+  runParts(request: RunRequest): RunParts {
+    const { scene, focusScan, focus, ...rest } = request;
+    const headlineRequest: RunRequest = { ...rest, focus: false };
+    const extrasRequest: RunExtrasRequest = { preset: request.preset, ions: request.ions, seed: request.seed, focus: request.analysis !== false && focus !== false, focusScan, scene };
+    // The extras follow the headline's messages. An unsplit run's go to its own worker, to run while
+    // the page draws the charts: on another worker they would take a core from the headline when the
+    // machine is busy (measured, 2 cores). A split run finishes on the first worker; its extras go to
+    // the last, behind that one's chunk, and run while the first finishes.
+    let posted!: () => void;
+    let lane = 0;
+    let failed!: (error: unknown) => void;
+    const headlinePosted = new Promise<void>((resolve, reject) => ((posted = resolve), (failed = reject)));
+    let headline: Promise<RunOutput>;
+    if (shouldSplit(headlineRequest, this.client.size)) {
+      lane = this.client.size - 1;
+      headline = this.client.onLanes<SplitRunLane, RunOutput>((lanes, guard) =>
+        // Every chunk is posted in one synchronous pass: the extras follow them, not the map fits before them.
+        splitRun(lanes.map((lane) => afterChunk(lane as unknown as SplitRunLane, () => queueMicrotask(posted))), headlineRequest, guard),
+      );
+    } else {
+      headline = this.client.run(headlineRequest);
+      posted();
+    }
+    // A headline that fails before its chunks were posted (a map fit) takes its extras with it.
+    headline.catch(failed);
+    const extras = headlinePosted.then(() => this.client.onLanes<ExtrasLane, RunExtras>((lanes, guard) => guard(() => lanes[Math.min(lane, lanes.length - 1)].runExtras(extrasRequest))));
+    return { headline, extras };
   }
 
   scan(request: ScanRequest, onProgress?: (p: Progress) => void): Promise<ScanResult> {
