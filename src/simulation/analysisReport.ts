@@ -135,7 +135,13 @@ function ionSpread(trace: TraceResult, from: number, to: number): [number, numbe
   if (n < 2) return [n, 0];
   const t = new Float64Array(n);
   for (let i = from, k = 0; i < to; i++) if (fate[i] === Fate.DETECTED) t[k++] = time[i];
-  t.sort();
+  return sortedSpread(t.sort());
+}
+
+/** ionSpread of the detected flight times already sorted ascending. */
+function sortedSpread(t: Float64Array): [number, number] {
+  const n = t.length;
+  if (n < 2) return [n, 0];
   const inside = Math.max(1, Math.ceil(GAUSSIAN_FWHM_FRACTION * n) - 1);
   let shortest = Infinity;
   for (let i = 0; i + inside < n; i++) shortest = Math.min(shortest, t[i + inside] - t[i]);
@@ -188,6 +194,8 @@ export function buildAnalysisSections(
     readonly spectrumTrace?: TraceResult;
     /** Build the focus section (default true); the page asks for it apart (src/simulation/runOutput.ts, runExtras). */
     readonly focus?: boolean;
+    /** Per ensemble species block, its detected flight times of `trace` sorted ascending (buildReport's sortedOut), to spare sorting them again. */
+    readonly sortedTimes?: readonly Float64Array[];
   } = {},
 ): AnalysisSections {
   // The full spectrum also records what else reached the detector (fragment ions: src/simulation/fragmentReport.ts).
@@ -200,7 +208,8 @@ export function buildAnalysisSections(
       const to = ens.speciesStart[s + 1];
       const own = acquisitionSettings(preset, trace, from, to);
       if (!own) continue; // no detected ion of this species
-      speciesPeaks[s] = measureSpeciesPeak(trace, from, to, own);
+      const sorted = options.sortedTimes?.[s];
+      speciesPeaks[s] = measureSpeciesPeak(trace, from, to, own, sorted ? sortedSpread(sorted) : undefined);
     }
   }
 

@@ -74,7 +74,8 @@ export function simulate(preset: Preset, options: RunOptions = {}): SimulationRe
   // Metastable decay: precursors that fall apart become DECAYED, their products are traced on.
   const fragmentModel = compileFragments(preset, ensemble.species);
   const fragmentTrace = fragmentModel ? traceFragments(compiled.model, fragmentModel, ensemble, trace, population.seed) : null;
-  const report = buildReport(ensemble, trace);
+  const sortedTimes: Float64Array[] = [];
+  const report = buildReport(ensemble, trace, sortedTimes);
   const analysis =
     options.analysis === false
       ? noAnalysis(ensemble)
@@ -89,6 +90,7 @@ export function simulate(preset: Preset, options: RunOptions = {}): SimulationRe
             withSpectrum: options.withSpectrum,
             peaksOnly: options.analysis === 'peaks',
             focus: options.focus,
+            sortedTimes,
             ...(fragmentTrace ? { spectrumTrace: withProducts(trace, fragmentTrace) } : {}),
           },
         );
