@@ -31,7 +31,7 @@ describe('species peaks from the report’s sorted times', () => {
       expect(own.speciesPeaks.some((p) => p !== null && p.shotNoiseSmoothing_ns > 0)).toBe(true);
       expect(reused.speciesPeaks).toEqual(own.speciesPeaks);
       own.speciesPeaks.forEach((p, s) => {
-        if (p) for (const [k, v] of Object.entries(p)) expect(Object.is(v, (reused.speciesPeaks[s] as Record<string, unknown>)[k]), `${k} of block ${s}`).toBe(true);
+        if (p) for (const [k, v] of Object.entries(p)) expect(Object.is(v, (reused.speciesPeaks[s] as unknown as Record<string, unknown>)[k]), `${k} of block ${s}`).toBe(true);
       });
       expect(reused.calibration).toEqual(own.calibration);
     });
