@@ -196,13 +196,17 @@ export function buildAnalysisSections(
     readonly focus?: boolean;
     /** Per ensemble species block, its detected flight times of `trace` sorted ascending (buildReport's sortedOut), to spare sorting them again. */
     readonly sortedTimes?: readonly Float64Array[];
+    /** Per ensemble species block, its peak already measured on this trace (speciesPeaksPart: the page's runs share the peaks out over two workers). */
+    readonly givenPeaks?: readonly (SpectrumPeakReport | null)[];
   } = {},
 ): AnalysisSections {
   // The full spectrum also records what else reached the detector (fragment ions: src/simulation/fragmentReport.ts).
   const recorded = options.spectrumTrace ?? trace;
   const settings = acquisitionSettings(preset, recorded);
   const speciesPeaks: (SpectrumPeakReport | null)[] = ens.species.map(() => null);
-  if (settings) {
+  if (settings && options.givenPeaks) {
+    for (let s = 0; s < ens.species.length; s++) speciesPeaks[s] = options.givenPeaks[s] ?? null;
+  } else if (settings) {
     for (let s = 0; s < ens.species.length; s++) {
       const from = ens.speciesStart[s];
       const to = ens.speciesStart[s + 1];
@@ -301,6 +305,23 @@ function referenceStart(population: PopulationSpec, mass_kg: number) {
     USpread = U0;
   }
   return { z0, zSpread, U0, USpread };
+}
+
+/**
+ * Which ensemble species blocks part `part` of `parts` measures when a run's species peaks are
+ * shared out: blocks in order, each to the part with the fewest ions so far (part 0, which then
+ * finishes the run, starts behind by an eighth of the ions).
+ */
+export function peakBlocksOf(speciesStart: Int32Array, part: number, parts: number): boolean[] {
+  const load = Array.from({ length: parts }, (_, k) => (k === 0 ? speciesStart[speciesStart.length - 1] / 8 : 0));
+  const mine: boolean[] = [];
+  for (let s = 0; s + 1 < speciesStart.length; s++) {
+    let least = 0;
+    for (let k = 1; k < parts; k++) if (load[k] < load[least]) least = k;
+    load[least] += speciesStart[s + 1] - speciesStart[s];
+    mine.push(least === part);
+  }
+  return mine;
 }
 
 /** The focus analysis of the preset's reference ion (single ions traced on the run's model; no ensemble needed). */

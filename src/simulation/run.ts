@@ -11,7 +11,7 @@ import { traceEnsemble } from '../physics/regions/driver';
 import type { MirrorMapReport } from '../physics/solvedMirrorMap';
 import type { SourceMapReport } from '../physics/solvedSourceMap';
 import { attachAnalysis, buildReport, type RunReport } from './report';
-import { buildAnalysisSections, type AnalysisSections } from './analysisReport';
+import { buildAnalysisSections, type AnalysisSections, type SpectrumPeakReport } from './analysisReport';
 import { ionLoadSections, traceIonLoad, type IonLoadReport } from './ionLoad';
 import { compileFragments } from '../presets/compileFragments';
 import type { FragmentModel } from '../physics/fragments/decayModel';
@@ -33,6 +33,8 @@ export interface RunOptions {
   readonly analysis?: boolean | 'peaks';
   /** With the analysis: also its focus section (default true); a page that draws the headline first asks for it apart. */
   readonly focus?: boolean;
+  /** Per ensemble species block, its spectrum peak already measured on this run's trace (src/simulation/runOutput.ts, speciesPeaksPart). */
+  readonly givenPeaks?: readonly (SpectrumPeakReport | null)[];
   /**
    * The per-ion trace of this run's population, already computed (a run split over workers:
    * src/simulation/runChunks.ts); used in place of tracing. Not for a solved source.
@@ -91,6 +93,7 @@ export function simulate(preset: Preset, options: RunOptions = {}): SimulationRe
             peaksOnly: options.analysis === 'peaks',
             focus: options.focus,
             sortedTimes,
+            givenPeaks: options.givenPeaks,
             ...(fragmentTrace ? { spectrumTrace: withProducts(trace, fragmentTrace) } : {}),
           },
         );

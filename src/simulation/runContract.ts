@@ -7,6 +7,7 @@
 import type { FocusScan } from '../analysis/focusScan';
 import type { Preset } from '../presets/schema';
 import type { RunReport } from './report';
+import type { SpectrumPeakReport } from './analysisReport';
 import type { RunScene, SceneRequest } from './scene/sceneData';
 import type { ProductArrays } from './productArrays';
 import type { FragmentScene } from './fragmentSceneData';
@@ -29,6 +30,8 @@ export interface RunRequest {
    * and the focus scan out of the run and asks for them with `runExtras`, so the charts need not wait.
    */
   readonly focus?: boolean;
+  /** Per ensemble species block, its spectrum peak already measured on this run (`speciesPeaksPart`, shared out over two workers). */
+  readonly givenPeaks?: readonly (SpectrumPeakReport | null)[];
 }
 
 /**

@@ -6,7 +6,7 @@ import type { RunExtras, RunExtrasRequest, RunOutput, RunRequest } from './runCo
 import { compilePreset } from '../presets/compile';
 import { samplePopulation } from '../ions/population';
 import { compileFragments } from '../presets/compileFragments';
-import { focusSection } from './analysisReport';
+import { acquisitionSettings, focusSection, measureSpeciesPeak, peakBlocksOf, type SpectrumPeakReport } from './analysisReport';
 import { pulseReach } from './pulseReach';
 import { simulate } from './run';
 import { speciesIonStart } from './report';
@@ -24,6 +24,7 @@ export function runRequest(request: RunRequest, now: () => number = () => perfor
     seed: request.seed,
     analysis: request.analysis,
     focus: request.focus,
+    givenPeaks: request.givenPeaks,
     ...(traced ? { traced } : {}),
     ...(mirrorMap ? { mirrorMap } : {}),
   });
@@ -67,6 +68,28 @@ export function runExtras(request: RunExtrasRequest, now: () => number = () => p
     elapsed_ms: now() - start,
   };
 }
+
+/**
+ * The spectrum peaks of part `part` of `parts` of a run's species blocks (peakBlocksOf; null for
+ * the other blocks, and for blocks without a detected ion), each as the run measures it, and the
+ * trace they were measured on. For runs that sample and trace the same way every time (no ion load,
+ * no decay, no solved source): the page shares the most costly part of an exact run, the
+ * simulated digitizer's spectra, over two workers, then finishes it with `givenPeaks`.
+ */
+export function speciesPeaksPart(request: RunRequest, part: number, parts: number): { readonly peaks: (SpectrumPeakReport | null)[]; readonly trace: TraceResult } {
+  const result = simulate(request.preset, { ions: request.ions, seed: request.seed, analysis: false });
+  const { ensemble, trace } = result;
+  const mine = peakBlocksOf(ensemble.speciesStart, part, parts);
+  const peaks = mine.map((wanted, s) => {
+    if (!wanted) return null;
+    const from = ensemble.speciesStart[s];
+    const to = ensemble.speciesStart[s + 1];
+    const own = acquisitionSettings(request.preset, trace, from, to);
+    return own ? measureSpeciesPeak(trace, from, to, own) : null;
+  });
+  return { peaks, trace };
+}
+
 
 /** Buffers of RunExtras, for zero-copy transfer out of a worker. */
 export function runExtrasTransferables(out: RunExtras): ArrayBuffer[] {

@@ -9,7 +9,10 @@ import { readFileSync } from 'node:fs';
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import { parsePresetText } from '../../src/presets/load';
 import type { Preset } from '../../src/presets/schema';
-import { runExtras, runRequest } from '../../src/simulation/runOutput';
+import { runExtras, runRequest, speciesPeaksPart } from '../../src/simulation/runOutput';
+import { peakBlocksOf } from '../../src/simulation/analysisReport';
+import { sharesPeaks } from '../../src/ui/engine/engineClient';
+import { simulate } from '../../src/simulation/run';
 import type { RunExtras, RunOutput, RunRequest } from '../../src/simulation/runContract';
 import { RunQueue, type RunJob } from '../../src/ui/app/runQueue';
 import type { EngineClient, RunParts } from '../../src/ui/engine/engineClient';
@@ -45,6 +48,39 @@ describe('a run in two parts', () => {
       if (name.startsWith('decay')) expect(extras.fragmentScene?.vertices ?? 0).toBeGreaterThan(0);
     });
   }
+});
+
+describe('an exact run with its species peaks shared over two workers', () => {
+  for (const name of ['demo-linear-delayed', 'demo-peptide-isotopes', 'demo-reflectron-dual'] as const) {
+    it(`equals the one-worker run: ${name}`, () => {
+      const preset = demoPreset(name);
+      const request: RunRequest = { preset, ions: 3000, seed: 3, focus: false };
+      expect(sharesPeaks(request)).toBe(true);
+      const whole = runRequest(request);
+      const first = speciesPeaksPart(request, 0, 2);
+      const second = speciesPeaksPart(request, 1, 2);
+      // Every block measured by exactly one part; each part has some.
+      const blocks = simulate(preset, { ions: 3000, seed: 3, analysis: false }).ensemble.speciesStart;
+      const mine = peakBlocksOf(blocks, 0, 2);
+      expect(mine).toHaveLength(blocks.length - 1);
+      expect(mine.some((m) => m) && mine.some((m) => !m)).toBe(true);
+      // A part measures only its own blocks (a block without a detected ion has no peak either way).
+      mine.forEach((m, s) => expect((m ? second : first).peaks[s]).toBeNull());
+      expect(first.peaks.some((p) => p !== null) && second.peaks.some((p) => p !== null)).toBe(true);
+      const givenPeaks = first.peaks.map((p, s) => p ?? second.peaks[s] ?? null);
+      const finished = runRequest({ ...request, givenPeaks }, undefined, first.trace);
+      expect(finished.report).toEqual(whole.report);
+      expect(finished.flightTime_s).toEqual(whole.flightTime_s);
+      expect(finished.fate).toEqual(whole.fate);
+    });
+  }
+
+  it('is not used where the trace depends on more than the preset, ions and seed', () => {
+    expect(sharesPeaks({ preset: shipped('demo-fragments-linear') })).toBe(false);
+    expect(sharesPeaks({ preset: demoPreset('demo-gridless-mirror') })).toBe(false);
+    expect(sharesPeaks({ preset: demoPreset('demo-aperture-source') })).toBe(false);
+    expect(sharesPeaks({ preset: demoPreset('demo-linear-delayed'), analysis: false })).toBe(false);
+  });
 });
 
 /** An engine whose parts the test settles by hand. */
