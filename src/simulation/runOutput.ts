@@ -1,6 +1,8 @@
 /** Turns a simulation result into the run contract's `RunOutput` (shared by the worker and in-process callers). */
 import { focusScan } from '../analysis/focusScan';
-import type { TraceResult } from '../ions/ensemble';
+import { allocateTraceResult, type TraceResult } from '../ions/ensemble';
+import { applyDetectorPlane } from '../physics/exactEngine';
+import { traceEnsemble } from '../physics/regions/driver';
 import type { MirrorMapReport } from '../physics/solvedMirrorMap';
 import type { RunExtras, RunExtrasRequest, RunOutput, RunRequest } from './runContract';
 import { compilePreset } from '../presets/compile';
@@ -72,13 +74,19 @@ export function runExtras(request: RunExtrasRequest, now: () => number = () => p
 /**
  * The spectrum peaks of part `part` of `parts` of a run's species blocks (peakBlocksOf; null for
  * the other blocks, and for blocks without a detected ion), each as the run measures it, and the
- * trace they were measured on. For runs that sample and trace the same way every time (no ion load,
- * no decay, no solved source): the page shares the most costly part of an exact run, the
+ * trace they were measured on (which the finishing run may take as `traced`). Only for runs whose
+ * trace is simulate()'s trace, detector plane applied, and nothing more (no ion load, no decay, no
+ * solved region): the page shares the most costly part of an exact run, the
  * simulated digitizer's spectra, over two workers, then finishes it with `givenPeaks`.
  */
 export function speciesPeaksPart(request: RunRequest, part: number, parts: number): { readonly peaks: (SpectrumPeakReport | null)[]; readonly trace: TraceResult } {
-  const result = simulate(request.preset, { ions: request.ions, seed: request.seed, analysis: false });
-  const { ensemble, trace } = result;
+  // simulate()'s trace without its report: sample, trace, detector plane (runs that share their
+  // peaks have no ion load, decay or solved region, so nothing else changes the trace).
+  const compiled = compilePreset(request.preset);
+  const ensemble = samplePopulation({ ...compiled.population, totalIons: request.ions ?? compiled.population.totalIons, seed: request.seed ?? compiled.population.seed });
+  const trace = allocateTraceResult(ensemble.count);
+  traceEnsemble(compiled.model, ensemble, trace);
+  applyDetectorPlane(compiled.model, ensemble, trace);
   const mine = peakBlocksOf(ensemble.speciesStart, part, parts);
   const peaks = mine.map((wanted, s) => {
     if (!wanted) return null;

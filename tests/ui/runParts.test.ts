@@ -51,9 +51,16 @@ describe('a run in two parts', () => {
 });
 
 describe('an exact run with its species peaks shared over two workers', () => {
-  for (const name of ['demo-linear-delayed', 'demo-peptide-isotopes', 'demo-reflectron-dual'] as const) {
+  const linear = demoPreset('demo-linear-delayed');
+  const rising: Preset = { ...linear, source: { ...linear.source, extraction: { mode: 'delayed', delay_ns: 228, rise: { shape: 'exponential', timeConstant_ns: 12 } } } };
+  const shared: [string, Preset][] = [
+    ['linear delayed extraction', linear],
+    ['isotope peaks', demoPreset('demo-peptide-isotopes')],
+    ['two-stage reflectron', demoPreset('demo-reflectron-dual')],
+    ['rising pulse (integrated source)', rising],
+  ];
+  for (const [name, preset] of shared) {
     it(`equals the one-worker run: ${name}`, () => {
-      const preset = demoPreset(name);
       const request: RunRequest = { preset, ions: 3000, seed: 3, focus: false };
       expect(sharesPeaks(request)).toBe(true);
       const whole = runRequest(request);
