@@ -31,12 +31,15 @@ async function measure(page: Page, s: Scenario): Promise<{ update: number[]; eng
 }
 
 const json = process.argv.includes('--json');
+// `--query '?sharePeaks=0'`: page address options, to compare settings of one build.
+const queryArg = process.argv.indexOf('--query');
+const query = queryArg >= 0 ? (process.argv[queryArg + 1] ?? '') : '';
 const server = await buildAndServe();
 const browser = await launchChromium();
 const figures: Record<string, number> = {};
 try {
   const page = await (await browser.newContext({ viewport: { width: 1440, height: 900 } })).newPage();
-  await page.goto(server.url);
+  await page.goto(server.url + query);
   await waitDone(page, 120_000);
   await page.click('#tab-results').catch(() => undefined);
   for (const s of scenarios()) {

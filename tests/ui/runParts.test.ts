@@ -11,7 +11,7 @@ import { parsePresetText } from '../../src/presets/load';
 import type { Preset } from '../../src/presets/schema';
 import { runExtras, runRequest, speciesPeaksPart } from '../../src/simulation/runOutput';
 import { peakBlocksOf } from '../../src/simulation/analysisReport';
-import { sharesPeaks } from '../../src/ui/engine/engineClient';
+import { sharePeaksFromQuery, sharesPeaks } from '../../src/ui/engine/engineClient';
 import { simulate } from '../../src/simulation/run';
 import type { RunExtras, RunOutput, RunRequest } from '../../src/simulation/runContract';
 import { RunQueue, type RunJob } from '../../src/ui/app/runQueue';
@@ -87,6 +87,8 @@ describe('an exact run with its species peaks shared over two workers', () => {
     expect(sharesPeaks({ preset: demoPreset('demo-gridless-mirror') })).toBe(false);
     expect(sharesPeaks({ preset: demoPreset('demo-aperture-source') })).toBe(false);
     expect(sharesPeaks({ preset: demoPreset('demo-linear-delayed'), analysis: false })).toBe(false);
+    expect(sharePeaksFromQuery('?sharePeaks=0')).toBe(false);
+    expect(sharePeaksFromQuery('?runWorkers=2')).toBe(true);
   });
 });
 

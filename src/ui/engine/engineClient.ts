@@ -74,7 +74,11 @@ function afterChunk(lane: SplitRunLane, onChunk: () => void): SplitRunLane {
 }
 
 class PoolEngineClient implements EngineClient {
-  constructor(private readonly client: EngineWorkerClient) {}
+  constructor(
+    private readonly client: EngineWorkerClient,
+    /** Share an exact run's species peaks over two workers where it may (`?sharePeaks=0` turns it off, to compare). */
+    private readonly sharePeaks = true,
+  ) {}
 
   run(request: RunRequest): Promise<RunOutput> {
     // Split over the pool where that keeps the numbers (no solved field) and is worth it.
@@ -95,7 +99,7 @@ class PoolEngineClient implements EngineClient {
     let failed!: (error: unknown) => void;
     const headlinePosted = new Promise<void>((resolve, reject) => ((posted = resolve), (failed = reject)));
     let headline: Promise<RunOutput>;
-    if (!shouldSplit(headlineRequest, this.client.size) && this.client.size > 1 && sharesPeaks(headlineRequest)) {
+    if (this.sharePeaks && !shouldSplit(headlineRequest, this.client.size) && this.client.size > 1 && sharesPeaks(headlineRequest)) {
       // Unsplit, and the simulated digitizer's spectra are most of the run: both workers trace and
       // measure half of the species' peaks each; the first finishes the run with all of them. The
       // extras go to the second, which is free while the first finishes.
@@ -153,8 +157,13 @@ class PoolEngineClient implements EngineClient {
  * The interactive runs' pool: one worker per core (a run is split over them, src/ui/engine/splitRun.ts).
  * `workers` overrides the size (the browser tests compare a pooled run with a one-worker run).
  */
-export function createRunEngine(workers = defaultPoolSize()): EngineClient {
-  return new PoolEngineClient(createEngineWorkerPool(Math.max(1, Math.floor(workers))));
+export function createRunEngine(workers = defaultPoolSize(), sharePeaks = true): EngineClient {
+  return new PoolEngineClient(createEngineWorkerPool(Math.max(1, Math.floor(workers))), sharePeaks);
+}
+
+/** False when the page address asks not to share exact runs' species peaks over workers (`?sharePeaks=0`). */
+export function sharePeaksFromQuery(search: string): boolean {
+  return new URLSearchParams(search).get('sharePeaks') !== '0';
 }
 
 /** A pool for scans and tunes, leaving one core to the page and the run worker where there are enough. */
