@@ -5,9 +5,10 @@
  * an exponential repeller rise, 12 ns) and one solved-field setup (the gridless-mirror demo). The
  * production build is served by Vite's preview server and driven in Debian's Chromium, as in the
  * browser tests; the app itself records each latency (document.body.dataset.lastUpdateMs). With
- * --json, one JSON line: ui_update_ms_exact, ui_update_ms_pulse, ui_update_ms_solved (and the
- * engine's share of each, ui_engine_ms_*, and ui_frame_ms_*: to the callbacks of the frame after the
- * update, once the 3D view has drawn). The figures start when the page asks the worker for the run,
+ * --json, one JSON line: ui_update_ms_exact, ui_update_ms_pulse, ui_update_ms_solved (to the charts
+ * and tables: the run's first part, lastUpdateMs), the engine's share of each (ui_engine_ms_*, the
+ * headline inside the workers), and ui_frame_ms_*: to the callbacks of the frame after the run's
+ * second part (3D view, focus notes) has been drawn (lastFrameMs). The figures start when the page asks the worker for the run,
  * right after the typed value was validated; there is no debounce (a typed value runs when it is
  * confirmed, a dragged slider runs quick previews while it moves).
  */
@@ -30,12 +31,15 @@ async function measure(page: Page, s: Scenario): Promise<{ update: number[]; eng
 }
 
 const json = process.argv.includes('--json');
+// `--query '?sharePeaks=0'`: page address options, to compare settings of one build.
+const queryArg = process.argv.indexOf('--query');
+const query = queryArg >= 0 ? (process.argv[queryArg + 1] ?? '') : '';
 const server = await buildAndServe();
 const browser = await launchChromium();
 const figures: Record<string, number> = {};
 try {
   const page = await (await browser.newContext({ viewport: { width: 1440, height: 900 } })).newPage();
-  await page.goto(server.url);
+  await page.goto(server.url + query);
   await waitDone(page, 120_000);
   await page.click('#tab-results').catch(() => undefined);
   for (const s of scenarios()) {

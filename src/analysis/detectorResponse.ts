@@ -202,3 +202,73 @@ export function depositGaussianPulse(
   }
   return area * (below - first);
 }
+
+/**
+ * One pulse's share of each sample (Φ differences at the sample edges), computed once and added to
+ * several records: the ideal and the measured record of analog detection put the same pulse (same
+ * centre and sd) in the same samples, only with different areas. `addTo(samples, area)` gives the
+ * bits depositGaussianPulse(samples, …, area) gives: each sample receives area·(Φ_above − Φ_below)
+ * from the same Φ values. Allocates nothing after construction.
+ */
+export class PulseSteps {
+  /** First sample the pulse reaches, and how many it reaches (0: none inside the record). */
+  first = 0;
+  count = 0;
+  private readonly delta: Float64Array;
+
+  /** `maxSamples`: the most samples one pulse may reach (2·PULSE_REACH_SD·sd/dt + 2). */
+  constructor(maxSamples: number) {
+    this.delta = new Float64Array(Math.max(1, maxSamples));
+  }
+
+  /** The shares of a pulse of centre `centre_s` and sd `sd_s` in a record of `n` samples. */
+  set(n: number, recordStart_s: number, sampleInterval_s: number, centre_s: number, sd_s: number): void {
+    const delta = this.delta;
+    this.count = 0;
+    if (!(sd_s > 0)) {
+      const k = Math.floor((centre_s - recordStart_s) / sampleInterval_s);
+      if (k < 0 || k >= n) return;
+      this.first = k;
+      this.count = 1;
+      delta[0] = 1;
+      return;
+    }
+    let kLo = Math.floor((centre_s - PULSE_REACH_SD * sd_s - recordStart_s) / sampleInterval_s);
+    let kHi = Math.floor((centre_s + PULSE_REACH_SD * sd_s - recordStart_s) / sampleInterval_s);
+    if (kHi < 0 || kLo >= n) return;
+    if (kLo < 0) kLo = 0;
+    if (kHi > n - 1) kHi = n - 1;
+    if (kHi - kLo + 1 > delta.length) throw new RangeError(`a pulse reaches ${kHi - kLo + 1} samples, more than the ${delta.length} allowed for`);
+    const inv = 1 / sd_s;
+    const cdf = CDF_TABLE;
+    const pdf = PDF_STEP_TABLE;
+    let below = standardNormalCdf((recordStart_s + kLo * sampleInterval_s - centre_s) * inv);
+    // The loop of depositGaussianPulse, storing the differences instead of adding them.
+    for (let k = kLo; k <= kHi; k++) {
+      const u = (recordStart_s + (k + 1) * sampleInterval_s - centre_s) * inv;
+      const a = u < 0 ? -u : u;
+      let above: number;
+      if (a >= PULSE_REACH_SD) above = u < 0 ? 0 : 1;
+      else {
+        const pos = a * CDF_PER_STEP;
+        const j = Math.floor(pos);
+        const s = pos - j;
+        const s2 = s * s;
+        const s3 = s2 * s;
+        const value = (2 * s3 - 3 * s2 + 1) * cdf[j] + (s3 - 2 * s2 + s) * pdf[j] + (-2 * s3 + 3 * s2) * cdf[j + 1] + (s3 - s2) * pdf[j + 1];
+        above = u < 0 ? 1 - value : value;
+      }
+      delta[k - kLo] = above - below;
+      below = above;
+    }
+    this.first = kLo;
+    this.count = kHi - kLo + 1;
+  }
+
+  /** Adds the pulse with area `area` to `samples` (the record `set` was given). */
+  addTo(samples: Float64Array, area: number): void {
+    const delta = this.delta;
+    const first = this.first;
+    for (let q = 0; q < this.count; q++) samples[first + q] += area * delta[q];
+  }
+}

@@ -124,9 +124,12 @@ export function buildSpectrum(input: SpectrumInput, settings: AcquisitionSetting
   let outside = 0;
   let detectedIntensity = 0;
   let recordedIntensity = 0;
+  // The arrays in locals: callers pass inputs of several object shapes.
+  const fate = input.fate;
+  const arrival = input.arrival_s;
   for (let i = from; i < to; i++) {
-    if (input.fate[i] !== Fate.DETECTED) continue;
-    const t = input.arrival_s[i] + offsets[i % shots] + offset;
+    if (fate[i] !== Fate.DETECTED) continue;
+    const t = arrival[i] + offsets[i % shots] + offset;
     const w = weight ? weight[i] : 1;
     if (!Number.isFinite(t) || !Number.isFinite(w)) throw new RangeError(`ion ${i}: arrival time or weight is not finite`);
     detectedIons++;

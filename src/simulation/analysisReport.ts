@@ -87,10 +87,13 @@ export function acquisitionSettings(preset: Preset, trace: TraceResult, from = 0
   if (start === undefined || length === undefined) {
     let lo = Infinity;
     let hi = -Infinity;
+    // The arrays in locals: traces come in several object shapes, and a property load per ion then costs more than the loop.
+    const fate = trace.fate;
+    const time = trace.flightTime_s;
     for (let i = from; i < to; i++) {
-      if (trace.fate[i] !== Fate.DETECTED) continue;
-      lo = Math.min(lo, trace.flightTime_s[i]);
-      hi = Math.max(hi, trace.flightTime_s[i]);
+      if (fate[i] !== Fate.DETECTED) continue;
+      lo = Math.min(lo, time[i]);
+      hi = Math.max(hi, time[i]);
     }
     if (!(hi >= lo)) return null;
     const margin = 8 * Math.hypot(acq.pulseWidth_ns / 2.3548, acq.detectorJitter_ns, acq.triggerJitter_ns) * 1e-9 + 20 * sample_s;
@@ -125,12 +128,20 @@ const toNs = (s: number | null): number | null => (s === null ? null : s * 1e9);
 
 /** Detected ions in [from, to) and their robust arrival-time sd (shortest 76.1 % interval / 2.3548, the sd of a gaussian). */
 function ionSpread(trace: TraceResult, from: number, to: number): [number, number] {
+  const fate = trace.fate;
+  const time = trace.flightTime_s;
   let n = 0;
-  for (let i = from; i < to; i++) if (trace.fate[i] === Fate.DETECTED) n++;
+  for (let i = from; i < to; i++) if (fate[i] === Fate.DETECTED) n++;
   if (n < 2) return [n, 0];
   const t = new Float64Array(n);
-  for (let i = from, k = 0; i < to; i++) if (trace.fate[i] === Fate.DETECTED) t[k++] = trace.flightTime_s[i];
-  t.sort();
+  for (let i = from, k = 0; i < to; i++) if (fate[i] === Fate.DETECTED) t[k++] = time[i];
+  return sortedSpread(t.sort());
+}
+
+/** ionSpread of the detected flight times already sorted ascending. */
+function sortedSpread(t: Float64Array): [number, number] {
+  const n = t.length;
+  if (n < 2) return [n, 0];
   const inside = Math.max(1, Math.ceil(GAUSSIAN_FWHM_FRACTION * n) - 1);
   let shortest = Infinity;
   for (let i = 0; i + inside < n; i++) shortest = Math.min(shortest, t[i + inside] - t[i]);
@@ -177,19 +188,32 @@ export function buildAnalysisSections(
   ens: Ensemble,
   trace: TraceResult,
   meanFlightTime_s: readonly (number | null)[],
-  options: { readonly withSpectrum?: boolean; readonly peaksOnly?: boolean; readonly spectrumTrace?: TraceResult } = {},
+  options: {
+    readonly withSpectrum?: boolean;
+    readonly peaksOnly?: boolean;
+    readonly spectrumTrace?: TraceResult;
+    /** Build the focus section (default true); the page asks for it apart (src/simulation/runOutput.ts, runExtras). */
+    readonly focus?: boolean;
+    /** Per ensemble species block, its detected flight times of `trace` sorted ascending (buildReport's sortedOut), to spare sorting them again. */
+    readonly sortedTimes?: readonly Float64Array[];
+    /** Per ensemble species block, its peak already measured on this trace (speciesPeaksPart: the page's runs share the peaks out over two workers). */
+    readonly givenPeaks?: readonly (SpectrumPeakReport | null)[];
+  } = {},
 ): AnalysisSections {
   // The full spectrum also records what else reached the detector (fragment ions: src/simulation/fragmentReport.ts).
   const recorded = options.spectrumTrace ?? trace;
   const settings = acquisitionSettings(preset, recorded);
   const speciesPeaks: (SpectrumPeakReport | null)[] = ens.species.map(() => null);
-  if (settings) {
+  if (settings && options.givenPeaks) {
+    for (let s = 0; s < ens.species.length; s++) speciesPeaks[s] = options.givenPeaks[s] ?? null;
+  } else if (settings) {
     for (let s = 0; s < ens.species.length; s++) {
       const from = ens.speciesStart[s];
       const to = ens.speciesStart[s + 1];
       const own = acquisitionSettings(preset, trace, from, to);
       if (!own) continue; // no detected ion of this species
-      speciesPeaks[s] = measureSpeciesPeak(trace, from, to, own);
+      const sorted = options.sortedTimes?.[s];
+      speciesPeaks[s] = measureSpeciesPeak(trace, from, to, own, sorted ? sortedSpread(sorted) : undefined);
     }
   }
 
@@ -212,7 +236,7 @@ export function buildAnalysisSections(
       mz: coeffs ? timeAxisToMz(full.time_s, coeffs).mz : null,
     };
   }
-  return { speciesPeaks, calibration, focus: focusSection(preset, model, population), spectrum };
+  return { speciesPeaks, calibration, focus: options.focus === false ? null : focusSection(preset, model, population), spectrum };
 }
 
 function toSeconds(c: CalibrationSection['coefficients']): CalibrationCoefficients {
@@ -283,7 +307,25 @@ function referenceStart(population: PopulationSpec, mass_kg: number) {
   return { z0, zSpread, U0, USpread };
 }
 
-function focusSection(preset: Preset, model: AnalyserModel, population: PopulationSpec): FocusSection | { readonly error: string } {
+/**
+ * Which ensemble species blocks part `part` of `parts` measures when a run's species peaks are
+ * shared out: blocks in order, each to the part with the fewest ions so far (part 0, which then
+ * finishes the run, starts behind by an eighth of the ions).
+ */
+export function peakBlocksOf(speciesStart: Int32Array, part: number, parts: number): boolean[] {
+  const load = Array.from({ length: parts }, (_, k) => (k === 0 ? speciesStart[speciesStart.length - 1] / 8 : 0));
+  const mine: boolean[] = [];
+  for (let s = 0; s + 1 < speciesStart.length; s++) {
+    let least = 0;
+    for (let k = 1; k < parts; k++) if (load[k] < load[least]) least = k;
+    load[least] += speciesStart[s + 1] - speciesStart[s];
+    mine.push(least === part);
+  }
+  return mine;
+}
+
+/** The focus analysis of the preset's reference ion (single ions traced on the run's model; no ensemble needed). */
+export function focusSection(preset: Preset, model: AnalyserModel, population: PopulationSpec): FocusSection | { readonly error: string } {
   const refMz = preset.analysis?.focusReferenceMz;
   const species =
     refMz === undefined ? population.species[0] : population.species.reduce((a, b) => (Math.abs(b.mz - refMz) < Math.abs(a.mz - refMz) ? b : a));

@@ -137,14 +137,18 @@ export function speciesIonStart(ens: Ensemble): Int32Array {
   return ranges.map((b) => ens.speciesStart[b]);
 }
 
-function blockReport(ens: Ensemble, trace: TraceResult, s: number): SpeciesReport {
+function blockReport(ens: Ensemble, trace: TraceResult, s: number, sortedOut?: Float64Array[]): SpeciesReport {
   const from = ens.speciesStart[s];
   const to = ens.speciesStart[s + 1];
+  // The arrays in locals: traces come in several object shapes (a property load per ion would dominate).
+  const fate = trace.fate;
+  const time = trace.flightTime_s;
   let detected = 0;
-  for (let i = from; i < to; i++) if (trace.fate[i] === Fate.DETECTED) detected++;
+  for (let i = from; i < to; i++) if (fate[i] === Fate.DETECTED) detected++;
   const times = new Float64Array(detected);
-  for (let i = from, k = 0; i < to; i++) if (trace.fate[i] === Fate.DETECTED) times[k++] = trace.flightTime_s[i];
+  for (let i = from, k = 0; i < to; i++) if (fate[i] === Fate.DETECTED) times[k++] = time[i];
   times.sort();
+  if (sortedOut) sortedOut[s] = times;
   const stats = arrivalStats(times);
   const info = ens.species[s];
   return {
@@ -170,7 +174,11 @@ function blockReport(ens: Ensemble, trace: TraceResult, s: number): SpeciesRepor
   };
 }
 
-export function buildReport(ens: Ensemble, trace: TraceResult): RunReport {
+/**
+ * `sortedOut`, when given, receives per ensemble species block the block's detected flight times in
+ * ascending order (sorted here anyway), so the analysis need not sort them again.
+ */
+export function buildReport(ens: Ensemble, trace: TraceResult, sortedOut?: Float64Array[]): RunReport {
   const ranges = speciesBlockRanges(ens);
   const species: SpeciesReport[] = [];
   for (let k = 0; k + 1 < ranges.length; k++) {
@@ -178,11 +186,11 @@ export function buildReport(ens: Ensemble, trace: TraceResult): RunReport {
     const end = ranges[k + 1];
     const isotopic = ens.species[first].isotopeFraction !== undefined;
     if (!isotopic) {
-      species.push(blockReport(ens, trace, first));
+      species.push(blockReport(ens, trace, first, sortedOut));
       continue;
     }
     const blocks = [];
-    for (let b = first; b < end; b++) blocks.push(blockReport(ens, trace, b));
+    for (let b = first; b < end; b++) blocks.push(blockReport(ens, trace, b, sortedOut));
     // The monoisotopic peak speaks for the species (its m/z is the species' m/z); failing that, the largest.
     let main = 0;
     for (let j = 0; j < blocks.length; j++) {

@@ -11,7 +11,7 @@ import { traceEnsemble } from '../physics/regions/driver';
 import type { MirrorMapReport } from '../physics/solvedMirrorMap';
 import type { SourceMapReport } from '../physics/solvedSourceMap';
 import { attachAnalysis, buildReport, type RunReport } from './report';
-import { buildAnalysisSections, type AnalysisSections } from './analysisReport';
+import { buildAnalysisSections, type AnalysisSections, type SpectrumPeakReport } from './analysisReport';
 import { ionLoadSections, traceIonLoad, type IonLoadReport } from './ionLoad';
 import { compileFragments } from '../presets/compileFragments';
 import type { FragmentModel } from '../physics/fragments/decayModel';
@@ -31,6 +31,10 @@ export interface RunOptions {
    * only the per-species spectrum peaks (what a scan ranked by the measured R needs).
    */
   readonly analysis?: boolean | 'peaks';
+  /** With the analysis: also its focus section (default true); a page that draws the headline first asks for it apart. */
+  readonly focus?: boolean;
+  /** Per ensemble species block, its spectrum peak already measured on this run's trace (src/simulation/runOutput.ts, speciesPeaksPart). */
+  readonly givenPeaks?: readonly (SpectrumPeakReport | null)[];
   /**
    * The per-ion trace of this run's population, already computed (a run split over workers:
    * src/simulation/runChunks.ts); used in place of tracing. Not for a solved source.
@@ -72,7 +76,8 @@ export function simulate(preset: Preset, options: RunOptions = {}): SimulationRe
   // Metastable decay: precursors that fall apart become DECAYED, their products are traced on.
   const fragmentModel = compileFragments(preset, ensemble.species);
   const fragmentTrace = fragmentModel ? traceFragments(compiled.model, fragmentModel, ensemble, trace, population.seed) : null;
-  const report = buildReport(ensemble, trace);
+  const sortedTimes: Float64Array[] = [];
+  const report = buildReport(ensemble, trace, sortedTimes);
   const analysis =
     options.analysis === false
       ? noAnalysis(ensemble)
@@ -83,7 +88,14 @@ export function simulate(preset: Preset, options: RunOptions = {}): SimulationRe
           ensemble,
           trace,
           report.species.map((s) => (s.flightTime_ns === null ? null : s.flightTime_ns * 1e-9)),
-          { withSpectrum: options.withSpectrum, peaksOnly: options.analysis === 'peaks', ...(fragmentTrace ? { spectrumTrace: withProducts(trace, fragmentTrace) } : {}) },
+          {
+            withSpectrum: options.withSpectrum,
+            peaksOnly: options.analysis === 'peaks',
+            focus: options.focus,
+            sortedTimes,
+            givenPeaks: options.givenPeaks,
+            ...(fragmentTrace ? { spectrumTrace: withProducts(trace, fragmentTrace) } : {}),
+          },
         );
   const ionLoad = load && options.analysis !== false ? ionLoadSections(preset, compiled.model, ensemble, trace, load, population.seed) : null;
   const analysed = { ...attachAnalysis(report, analysis), ...(ionLoad ? { ionLoad } : {}), ...(mirrorMap ? { solvedMirrorMap: mirrorMap } : {}), ...(sourceMap ? { solvedSourceMap: sourceMap } : {}) };

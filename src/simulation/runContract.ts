@@ -7,6 +7,7 @@
 import type { FocusScan } from '../analysis/focusScan';
 import type { Preset } from '../presets/schema';
 import type { RunReport } from './report';
+import type { SpectrumPeakReport } from './analysisReport';
 import type { RunScene, SceneRequest } from './scene/sceneData';
 import type { ProductArrays } from './productArrays';
 import type { FragmentScene } from './fragmentSceneData';
@@ -24,6 +25,40 @@ export interface RunRequest {
   readonly focusScan?: boolean;
   /** Also compute what the 3D view draws: layout, equipotentials and drawn ions traced with the run's engine. */
   readonly scene?: SceneRequest;
+  /**
+   * Build the report's focus section (default true with the analysis). The page leaves it, the scene
+   * and the focus scan out of the run and asks for them with `runExtras`, so the charts need not wait.
+   */
+  readonly focus?: boolean;
+  /** Per ensemble species block, its spectrum peak already measured on this run (`speciesPeaksPart`, shared out over two workers). */
+  readonly givenPeaks?: readonly (SpectrumPeakReport | null)[];
+}
+
+/**
+ * What a page draws beside the charts, computed apart from the run (`runExtras` in
+ * src/simulation/runOutput.ts) so that a second worker can do it while the first runs the headline:
+ * none of it reads the run's per-ion trace (the drawn ions and the focus ions are traced on their own).
+ */
+export interface RunExtrasRequest {
+  readonly preset: Preset;
+  readonly ions?: number;
+  readonly seed?: number;
+  /** The report's focus section, as the run builds it with the analysis. */
+  readonly focus?: boolean;
+  /** The m/z scan for the start-energy focus (RunRequest.focusScan). */
+  readonly focusScan?: boolean;
+  /** The 3D view's layout, equipotentials and drawn ions (RunRequest.scene), and the decay products' paths when species decay. */
+  readonly scene?: SceneRequest;
+}
+
+export interface RunExtras {
+  /** The report's focus section when asked for (RunReport['focus']). */
+  readonly focus?: RunReport['focus'];
+  readonly focusScan?: FocusScan;
+  readonly scene?: RunScene;
+  readonly fragmentScene?: FragmentScene;
+  /** Wall-clock time the extras took inside the engine (ms). */
+  readonly elapsed_ms: number;
 }
 
 export interface RunOutput {

@@ -13,7 +13,7 @@ import { SpectrumChart } from './charts/spectrumChart';
 import { speciesColours } from './colors';
 import { CompareView } from './compare/compareView';
 import { byId } from './dom';
-import { createRunEngine, createTuningEngine, runWorkersFromQuery, type EngineClient } from './engine/engineClient';
+import { createRunEngine, createTuningEngine, runWorkersFromQuery, sharePeaksFromQuery, type EngineClient } from './engine/engineClient';
 import { presetFileName } from './io/presetFile';
 import { ParameterPanel, type EditPhase } from './panel/parameterPanel';
 import { cloneJson } from './panel/presetPath';
@@ -45,7 +45,7 @@ export async function startApp(): Promise<void> {
 
   // Without IndexedDB (private windows of some browsers) the app runs without saving.
   const store: IdbPresetStore | null = await IdbPresetStore.open().catch(() => null);
-  const engine: EngineClient = createRunEngine(runWorkersFromQuery(location.search));
+  const engine: EngineClient = createRunEngine(runWorkersFromQuery(location.search), sharePeaksFromQuery(location.search));
   const tuningEngine: EngineClient = createTuningEngine();
 
   const setup = new WorkingSetup(demo('linear'));
@@ -62,7 +62,12 @@ export async function startApp(): Promise<void> {
   const spectrum = new SpectrumChart(byId('spectrum'));
   const zoomSelect = byId<HTMLSelectElement>('zoom-peak');
   const renderer = new RunRenderer(spectrum, scene, zoomSelect);
-  const runs = new RunQueue(engine, (job, output) => renderer.render(job, output), (message) => (statusLine.textContent = message));
+  const runs = new RunQueue(
+    engine,
+    (job, output) => renderer.render(job, output),
+    (job, extras) => renderer.renderExtras(job, extras),
+    (message) => (statusLine.textContent = message),
+  );
 
   const panel = new ParameterPanel(byId('panel-host'), byId('panel-issues'), {
     onEdit: (draft, phase) => {

@@ -2,10 +2,11 @@
  * The deposition loop writes the tabulated normal CDF out inline (for speed); it must give the
  * same bits as depositing with standardNormalCdf sample edge by sample edge, the straightforward
  * formulation kept here as the reference. Random centres, widths, areas and record geometries,
- * including pulses hanging over either end of the record and pulses narrower than a sample.
+ * including pulses hanging over either end of the record and pulses narrower than a sample; and the
+ * same for PulseSteps, which computes a pulse's sample shares once for two records (analog detection).
  */
 import { describe, expect, it } from 'vitest';
-import { depositGaussianPulse, PULSE_REACH_SD, standardNormalCdf } from '../../src/analysis/detectorResponse';
+import { depositGaussianPulse, PULSE_REACH_SD, PulseSteps, standardNormalCdf } from '../../src/analysis/detectorResponse';
 import { SeededRandom } from '../../src/ions/random';
 
 /** The straightforward deposit: Φ at every sample edge through standardNormalCdf. */
@@ -55,6 +56,30 @@ describe('depositGaussianPulse', () => {
       }
       expect(Object.is(sumA, sumB)).toBe(true);
       for (let k = 0; k < n; k++) if (!Object.is(a[k], b[k])) expect.fail(`trial ${trial}, sample ${k}: ${b[k]} ≠ ${a[k]}`);
+    }
+  });
+
+  it('PulseSteps (one pulse added to two records) gives the bits of depositing it in each', () => {
+    const rng = new SeededRandom(20261204, 2);
+    for (let trial = 0; trial < 100; trial++) {
+      const n = 1 + Math.floor(rng.uniform() * 2000);
+      const dt = (0.05 + 2 * rng.uniform()) * 1e-9;
+      const start = (rng.uniform() * 60 - 5) * 1e-6;
+      const deposited = [new Float64Array(n), new Float64Array(n)];
+      const stepped = [new Float64Array(n), new Float64Array(n)];
+      const steps = new PulseSteps(Math.ceil((2 * PULSE_REACH_SD * 40 * dt) / dt) + 2);
+      for (let ion = 0; ion < 200; ion++) {
+        const centre = start + (rng.uniform() * 1.2 - 0.1) * n * dt;
+        const pick = rng.uniform();
+        const sd = pick < 0.05 ? 0 : pick < 0.2 ? rng.uniform() * 0.3 * dt : rng.uniform() * 40 * dt;
+        const areas = [rng.uniform() * 3, rng.uniform() * 3];
+        steps.set(n, start, dt, centre, sd);
+        for (let r = 0; r < 2; r++) {
+          depositGaussianPulse(deposited[r], start, dt, centre, sd, areas[r]);
+          steps.addTo(stepped[r], areas[r]);
+        }
+      }
+      for (let r = 0; r < 2; r++) for (let k = 0; k < n; k++) if (!Object.is(deposited[r][k], stepped[r][k])) expect.fail(`trial ${trial}, record ${r}, sample ${k}: ${stepped[r][k]} ≠ ${deposited[r][k]}`);
     }
   });
 });

@@ -20,7 +20,7 @@
  */
 import { SeededRandom } from '../../ions/random';
 import { Fate } from '../../physics/fates';
-import { depositGaussianPulse, effectivePulseSd_s, PULSE_REACH_SD, triggerOffsets_s } from '../detectorResponse';
+import { depositGaussianPulse, effectivePulseSd_s, PULSE_REACH_SD, PulseSteps, triggerOffsets_s } from '../detectorResponse';
 import { measurePeak } from '../peaks';
 import { recordSampleCount, type AcquisitionSettings } from '../spectrum';
 import { correctDeadTime, countNonParalysable } from './deadTime';
@@ -163,7 +163,23 @@ export function simulateDetection(input: DetectionInput, config: DetectionConfig
     const scratch = new Float64Array(count);
     const order = new Int32Array(maxShotSize(partition));
     const reach = Math.ceil((PULSE_REACH_SD * sd) / dt) + 1;
+    const steps = new PulseSteps(2 * reach + 2);
     for (let k = 0; k < partition.shots; k++) {
+      if (satLevel === Infinity) {
+        // No saturation: each pulse's sample shares are computed once and added to both records
+        // (the ideal with the ion's weight, the measured with its gain too; the same bits as two
+        // deposits, and the gains drawn in the same order).
+        for (let j = partition.start[k]; j < partition.start[k + 1]; j++) {
+          const i = partition.ions[j];
+          if (!pulse[i]) continue;
+          const t = recorded[i];
+          if (t < start || t >= start + count * dt) outside++;
+          steps.set(count, start, dt, t, sd);
+          steps.addTo(ideal, input.weight[i]);
+          steps.addTo(measured, input.weight[i] * sampleGain(rng, a.gainRelativeSd));
+        }
+        continue;
+      }
       let m = 0;
       for (let j = partition.start[k]; j < partition.start[k + 1]; j++) {
         const i = partition.ions[j];
@@ -174,13 +190,6 @@ export function simulateDetection(input: DetectionInput, config: DetectionConfig
         order[m++] = i;
       }
       if (m === 0) continue;
-      if (satLevel === Infinity) {
-        for (let j = 0; j < m; j++) {
-          const i = order[j];
-          depositGaussianPulse(measured, start, dt, recorded[i], sd, input.weight[i] * sampleGain(rng, a.gainRelativeSd));
-        }
-        continue;
-      }
       // Saturation acts within a shot: deposit the shot's pulses, clip each overlapping group, add.
       const shotOrder = order.subarray(0, m).sort((p, q) => recorded[p] - recorded[q]);
       let lo = Infinity;

@@ -3,10 +3,12 @@
  * control is dragged the setup runs with few ions and no simulated digitizer ('live'); when the
  * change is finished it runs in full ('final'). A run still in flight when a newer change is
  * finished is stale: its result is dropped, not drawn (live previews during a drag are still drawn,
- * or a long drag would show nothing). The status becomes 'done' once the last run is drawn.
+ * or a long drag would show nothing). A run comes in two parts (EngineClient.runParts): the charts'
+ * part, drawn at once, and the 3D view's and focus notes' part, drawn after it unless a newer change
+ * has finished by then. The status becomes 'done' once both parts of the last run are drawn.
  */
 import type { Preset } from '../../presets/schema';
-import type { RunOutput } from '../../simulation/runContract';
+import type { RunExtras, RunOutput } from '../../simulation/runContract';
 import { isCancelled, type EngineClient } from '../engine/engineClient';
 import type { EditPhase } from '../panel/parameterPanel';
 import { currentStatus, setStatus } from './status';
@@ -37,10 +39,13 @@ export class RunQueue {
   /** Sequence number of the latest finished change's run: older results are stale. */
   private latestFinal = -1;
   private dropped = 0;
+  /** Second parts dropped: their charts were drawn, then a newer change finished before the 3D view's part came. */
+  private extrasDropped = 0;
 
   constructor(
     private readonly engine: EngineClient,
     private readonly render: (job: RunJob, output: RunOutput) => void,
+    private readonly renderExtras: (job: RunJob, extras: RunExtras) => void,
     private readonly onFailure: (message: string) => void,
   ) {}
 
@@ -64,16 +69,26 @@ export class RunQueue {
     this.generation++;
   }
 
+  /** A result of `job` may be drawn: the parameters are still valid and no later change has finished. */
+  private current(job: RunJob): boolean {
+    return job.generation === this.generation && job.sequence >= this.latestFinal;
+  }
+
   private async start(job: RunJob): Promise<void> {
     this.inFlight = job;
     try {
-      // The worker also computes what the 3D view draws, and the focus scan for full runs.
-      const output = await this.engine.run({ preset: job.preset, ions: job.ions, seed: job.preset.run.seed, scene: {}, focusScan: job.kind === 'final' });
-      if (job.generation === this.generation && job.sequence >= this.latestFinal) this.render(job, output);
-      else {
-        // Read by the browser tests: how many finished runs were dropped as stale.
-        document.body.dataset.runsDropped = String(++this.dropped);
-      }
+      // The charts' part first; the 3D view's scene, the focus section and the focus scan (full runs)
+      // come apart, from another worker where there is one, and are drawn when they arrive.
+      const parts = this.engine.runParts({ preset: job.preset, ions: job.ions, seed: job.preset.run.seed, scene: {}, focusScan: job.kind === 'final' });
+      parts.extras.catch(() => undefined); // awaited below only when the headline is drawn
+      const output = await parts.headline;
+      if (this.current(job)) {
+        this.render(job, output);
+        const extras = await parts.extras;
+        // A change finished since the charts were drawn: its run draws the 3D view; this one would be stale.
+        if (this.current(job)) this.renderExtras(job, extras);
+        else document.body.dataset.extrasDropped = String(++this.extrasDropped);
+      } else document.body.dataset.runsDropped = String(++this.dropped); // read by the browser tests
     } catch (err) {
       if (!isCancelled(err)) {
         setStatus('error');
