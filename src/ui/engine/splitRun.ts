@@ -40,9 +40,10 @@ export function runIons(request: RunRequest): number {
 }
 
 /**
- * True when tracing is most of the run: the integrator traces it (a rising pulse edge, or the
- * integrator asked for), or a solved mirror is crossed (tracing ~0.5 s of 2·10^4 ions even with
- * the transfer map). Closed-form runs trace 2·10^4 ions in about 3 ms of a 40 ms run (Node
+ * True when tracing is most of the run: a rising pulse edge (closed form, but ion by ion), the
+ * integrator asked for (such runs are then refused by splitsOverWorkers: the integrator carries its
+ * first step from ion to ion), or a solved mirror is crossed (tracing ~0.5 s of 2·10^4 ions even
+ * with the transfer map). Closed-form runs trace 2·10^4 ions in about 3 ms of a 40 ms run (Node
  * profile; the simulated digitizer's spectrum is most of the rest, and it is built once, after the
  * join), so splitting them would only add a second sampling and a round trip.
  */
