@@ -16,10 +16,13 @@ import type { RunExtrasRequest, RunRequest } from '../src/simulation/runContract
 import type { TraceResult } from '../src/ions/ensemble';
 import { createWorkerApi } from '../src/tuning/workerApi';
 import { keepSampledPopulations } from '../src/ions/population';
+import { keepCompiledPresets } from '../src/presets/compileCache';
 
 // Successive runs of the page mostly share their ions (a potential or a delay changed), and a run
 // split over the pool samples its population again to finish: reuse the last few.
 keepSampledPopulations(4);
+// Likewise the compiled presets: every step of a split run (fit, chunk, finish, extras) compiles the same one.
+keepCompiledPresets(4);
 
 const api = createWorkerApi((request) => {
   const result = runRequest(request);

@@ -2,7 +2,8 @@
  * One simulation run of a validated preset: compile, sample the population, trace, report.
  * Shared by the CLI, the worker and the tests, so all give identical numbers for the same seed.
  */
-import { compilePreset, type CompiledPreset } from '../presets/compile';
+import type { CompiledPreset } from '../presets/compile';
+import { compilePresetKept } from '../presets/compileCache';
 import type { Preset } from '../presets/schema';
 import { allocateTraceResult, type Ensemble, type TraceResult } from '../ions/ensemble';
 import { samplePopulation } from '../ions/population';
@@ -57,7 +58,7 @@ export interface SimulationResult {
 }
 
 export function simulate(preset: Preset, options: RunOptions = {}): SimulationResult {
-  const compiled = compilePreset(preset);
+  const compiled = compilePresetKept(preset);
   const population = {
     ...compiled.population,
     totalIons: options.ions ?? compiled.population.totalIons,

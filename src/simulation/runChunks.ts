@@ -25,7 +25,7 @@ import { chargeToMassIn } from '../physics/regions/plan';
 import { legacyTally } from '../physics/regions/legacyTally';
 import { SolvedFieldTracer } from '../physics/regions/solvedTracer';
 import { SolvedMirrorMapper } from '../physics/solvedMirrorMap';
-import { compilePreset } from '../presets/compile';
+import { compilePresetKept } from '../presets/compileCache';
 import type { RunRequest } from './runContract';
 import { splitRefusal, type RunMapFit, type RunMapShare, type TraceChunk } from './runChunkPlan';
 
@@ -57,7 +57,7 @@ const FIT_BLOCK_IONS = 100;
 function sampleRun(request: RunRequest): { model: AnalyserModel; ensemble: Ensemble } {
   const refusal = splitRefusal(request.preset);
   if (refusal !== null) throw new Error(refusal);
-  const compiled = compilePreset(request.preset);
+  const compiled = compilePresetKept(request.preset);
   const population = {
     ...compiled.population,
     totalIons: request.ions ?? compiled.population.totalIons,

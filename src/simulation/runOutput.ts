@@ -5,7 +5,7 @@ import { applyDetectorPlane } from '../physics/exactEngine';
 import { traceEnsemble } from '../physics/regions/driver';
 import type { MirrorMapReport } from '../physics/solvedMirrorMap';
 import type { RunExtras, RunExtrasRequest, RunOutput, RunRequest } from './runContract';
-import { compilePreset } from '../presets/compile';
+import { compilePresetKept } from '../presets/compileCache';
 import { samplePopulation } from '../ions/population';
 import { compileFragments } from '../presets/compileFragments';
 import { acquisitionSettings, focusSection, measureSpeciesPeak, peakBlocksOf, type SpectrumPeakReport } from './analysisReport';
@@ -56,7 +56,7 @@ export function runRequest(request: RunRequest, now: () => number = () => perfor
  */
 export function runExtras(request: RunExtrasRequest, now: () => number = () => performance.now()): RunExtras {
   const start = now();
-  const compiled = compilePreset(request.preset);
+  const compiled = compilePresetKept(request.preset);
   const population = { ...compiled.population, totalIons: request.ions ?? compiled.population.totalIons, seed: request.seed ?? compiled.population.seed };
   const withPopulation = { ...compiled, population };
   const scene = request.scene ? runScene(request.preset, withPopulation, request.scene) : null;
@@ -82,7 +82,7 @@ export function runExtras(request: RunExtrasRequest, now: () => number = () => p
 export function speciesPeaksPart(request: RunRequest, part: number, parts: number): { readonly peaks: (SpectrumPeakReport | null)[]; readonly trace: TraceResult } {
   // simulate()'s trace without its report: sample, trace, detector plane (runs that share their
   // peaks have no ion load, decay or solved region, so nothing else changes the trace).
-  const compiled = compilePreset(request.preset);
+  const compiled = compilePresetKept(request.preset);
   const ensemble = samplePopulation({ ...compiled.population, totalIons: request.ions ?? compiled.population.totalIons, seed: request.seed ?? compiled.population.seed });
   const trace = allocateTraceResult(ensemble.count);
   traceEnsemble(compiled.model, ensemble, trace);
