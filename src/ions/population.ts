@@ -6,6 +6,7 @@
 import { ATOMIC_MASS_CONSTANT_KG, BOLTZMANN_J_PER_K } from '../physics/constants';
 import { allocateEnsemble, type Ensemble, type SpeciesInfo } from './ensemble';
 import { SeededRandom } from './random';
+import { KeptResults } from '../keptResults';
 
 export type StartPositionSpec =
   | { readonly kind: 'surface'; readonly z_m: number }
@@ -77,28 +78,15 @@ export function allocateCounts(abundances: readonly number[], total: number): nu
  * (tests/ions/populationCache.test.ts checks that a run leaves it as sampled), so handing out
  * the same one gives the same numbers. Keyed by the whole spec, numbers written exactly.
  */
-let kept: { key: string; ensemble: Ensemble }[] = [];
-let keepCount = 0;
+const kept = new KeptResults<Ensemble>();
 
 /** Keep the last `entries` sampled populations for reuse (0 turns it off and forgets them). */
 export function keepSampledPopulations(entries: number): void {
-  keepCount = Math.max(0, Math.floor(entries));
-  kept = kept.slice(0, keepCount);
-}
-
-function populationKey(spec: PopulationSpec): string {
-  // String(x) is exact for every double (and tells Infinity, -Infinity and NaN apart, which JSON does not).
-  return JSON.stringify(spec, (_key, value: unknown) => (typeof value === 'number' ? `n${String(value)}` : value));
+  kept.keep(entries);
 }
 
 export function samplePopulation(spec: PopulationSpec): Ensemble {
-  if (keepCount === 0) return drawPopulation(spec);
-  const key = populationKey(spec);
-  const at = kept.findIndex((e) => e.key === key);
-  const entry = at >= 0 ? kept.splice(at, 1)[0] : { key, ensemble: drawPopulation(spec) };
-  kept.unshift(entry);
-  kept.length = Math.min(kept.length, keepCount);
-  return entry.ensemble;
+  return kept.get(spec, drawPopulation);
 }
 
 function drawPopulation(spec: PopulationSpec): Ensemble {

@@ -10,28 +10,16 @@
  */
 import { compilePreset, type CompiledPreset } from './compile';
 import type { Preset } from './schema';
+import { KeptResults } from '../keptResults';
 
-let kept: { key: string; compiled: CompiledPreset }[] = [];
-let keepCount = 0;
+const kept = new KeptResults<CompiledPreset>();
 
 /** Keep the last `entries` compiled presets for reuse (0 turns it off and forgets them). */
 export function keepCompiledPresets(entries: number): void {
-  keepCount = Math.max(0, Math.floor(entries));
-  kept = kept.slice(0, keepCount);
-}
-
-function presetKey(preset: Preset): string {
-  // String(x) is exact for every double (and tells Infinity, -Infinity and NaN apart, which JSON does not).
-  return JSON.stringify(preset, (_key, value: unknown) => (typeof value === 'number' ? `n${String(value)}` : value));
+  kept.keep(entries);
 }
 
 /** compilePreset, or the kept result of an equal preset (a preset that fails to compile is never kept). */
 export function compilePresetKept(preset: Preset): CompiledPreset {
-  if (keepCount === 0) return compilePreset(preset);
-  const key = presetKey(preset);
-  const at = kept.findIndex((e) => e.key === key);
-  const entry = at >= 0 ? kept.splice(at, 1)[0] : { key, compiled: compilePreset(preset) };
-  kept.unshift(entry);
-  kept.length = Math.min(kept.length, keepCount);
-  return entry.compiled;
+  return kept.get(preset, compilePreset);
 }
