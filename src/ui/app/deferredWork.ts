@@ -36,7 +36,10 @@ export class DeferredWork {
   private idleAsked = false;
   private deadline: number | null = null;
 
-  constructor(private readonly scheduling: Scheduling = browserScheduling) {}
+  constructor(
+    private readonly scheduling: Scheduling = browserScheduling,
+    private readonly onError: (err: unknown) => void = (err) => console.error(err),
+  ) {}
 
   /** Run `task` (under `key`) when no headline is due, at the latest after MAX_HOLD_MS. */
   defer(key: string, task: () => void): void {
@@ -62,21 +65,22 @@ export class DeferredWork {
     return this.tasks.size;
   }
 
-  /** Run every waiting task now, in the order they were (last) deferred; a failing task does not stop the others. */
+  /**
+   * Run every waiting task now, in the order they were (last) deferred. A failing task is reported
+   * (`onError`) and does not stop the others, nor the caller (the run queue flushes before 'done').
+   */
   flush(): void {
     if (this.deadline !== null) this.scheduling.cancel(this.deadline);
     this.deadline = null;
     const tasks = [...this.tasks.values()];
     this.tasks.clear();
-    let failure: unknown = null;
     for (const task of tasks) {
       try {
         task();
       } catch (err) {
-        failure ??= err;
+        this.onError(err);
       }
     }
-    if (failure !== null) throw failure;
   }
 
   private askIdle(): void {
