@@ -2,8 +2,8 @@
  * `npx tsx bench/browserAB.ts --against <checkout> [--rounds N] [--json]`: the browser benchmark's
  * page-update latency (bench/browser.ts: the same scenarios, values and figures) for two builds at
  * once, change by change: the other checkout's app (A) and this one's (B) are built, served and
- * loaded in two pages of one Chromium, and each typed value is entered into A, then into B, so both
- * see the same load within a second or two. On a machine shared with other work this pairs the
+ * loaded in two pages of one Chromium, and each typed value is entered into both, A first for one
+ * value and B first for the next, so both see the same load within a second or two. On a machine shared with other work this pairs the
  * samples; the medians of A and B and the median of the per-change differences B − A are printed.
  * The two pages never run at once (each change waits for its page to be done).
  */
@@ -54,9 +54,15 @@ try {
     const a: number[] = [];
     const b: number[] = [];
     for (let r = 0; r < rounds; r++) {
-      for (const value of s.values) {
-        a.push((await changeOnce(pages[0], s, value))[0]);
-        b.push((await changeOnce(pages[1], s, value))[0]);
+      for (const [i, value] of s.values.entries()) {
+        // A first, then B, and the other way round for the next value: neither always follows the other.
+        if ((r * s.values.length + i) % 2 === 0) {
+          a.push((await changeOnce(pages[0], s, value))[0]);
+          b.push((await changeOnce(pages[1], s, value))[0]);
+        } else {
+          b.push((await changeOnce(pages[1], s, value))[0]);
+          a.push((await changeOnce(pages[0], s, value))[0]);
+        }
       }
     }
     const diff = b.map((x, i) => x - a[i]);
