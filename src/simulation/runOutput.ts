@@ -8,7 +8,8 @@ import type { RunExtras, RunExtrasRequest, RunOutput, RunRequest } from './runCo
 import { compilePresetKept } from '../presets/compileCache';
 import { samplePopulation } from '../ions/population';
 import { compileFragments } from '../presets/compileFragments';
-import { acquisitionSettings, focusSection, measureSpeciesPeak, peakBlocksOf, type SpectrumPeakReport } from './analysisReport';
+import { acquisitionSettings, focusSection, measureSpeciesPeak, type SpectrumPeakReport } from './analysisReport';
+import { peakBlocksByCost } from './peaksShare';
 import { pulseReach } from './pulseReach';
 import { simulate } from './run';
 import { speciesIonStart } from './report';
@@ -72,7 +73,7 @@ export function runExtras(request: RunExtrasRequest, now: () => number = () => p
 }
 
 /**
- * The spectrum peaks of part `part` of `parts` of a run's species blocks (peakBlocksOf; null for
+ * The spectrum peaks of part `part` of `parts` of a run's species blocks (peakBlocksByCost, by their estimated cost on this trace; null for
  * the other blocks, and for blocks without a detected ion), each as the run measures it, and the
  * trace they were measured on (which the finishing run may take as `traced`). Only for runs whose
  * trace is simulate()'s trace, detector plane applied, and nothing more (no ion load, no decay, no
@@ -87,7 +88,7 @@ export function speciesPeaksPart(request: RunRequest, part: number, parts: numbe
   const trace = allocateTraceResult(ensemble.count);
   traceEnsemble(compiled.model, ensemble, trace);
   applyDetectorPlane(compiled.model, ensemble, trace);
-  const mine = peakBlocksOf(ensemble.speciesStart, part, parts);
+  const mine = peakBlocksByCost(request.preset, trace, ensemble.speciesStart, part, parts);
   const peaks = mine.map((wanted, s) => {
     if (!wanted) return null;
     const from = ensemble.speciesStart[s];

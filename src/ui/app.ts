@@ -26,6 +26,7 @@ import { MeasuredView } from './measured/measuredView';
 import { ToleranceView } from './tolerance/toleranceView';
 import { LoadChartView } from './charts/loadChart';
 import { createAutosave } from './app/autosave';
+import { DeferredWork } from './app/deferredWork';
 import { wireHeaderActions } from './app/headerActions';
 import { wireImportExport } from './app/importExport';
 import { wirePlayback } from './app/playback';
@@ -49,7 +50,9 @@ export async function startApp(): Promise<void> {
   const tuningEngine: EngineClient = createTuningEngine();
 
   const setup = new WorkingSetup(demo('linear'));
-  const autosave = createAutosave(store, () => setup.snapshot());
+  // Page work that waits for a run's headline (the run queue holds it while one is due).
+  const pageWork = new DeferredWork();
+  const autosave = createAutosave(store, () => setup.snapshot(), pageWork);
   guardUnload(setup);
 
   // ---- views ----------------------------------------------------------------------------------
@@ -67,6 +70,7 @@ export async function startApp(): Promise<void> {
     (job, output) => renderer.render(job, output),
     (job, extras) => renderer.renderExtras(job, extras),
     (message) => (statusLine.textContent = message),
+    pageWork,
   );
 
   const panel = new ParameterPanel(byId('panel-host'), byId('panel-issues'), {
@@ -79,14 +83,17 @@ export async function startApp(): Promise<void> {
       }
       panel.showIssues([]);
       setup.preset = checked.value;
-      compare.settingsChanged('valid');
-      // The run first, so that the worker starts while the page saves and refreshes the other views.
+      // The run first; the saving and the other views' refresh wait until its headline is drawn,
+      // so the page's thread does not take a core from the workers meanwhile.
       requestRun(phase);
+      compare.settingsChanged('valid');
       setup.refreshHeader();
       if (phase === 'final') {
         autosave();
-        tuning.refresh();
-        measured.refresh();
+        pageWork.defer('other views', () => {
+          tuning.refresh();
+          measured.refresh();
+        });
       }
     },
   });

@@ -6,6 +6,8 @@
  * or a long drag would show nothing). A run comes in two parts (EngineClient.runParts): the charts'
  * part, drawn at once, and the 3D view's and focus notes' part, drawn after it unless a newer change
  * has finished by then. The status becomes 'done' once both parts of the last run are drawn.
+ * While a headline is due the queue holds the page's deferrable work (`PageWork`: autosave, other
+ * views) and releases it once the headline is drawn, dropped or failed; before 'done' it flushes it.
  */
 import type { Preset } from '../../presets/schema';
 import type { RunExtras, RunOutput } from '../../simulation/runContract';
@@ -31,6 +33,15 @@ export function previewOf(preset: Preset): Preset {
   return rest;
 }
 
+/** The page's deferrable work as the queue drives it (src/ui/app/deferredWork.ts). */
+export interface PageWork {
+  hold(): void;
+  release(): void;
+  flush(): void;
+}
+
+const NO_PAGE_WORK: PageWork = { hold: () => undefined, release: () => undefined, flush: () => undefined };
+
 export class RunQueue {
   private inFlight: RunJob | null = null;
   private queued: RunJob | null = null;
@@ -47,6 +58,7 @@ export class RunQueue {
     private readonly render: (job: RunJob, output: RunOutput) => void,
     private readonly renderExtras: (job: RunJob, extras: RunExtras) => void,
     private readonly onFailure: (message: string) => void,
+    private readonly pageWork: PageWork = NO_PAGE_WORK,
   ) {}
 
   /** Queue a run of `working`; `liveIons` caps the ions of a live run. */
@@ -56,6 +68,7 @@ export class RunQueue {
     const job: RunJob = { generation: this.generation, preset, ions, kind, requestedAt: performance.now(), sequence: this.sequence++ };
     if (kind === 'final') this.latestFinal = job.sequence;
     setStatus('running');
+    this.pageWork.hold();
     if (this.inFlight) {
       this.queued = job;
       return;
@@ -83,17 +96,26 @@ export class RunQueue {
       parts.extras.catch(() => undefined); // awaited below only when the headline is drawn
       const output = await parts.headline;
       if (this.current(job)) {
-        this.render(job, output);
+        try {
+          this.render(job, output);
+        } finally {
+          this.headlineSettled();
+        }
         const extras = await parts.extras;
         // A change finished since the charts were drawn: its run draws the 3D view; this one would be stale.
         if (this.current(job)) this.renderExtras(job, extras);
         else document.body.dataset.extrasDropped = String(++this.extrasDropped);
-      } else document.body.dataset.runsDropped = String(++this.dropped); // read by the browser tests
+      } else {
+        document.body.dataset.runsDropped = String(++this.dropped); // read by the browser tests
+        this.headlineSettled();
+      }
     } catch (err) {
+      this.headlineSettled();
       if (!isCancelled(err)) {
         setStatus('error');
         this.onFailure(`Run failed: ${(err as Error).message}`);
         this.inFlight = null;
+        this.pageWork.release(); // nothing more runs after a failure: the held work need not wait
         return;
       }
     }
@@ -101,6 +123,15 @@ export class RunQueue {
     const next = this.queued;
     this.queued = null;
     if (next) void this.start(next);
-    else if (currentStatus() === 'running') setStatus('done');
+    else if (currentStatus() === 'running') {
+      // Everything this change asked of the page is done before it says so.
+      this.pageWork.flush();
+      setStatus('done');
+    }
+  }
+
+  /** This job's headline is drawn, dropped or failed: the page's held work may run unless a newer run waits. */
+  private headlineSettled(): void {
+    if (this.queued === null) this.pageWork.release();
   }
 }

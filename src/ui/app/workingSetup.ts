@@ -24,9 +24,10 @@ export class WorkingSetup {
   }
 
   refreshHeader(): void {
+    const dirty = this.isDirty(); // one serialisation of the setup: the header is refreshed on every edit
     byId('setup-name').textContent = this.preset.name;
-    byId('dirty-mark').hidden = !this.isDirty();
-    document.title = `${this.isDirty() ? '● ' : ''}${this.preset.name} — TOF Flight Bench`;
+    byId('dirty-mark').hidden = !dirty;
+    document.title = `${dirty ? '● ' : ''}${this.preset.name} — TOF Flight Bench`;
   }
 }
 

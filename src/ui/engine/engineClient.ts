@@ -101,7 +101,8 @@ class PoolEngineClient implements EngineClient {
     let headline: Promise<RunOutput>;
     if (this.sharePeaks && !shouldSplit(headlineRequest, this.client.size) && this.client.size > 1 && sharesPeaks(headlineRequest)) {
       // Unsplit, and the simulated digitizer's spectra are most of the run: both workers trace and
-      // measure half of the species' peaks each; the first finishes the run with all of them. The
+      // measure a share of the species' peaks each (by estimated cost, src/simulation/peaksShare.ts);
+      // the first, which has the smaller share, finishes the run with all of them. The
       // extras go to the second, which is free while the first finishes.
       lane = 1;
       const start = performance.now();
