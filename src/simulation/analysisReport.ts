@@ -307,23 +307,6 @@ function referenceStart(population: PopulationSpec, mass_kg: number) {
   return { z0, zSpread, U0, USpread };
 }
 
-/**
- * Which ensemble species blocks part `part` of `parts` measures when a run's species peaks are
- * shared out: blocks in order, each to the part with the fewest ions so far (part 0, which then
- * finishes the run, starts behind by an eighth of the ions).
- */
-export function peakBlocksOf(speciesStart: Int32Array, part: number, parts: number): boolean[] {
-  const load = Array.from({ length: parts }, (_, k) => (k === 0 ? speciesStart[speciesStart.length - 1] / 8 : 0));
-  const mine: boolean[] = [];
-  for (let s = 0; s + 1 < speciesStart.length; s++) {
-    let least = 0;
-    for (let k = 1; k < parts; k++) if (load[k] < load[least]) least = k;
-    load[least] += speciesStart[s + 1] - speciesStart[s];
-    mine.push(least === part);
-  }
-  return mine;
-}
-
 /** The focus analysis of the preset's reference ion (single ions traced on the run's model; no ensemble needed). */
 export function focusSection(preset: Preset, model: AnalyserModel, population: PopulationSpec): FocusSection | { readonly error: string } {
   const refMz = preset.analysis?.focusReferenceMz;
