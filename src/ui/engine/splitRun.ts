@@ -83,4 +83,4 @@ export async function splitRun(lanes: readonly SplitRunLane[], request: RunReque
 }
 
 /** A chunk that had none of its own ions to cross the mirror by the map (all fitted elsewhere). */
-const noChunkReport: MirrorMapReport = { mapped: 0, traced: 0, struckByMap: 0, note: '', species: [] };
+const noChunkReport: MirrorMapReport = { mapped: 0, traced: 0, struckByMap: 0, struckBackByMap: 0, note: '', species: [] };
