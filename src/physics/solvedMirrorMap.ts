@@ -965,7 +965,14 @@ export class SolvedMirrorMapper implements MirrorMap {
     f.sumDir2 += d2;
     const n = ++f.rays;
     if (!(rel <= TIME_TOL_MAX)) return this.refuseFit(f, `validation ray outside tolerance (time ${rel.toExponential(1)} relative)`);
-    if (n < VALIDATE_RAYS) return;
+    if (n < VALIDATE_RAYS) {
+      // Refused as soon as the rays so far put the rms over a limit whatever the rest bring (the same
+      // decision as at VALIDATE_RAYS rays, with fewer FINE traces).
+      const bound = (sum: number) => Math.sqrt(sum / VALIDATE_RAYS);
+      if (bound(f.sumTime2) > TIME_TOL_RMS || bound(f.sumPos2) > POSITION_TOL_RMS_M || bound(f.sumDir2) > DIRECTION_TOL_RMS)
+        this.refuseFit(f, `validation outside tolerance after ${n} of ${VALIDATE_RAYS} rays (rms over all of them at least: time ${bound(f.sumTime2).toExponential(1)} relative, exit position ${bound(f.sumPos2).toExponential(1)} m, direction ${bound(f.sumDir2).toExponential(1)})`);
+      return;
+    }
     const timeRms = Math.sqrt(f.sumTime2 / n);
     const posRms = Math.sqrt(f.sumPos2 / n);
     const dirRms = Math.sqrt(f.sumDir2 / n);
@@ -994,9 +1001,17 @@ export class SolvedMirrorMapper implements MirrorMap {
       m.trainUntil = m.report.traced + RETRAIN_RAYS;
       return;
     }
-    if (m.partitions.some((part) => part.pieces.some((p) => p.state === State.VALIDATING))) return;
     const es = m.rays.map((r) => (this.setInput(m, r.x, r.y, r.dx, r.dy, r.U), this.inp.eg));
     const held = (part: Partition) => es.filter((e) => e >= m.eLo && e <= m.eHi && part.piece(e).state === State.MAPPED).length;
+    if (m.partitions.some((part) => part.pieces.some((p) => p.state === State.VALIDATING))) {
+      // Decided early when the choice made once every piece is decided is already known: a candidate
+      // whose pieces all validated holds every training ray in the domain, which no later candidate
+      // can exceed, and no earlier one can reach once it has a refused piece holding a ray.
+      const inside = es.filter((e) => e >= m.eLo && e <= m.eHi).length;
+      const reachable = (part: Partition) => es.filter((e) => e >= m.eLo && e <= m.eHi && part.piece(e).state !== State.DIRECT).length;
+      const full = m.partitions.findIndex((part) => held(part) === inside);
+      if (full < 0 || m.partitions.slice(0, full).some((part) => reachable(part) === inside)) return;
+    }
     let best: Partition | null = null;
     for (const part of m.partitions) if (held(part) > (best === null ? 0 : held(best))) best = part;
     const shown = best ?? m.partitions[0];
