@@ -28,7 +28,8 @@
  * Domain: the central range of the training rays (DOMAIN_QUANTILE), and, where the mirror has an
  * entrance aperture, an entry and a predicted exit line that pass it within APERTURE_MARGIN of its
  * radius (the rays that strike it graze its edge). Ions outside are traced directly, except those
- * the strike pre-test (STRIKE_RADIUS) takes as struck on the entrance electrode. Where the whole-
+ * the strike pre-test (STRIKE_RADIUS) takes as struck on the entrance electrode and those the
+ * back-plate pre-test (BACK_MARGIN) takes as struck on the back plate. Where the whole-
  * domain map is refused, the species trains on more ions and its domain is split by energy into
  * pieces validated one by one (RETRAIN_RAYS); the ions of refused pieces are traced. Once a species'
  * map is decided (in use or refused, at the end of validation) every later ion's crossing depends
