@@ -399,6 +399,8 @@ class SpeciesMap {
   whole = new PolyFit();
   /** Where the whole map is refused: the candidate splits by energy (fitted after retraining), and the one in use (null: the whole map). */
   partitions: Partition[] = [];
+  /** The normalised energies of the training rays inside the domain, once the pieces are fitted (the rays do not change while they are validated). */
+  innerEs: number[] = [];
   chosen: Partition | null = null;
   /** Once in use: the estimated share of its later ions that the map leaves to the tracer (for balancing a split run's chunks). */
   tracedShare = 1;
@@ -1002,16 +1004,16 @@ export class SolvedMirrorMapper implements MirrorMap {
       m.trainUntil = m.report.traced + RETRAIN_RAYS;
       return;
     }
-    const es = m.rays.map((r) => (this.setInput(m, r.x, r.y, r.dx, r.dy, r.U), this.inp.eg));
-    const held = (part: Partition) => es.filter((e) => e >= m.eLo && e <= m.eHi && part.piece(e).state === State.MAPPED).length;
+    const es = m.innerEs;
+    const held = (part: Partition) => es.filter((e) => part.piece(e).state === State.MAPPED).length;
     if (m.partitions.some((part) => part.pieces.some((p) => p.state === State.VALIDATING))) {
       // Decided early when the choice made once every piece is decided is already known: a candidate
       // whose pieces all validated holds every training ray in the domain, which no later candidate
       // can exceed, and no earlier one can reach once it has a refused piece holding a ray.
-      const inside = es.filter((e) => e >= m.eLo && e <= m.eHi).length;
-      const reachable = (part: Partition) => es.filter((e) => e >= m.eLo && e <= m.eHi && part.piece(e).state !== State.DIRECT).length;
-      const full = m.partitions.findIndex((part) => held(part) === inside);
-      if (full < 0 || m.partitions.slice(0, full).some((part) => reachable(part) === inside)) return;
+      const complete = (part: Partition) => part.pieces.every((p) => p.state === State.MAPPED);
+      const spoiled = (part: Partition) => es.some((e) => part.piece(e).state === State.DIRECT);
+      const full = m.partitions.findIndex(complete);
+      if (full < 0 || !m.partitions.slice(0, full).every(spoiled)) return;
     }
     let best: Partition | null = null;
     for (const part of m.partitions) if (held(part) > (best === null ? 0 : held(best))) best = part;
@@ -1154,6 +1156,7 @@ export class SolvedMirrorMapper implements MirrorMap {
       this.restartStrikes(m, lin);
       m.struckRays.length = 0;
       m.partitions = PIECE_COUNTS.map((count) => this.fitPartition(m, count, lin)).filter((part) => part !== null);
+      m.innerEs = m.rays.map((r) => (this.setInput(m, r.x, r.y, r.dx, r.dy, r.U), this.inp.eg)).filter((e) => e >= m.eLo && e <= m.eHi);
       if (m.partitions.length === 0) {
         m.rays.length = 0;
         return this.giveUp(m, `${m.whole.note}; too few training rays for energy pieces`);
