@@ -35,6 +35,11 @@ export interface RunMapFit {
   readonly open: readonly boolean[];
   /** Per species of `report`: the share of its ions after the fitted ones expected to be traced directly (SolvedMirrorMapper.tracedShare). */
   readonly tracedShare: readonly number[];
+  /**
+   * [from, to) pairs: the ions of each fitted species after its fitted ones, whose maps are decided
+   * in this fit's snapshot, so a worker may trace them by it alone while others still fit.
+   */
+  readonly rest: readonly number[];
 }
 
 /**
@@ -61,6 +66,7 @@ export function mergeMapFits(fits: readonly RunMapFit[]): RunMapFit {
     firstIon: entries.map((e) => e.first),
     open: entries.map((e) => e.open),
     tracedShare: entries.map((e) => e.share),
+    rest: fits.flatMap((f) => [...f.rest]),
   };
 }
 

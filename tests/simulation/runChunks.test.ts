@@ -208,6 +208,36 @@ describe('a split run equals the unsplit run bit for bit', () => {
     });
   }
 
+  it('solved mirror, one fit slower than the other: the lane done first traces its species\' later ions meanwhile, and the run is unchanged', async () => {
+    const request: RunRequest = { preset: gridlessBack, ions: 8_000, seed: 13 };
+    const whole = runRequest(request);
+    let slowFitDone = false;
+    const calls: Array<{ lane: number; from: number; to: number; beforeSlowFit: boolean }> = [];
+    const slow: SplitRunLane[] = [0, 1].map((lane) => ({
+      traceRunChunk: async (r, a, b, m) => {
+        calls.push({ lane, from: a, to: b, beforeSlowFit: !slowFitDone });
+        return inProcess.traceRunChunk(r, a, b, m);
+      },
+      fitRunMap: async (r, p, n) => {
+        const fit = inProcess.fitRunMap(r, p, n);
+        if (lane === 1) {
+          await new Promise((resolve) => setTimeout(resolve, 20)); // the heavier species' fit takes longer
+          slowFitDone = true;
+        }
+        return fit;
+      },
+      finishRun: async (r, t, m) => inProcess.finishRun(r, t, m),
+    }));
+    const split = await splitRun(slow, request);
+    expect(bits(split.flightTime_s)).toBe(bits(whole.flightTime_s));
+    expect(bits(split.fate)).toBe(bits(whole.fate));
+    expect(withoutClock(split)).toEqual(withoutClock(whole));
+    // Lane 0 traced its species' later ions while lane 1 still fitted: the first species only.
+    const early = calls.filter((c) => c.beforeSlowFit);
+    expect(early.length).toBeGreaterThan(1);
+    expect(early.every((c) => c.lane === 0 && c.to <= 4_000)).toBe(true);
+  });
+
   it('solved mirror: the shared map is what makes the chunks agree (chunks fitting maps of their own differ)', async () => {
     const request: RunRequest = { preset: gridless, ions: 6_000, seed: 13 };
     const whole = runRequest(request);
