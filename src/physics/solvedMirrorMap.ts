@@ -262,7 +262,8 @@ interface StruckRay {
 /**
  * Numbers per species in a MirrorMapSnapshot: 17 scalars (q/m, states, normalisation, domains,
  * pieces in use: 0 for the whole map), MAX_PIECES − 1 splits, then the whole map and each piece
- * (state, eMid, eHalf, linMid, linHalf, time, position and direction coefficients; unused slots refused, zero).
+ * (state, eMid, eHalf, linMid, linHalf, time, position and direction coefficients; unused slots refused, zero),
+ * then the back-plate pre-test (BACK_STRIDE numbers). A piece split's top is the domain's eHi.
  */
 const SNAPSHOT_HEAD = 17;
 const FIT_STRIDE = 5 + TIME_TERMS + 4 * LINEAR_TERMS;
