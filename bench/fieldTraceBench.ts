@@ -24,7 +24,8 @@
  *  field_trace_steps_per_ion, field_trace_rejected_per_ion, field_trace_evals_per_ion: integration
  *                                steps, rejections and field evaluations per directly traced ion
  *  field_trace_struck            ions of the run that struck an electrode
- *  field_trace_struck_by_map     of those, the ions the map's strike pre-test took as struck (not traced)
+ *  field_trace_struck_by_map     of those, the ions the map's strike pre-test took as struck on the entrance
+ *                                electrode (not traced); field_trace_struck_back_by_map: on the back plate
  *  field_trace_low_bp_*          the speeds, map fraction and errors for the same run with the back plate at
  *                                LOW_BACK_PLATE_V (where the map is split by energy, see solvedMirrorMap.ts)
  * Runnable alone: npx tsx bench/fieldTraceBench.ts [back plate potential (V): that setting only]
@@ -49,7 +50,7 @@ const round = (x: number, digits = 4) => Number(x.toPrecision(digits));
 /** The figures of the demo as shipped, and (prefix field_trace_low_bp_) of the same run with the back plate at LOW_BACK_PLATE_V. */
 export function benchFieldTrace(ions = 20000): Record<string, number> {
   const low = benchFieldTraceAt(ions, LOW_BACK_PLATE_V);
-  const keep = ['ions_per_s', 'direct_ions_per_s', 'cpu_ions_per_s', 'direct_cpu_ions_per_s', 'map_fraction', 'rms_rel_err', 'max_rel_err', 'direct_rms_rel_err', 'direct_max_rel_err', 'changed_rms_rel_err', 'changed_max_rel_err', 'changed_direct_rms_rel_err', 'changed_direct_max_rel_err'];
+  const keep = ['ions_per_s', 'direct_ions_per_s', 'cpu_ions_per_s', 'direct_cpu_ions_per_s', 'map_fraction', 'struck_back_by_map', 'rms_rel_err', 'max_rel_err', 'direct_rms_rel_err', 'direct_max_rel_err', 'changed_rms_rel_err', 'changed_max_rel_err', 'changed_direct_rms_rel_err', 'changed_direct_max_rel_err'];
   return { ...benchFieldTraceAt(ions), ...Object.fromEntries(keep.map((k) => [`field_trace_low_bp_${k}`, low[`field_trace_${k}`]])) };
 }
 
@@ -143,6 +144,7 @@ export function benchFieldTraceAt(ions = 20000, backPlate_V?: number): Record<st
     field_trace_evals_per_ion: round(counters.evaluations / ens.count),
     field_trace_struck: struck,
     field_trace_struck_by_map: map ? map.struckByMap : 0,
+    field_trace_struck_back_by_map: map ? map.struckBackByMap : 0,
   };
 }
 

@@ -28,7 +28,8 @@
  * Domain: the central range of the training rays (DOMAIN_QUANTILE), and, where the mirror has an
  * entrance aperture, an entry and a predicted exit line that pass it within APERTURE_MARGIN of its
  * radius (the rays that strike it graze its edge). Ions outside are traced directly, except those
- * the strike pre-test (STRIKE_RADIUS) takes as struck on the entrance electrode. Where the whole-
+ * the strike pre-test (STRIKE_RADIUS) takes as struck on the entrance electrode and those the
+ * back-plate pre-test (BACK_MARGIN) takes as struck on the back plate. Where the whole-
  * domain map is refused, the species trains on more ions and its domain is split by energy into
  * pieces validated one by one (RETRAIN_RAYS); the ions of refused pieces are traced. Once a species'
  * map is decided (in use or refused, at the end of validation) every later ion's crossing depends
@@ -121,12 +122,53 @@ export const STRIKE_TIME_TOL = 1e-3;
  * the best of 2, 3 and 4 pieces mapped 0.4–0.85 of the lighter species' ions, 0.27–0.76 of the
  * heavier's, where one map mapped none below 5900 V. In the run (bench/fieldTraceBench.ts, 2·10^4
  * ions): 30 % mapped at 5580 V, 39 % at 5620, 46 % at 5660, 71 % at 5800, where none were before;
- * the ions the map changed 1.5–1.6e-7 rms flight-time error against the direct trace's 2.2e-7.
+ * the ions the map changed 1.5–1.6e-7 rms flight-time error against the direct trace's 2.2e-7. With
+ * the back-plate pre-test, the kink cut (two tops), the restarted entrance pre-test and the early
+ * decisions: 74, 74, 72 and 77 % (strikes by the pre-tests included), 1.5–2.0e-7 against 2.3–2.4e-7.
  */
 export const RETRAIN_RAYS = 400;
 export const PIECE_COUNTS: readonly number[] = [2, 3, 4];
 const MAX_PIECES = 4;
 export const PIECE_OVERLAP = 0.1;
+
+/**
+ * The top of the energy domain where the time inside stops rising with energy. Ions turning within
+ * a few mesh cells of the back plate take less time the higher their energy (traced at FINE
+ * precision on the axis of the demo at 5620 V: dt/dU ≈ +8.4e-7 s·sqrt(C/kg)/V up to 5600 V, then
+ * falling to −2.4e-6 by 5610 V, before the strikes from 5615 V), a kink no polynomial in energy
+ * follows. Where the training ray of the longest time lies more than KINK_MIN of the training
+ * energy range below the highest, the map's domain and every fit stop as far below that ray's energy
+ * as the highest lies above it; the ions above are traced (or taken by the back-plate pre-test).
+ */
+export const KINK_MIN = 0.01;
+/**
+ * Where there is a kink, the energy pieces' candidates are fitted twice: up to the cut and up to
+ * KINK_LOWER times as far below the longest-time ray's energy, validated side by side; the choice by
+ * training rays held weighs the mapped range against the pieces that validate. Measured on the demo
+ * (2·10^4 ions): with the lower top alone the heavier species' top piece validated at 5660 V (6778 of
+ * its 10^4 ions mapped against 4339) but it mapped 200–300 fewer at 5580 and 5620 V; with both tops
+ * 6722 at 5660 V and the same as with the higher alone at 5580 and 5620 V.
+ */
+export const KINK_LOWER = 2;
+
+/**
+ * Back-plate strike pre-test: an ion whose energy lies BACK_MARGIN (relative) above every training
+ * ray that came back out, inside the range of the training rays that struck the back plate, is taken
+ * as struck there without tracing, with the strike time and point of polynomials fitted to those rays,
+ * once BACK_CHECKS_MIN held-out traced ions confirmed it (struck on the same electrode, time within
+ * STRIKE_TIME_TOL, point within BACK_POINT_TOL_M) and none contradicted it. Why: below the tuned back
+ * plate potential the ions of the upper energies pass every turning point; traced, they cost as much
+ * as a detected ion (~310 field evaluations each on the demo at 5620 V, 17 % of the run's).
+ * The strike's time and point are fitted in sqrt(U − U_top) (BackFit): on the demo at 5620 V they
+ * met the training rays to 5.5–7.9e-6 rms relative (largest 2.6e-5) and 0.2–0.8 µm; a traced strike's
+ * own time is that of the step that ends in the metal (a check at 1e-4 was missed by 1.1e-4), hence the
+ * entrance pre-test's STRIKE_TIME_TOL.
+ * Measured on the demo at 5620 V (2·10^4 ions): every ion above 5615.7 V struck the back plate, every
+ * one below came back, so the margin (≈ 5.6 V) is ~30× the ~0.2 V the transverse energy moves it.
+ */
+export const BACK_MARGIN = 1e-3;
+export const BACK_CHECKS_MIN = 8;
+export const BACK_POINT_TOL_M = 1e-4;
 
 /** Monomial exponents (e, a, b, c) of the time basis: transverse order ≤ 2, fewer energy powers with it. */
 function exponents(maxTransverse: number, energyPowers: readonly number[]): Int8Array {
@@ -143,6 +185,11 @@ const TIME_BASIS = exponents(2, [8, 4, 2]);
 const LINEAR_BASIS = exponents(2, [6, 3, 1]);
 const TIME_TERMS = TIME_BASIS.length / 4;
 const LINEAR_TERMS = LINEAR_BASIS.length / 4;
+/** The back-plate strike's time and point: smaller bases (the training rays that strike are fewer, and the tolerance is looser). */
+const BACK_TIME_BASIS = exponents(1, [4, 2]);
+const BACK_POINT_BASIS = exponents(1, [3, 1]);
+const BACK_TIME_TERMS = BACK_TIME_BASIS.length / 4;
+const BACK_POINT_TERMS = BACK_POINT_BASIS.length / 4;
 
 /** Entry state in the map's variables. */
 interface MapInput {
@@ -206,16 +253,25 @@ interface StruckRay {
   dy: number;
   U: number;
   scaledTime: number;
+  /** Strike point (mesh frame) and the electrode struck. */
+  xs: number;
+  ys: number;
+  electrode: number;
 }
 
 /**
  * Numbers per species in a MirrorMapSnapshot: 17 scalars (q/m, states, normalisation, domains,
  * pieces in use: 0 for the whole map), MAX_PIECES − 1 splits, then the whole map and each piece
- * (state, eMid, eHalf, linMid, linHalf, time, position and direction coefficients; unused slots refused, zero).
+ * (state, eMid, eHalf, linMid, linHalf, time, position and direction coefficients; unused slots refused, zero),
+ * then the back-plate pre-test (BACK_STRIDE numbers). A piece split's top is the domain's eHi.
  */
 const SNAPSHOT_HEAD = 17;
 const FIT_STRIDE = 5 + TIME_TERMS + 4 * LINEAR_TERMS;
-export const SNAPSHOT_STRIDE = SNAPSHOT_HEAD + (MAX_PIECES - 1) + (1 + MAX_PIECES) * FIT_STRIDE;
+/** The back-plate pre-test: state, electrode, face z, domain (4), energy variable (3), time and point coefficients. */
+const BACK_HEAD = 10;
+const BACK_STRIDE = BACK_HEAD + BACK_TIME_TERMS + 2 * BACK_POINT_TERMS;
+const BACK_AT = SNAPSHOT_HEAD + (MAX_PIECES - 1) + (1 + MAX_PIECES) * FIT_STRIDE;
+export const SNAPSHOT_STRIDE = BACK_AT + BACK_STRIDE;
 
 function putFit(values: Float64Array, o: number, f: PolyFit | undefined): void {
   if (f === undefined) {
@@ -261,6 +317,10 @@ export interface SpeciesMapReport {
   /** Traced ions that checked the strike pre-test, and why it is not used ('' when it is or is still being checked). */
   strikeChecks: number;
   strikeNote: string;
+  /** Ions taken as struck on the back plate by its pre-test (not traced; counted in `mapped`), its checks, and why it is not used. */
+  struckBackByMap: number;
+  backChecks: number;
+  backNote: string;
   /** Where the whole-domain map was refused and the domain split by energy: each piece (empty otherwise). */
   pieces: MapPieceReport[];
 }
@@ -279,8 +339,10 @@ export interface MapPieceReport {
 export interface MirrorMapReport {
   mapped: number;
   traced: number;
-  /** Of `mapped`: ions the strike pre-test took as struck. */
+  /** Of `mapped`: ions the strike pre-test took as struck on the entrance electrode. */
   struckByMap: number;
+  /** Of `mapped`: ions the back-plate pre-test took as struck on the back plate. */
+  struckBackByMap: number;
   /** Why the map was not used (for every species), or '' when it was used for some. */
   note: string;
   species: SpeciesMapReport[];
@@ -295,6 +357,14 @@ function entranceAperture(region: SolvedRegion): Aperture | null {
     if (s[k] > 0 && s[k + 2] >= region.entryZ_m && (best === null || s[k + 2] < best.zMin)) best = { radius_m: s[k], farZ_m: s[k + 3], zMin: s[k + 2], electrode: region.solidIndex[k / 4] };
   }
   return best && { radius_m: best.radius_m, farZ_m: best.farZ_m, electrode: best.electrode };
+}
+
+/** The face of electrode `electrode` nearest the entry plane (mesh z). */
+function nearFace(region: SolvedRegion, electrode: number): number {
+  let z = Infinity;
+  const s = region.solids;
+  for (let k = 0; k < s.length; k += 4) if (region.solidIndex[k / 4] === electrode) z = Math.min(z, s[k + 2]);
+  return Number.isFinite(z) ? z : region.farZ_m;
 }
 
 /** An entrance aperture: bore radius, mirror-side face (mesh z) and electrode index. */
@@ -341,6 +411,8 @@ class SpeciesMap {
   whole = new PolyFit();
   /** Where the whole map is refused: the candidate splits by energy (fitted after retraining), and the one in use (null: the whole map). */
   partitions: Partition[] = [];
+  /** The normalised energies of the training rays inside the domain, once the pieces are fitted (the rays do not change while they are validated). */
+  innerEs: number[] = [];
   chosen: Partition | null = null;
   /** Once in use: the estimated share of its later ions that the map leaves to the tracer (for balancing a split run's chunks). */
   tracedShare = 1;
@@ -357,17 +429,47 @@ class SpeciesMap {
   eHiStrike = 1;
   aHiStrike = 1;
   cHiStrike = 1;
+  /** Normalised energy above which no fit reaches (the time's kink below the back plate; Infinity: none). */
+  eCut = Infinity;
+  /** A second, lower top for the energy pieces' candidates where there is a kink (KINK_LOWER; Infinity: none). */
+  eCutLow = Infinity;
+  /** The back-plate pre-test: the training rays that struck above every returned one, and its fit once made. */
+  readonly backRays: StruckRay[] = [];
+  back: BackFit | null = null;
+  backState: number = Strike.CHECKING;
   readonly report: SpeciesMapReport;
   constructor(qOverM: number) {
-    this.report = { qOverM_C_per_kg: qOverM, mapped: 0, traced: 0, validationRays: 0, validationTimeRms: null, validationDirectionRms: null, note: '', struckByMap: 0, strikeChecks: 0, strikeNote: '', pieces: [] };
+    this.report = { qOverM_C_per_kg: qOverM, mapped: 0, traced: 0, validationRays: 0, validationTimeRms: null, validationDirectionRms: null, note: '', struckByMap: 0, strikeChecks: 0, strikeNote: '', struckBackByMap: 0, backChecks: 0, backNote: '', pieces: [] };
   }
 }
 
-/** The domain split by energy at `splits` (normalised energies, ascending) into pieces.length maps. */
+/** The back-plate strike of a species: where it holds (normalised energy, invariants) and its time and point as polynomials. */
+class BackFit {
+  electrode = -1;
+  faceZ_m = 0;
+  eLo = 0;
+  eHi = 0;
+  aHi = 0;
+  cHi = 0;
+  /**
+   * Its local energy variable: (w − eMid)/eHalf with w = sqrt(e − eTop), eTop the highest returned
+   * training ray's normalised energy. Why the square root: an ion just past the last turning point
+   * reaches the plate slowly, its speed there ∝ sqrt(U − U_turn), and the time and point to the
+   * plate are smooth in that speed, not in U (in U the fit missed by 2.4e-2 rms on the demo at 5620 V).
+   */
+  eTop = 0;
+  eMid = 0;
+  eHalf = 1;
+  timeCoef = new Float64Array(BACK_TIME_TERMS);
+  pointCoef = new Float64Array(2 * BACK_POINT_TERMS);
+}
+
+/** The domain up to `top` (normalised energy) split by energy at `splits` (ascending) into pieces.length maps. */
 class Partition {
   constructor(
     readonly splits: number[],
     readonly pieces: PolyFit[],
+    readonly top: number,
   ) {}
   /** The piece holding the normalised energy e. */
   piece(e: number): PolyFit {
@@ -393,10 +495,15 @@ export class SolvedMirrorMapper implements MirrorMap {
   private readonly dir2 = new Float64Array(2);
   private readonly maps: SpeciesMap[] = [];
   private current: SpeciesMap | null = null;
-  readonly report: MirrorMapReport = { mapped: 0, traced: 0, struckByMap: 0, note: '', species: [] };
+  readonly report: MirrorMapReport = { mapped: 0, traced: 0, struckByMap: 0, struckBackByMap: 0, note: '', species: [] };
   /** The strike pre-test's prediction at the current input (set by predictsStrike): scaled time of the strike and its point. */
   private strikeScaledTime = 0;
   private readonly strike2 = new Float64Array(2);
+  /** The back-plate pre-test's prediction at the current input (set by predictsBackStrike), and its basis rows. */
+  private backScaledTime = 0;
+  private readonly back2 = new Float64Array(2);
+  private readonly backTimeRow = new Float64Array(BACK_TIME_TERMS);
+  private readonly backPointRow = new Float64Array(BACK_POINT_TERMS);
   private readonly trainRays = TRAIN_RAYS;
   /** Restored from a snapshot: knows only the snapshot's species, each settled. */
   private restored = false;
@@ -444,6 +551,14 @@ export class SolvedMirrorMapper implements MirrorMap {
       const fits = o + SNAPSHOT_HEAD + MAX_PIECES - 1;
       putFit(values, fits, m.whole);
       for (let k = 0; k < MAX_PIECES; k++) putFit(values, fits + (1 + k) * FIT_STRIDE, m.chosen?.pieces[k]);
+      const b = o + BACK_AT;
+      values[b] = m.backState;
+      const f = m.back;
+      if (f !== null) {
+        values.set([f.electrode, f.faceZ_m, f.eLo, f.eHi, f.aHi, f.cHi, f.eTop, f.eMid, f.eHalf], b + 1);
+        values.set(f.timeCoef, b + BACK_HEAD);
+        values.set(f.pointCoef, b + BACK_HEAD + BACK_TIME_TERMS);
+      }
     });
     return { values, species: settled.map((m) => ({ ...m.report, pieces: m.report.pieces.map((p) => ({ ...p })) })) };
   }
@@ -460,14 +575,23 @@ export class SolvedMirrorMapper implements MirrorMap {
       const o = i * SNAPSHOT_STRIDE;
       if (v[o] !== r.qOverM_C_per_kg || !(v[o + 1] === State.MAPPED || v[o + 1] === State.DIRECT)) throw new Error('a transfer-map snapshot holds a species that is not settled');
       const m = new SpeciesMap(v[o]);
-      Object.assign(m.report, r, { mapped: 0, traced: 0, struckByMap: 0, pieces: r.pieces.map((p) => ({ ...p })) });
+      Object.assign(m.report, r, { mapped: 0, traced: 0, struckByMap: 0, struckBackByMap: 0, pieces: r.pieces.map((p) => ({ ...p })) });
       m.state = v[o + 1];
       m.strikeState = v[o + 2];
       [m.uMid, m.uHalf, m.virtualSource_m, m.rMax, m.dMax, m.eLo, m.eHi, m.aHi, m.cHi, m.eLoStrike, m.eHiStrike, m.aHiStrike, m.cHiStrike] = v.subarray(o + 3, o + SNAPSHOT_HEAD - 1);
       const count = v[o + SNAPSHOT_HEAD - 1];
       const fits = o + SNAPSHOT_HEAD + MAX_PIECES - 1;
       m.whole = getFit(v, fits);
-      if (count > 0) m.chosen = new Partition(Array.from(v.subarray(o + SNAPSHOT_HEAD, o + SNAPSHOT_HEAD + count - 1)), Array.from({ length: count }, (_, k) => getFit(v, fits + (1 + k) * FIT_STRIDE)));
+      const b = o + BACK_AT;
+      m.backState = v[b];
+      if (m.backState === Strike.USED) {
+        const f = new BackFit();
+        [f.electrode, f.faceZ_m, f.eLo, f.eHi, f.aHi, f.cHi, f.eTop, f.eMid, f.eHalf] = v.subarray(b + 1, b + BACK_HEAD);
+        f.timeCoef = v.slice(b + BACK_HEAD, b + BACK_HEAD + BACK_TIME_TERMS);
+        f.pointCoef = v.slice(b + BACK_HEAD + BACK_TIME_TERMS, b + BACK_STRIDE);
+        m.back = f;
+      }
+      if (count > 0) m.chosen = new Partition(Array.from(v.subarray(o + SNAPSHOT_HEAD, o + SNAPSHOT_HEAD + count - 1)), Array.from({ length: count }, (_, k) => getFit(v, fits + (1 + k) * FIT_STRIDE)), m.eHi);
       mapper.maps.push(m);
       mapper.report.species.push(m.report);
     });
@@ -512,6 +636,15 @@ export class SolvedMirrorMapper implements MirrorMap {
     const dx0 = ion.vx / speed;
     const dy0 = ion.vy / speed;
     const usable = k > 0 && st.v > 0;
+    // Past every turning point: the back-plate pre-test (checked from its fit until the map is decided, used after).
+    const backTest = usable && m.back !== null && m.backState !== Strike.REFUSED && this.predictsBackStrike(m, x0, y0, dx0, dy0, U);
+    if (backTest && m.backState === Strike.USED) {
+      m.report.mapped++;
+      m.report.struckBackByMap++;
+      this.report.mapped++;
+      this.report.struckBackByMap++;
+      return this.applyBackStrike(st, k);
+    }
     // The map that would carry this ion (or be validated on it), and whether the ion is inside its domain.
     const fit = usable && (m.state === State.MAPPED || m.state === State.VALIDATING) && this.setInput(m, x0, y0, dx0, dy0, U) ? this.fitFor(m) : null;
     const inside = fit !== null && this.inDomain(m, fit, x0, y0, dx0, dy0);
@@ -536,10 +669,11 @@ export class SolvedMirrorMapper implements MirrorMap {
     m.report.traced++;
     this.report.traced++;
     if (strikeTest) this.checkStrike(m, exit === Fate.STRUCK_ELECTRODE, (ion.t - t0) * Math.sqrt(k), this.strikeScaledTime);
+    if (backTest) this.checkBack(m, exit === Fate.STRUCK_ELECTRODE ? ion.struckElectrode : null, (ion.t - t0) * Math.sqrt(k), ion.x, ion.y);
     if (training && usable) {
       // A training ray that does not come back (a strike) is not fitted; it checks the strike pre-test after the fit.
       if (exit === Exit.ENTRY) m.rays.push({ x: x0, y: y0, dx: dx0, dy: dy0, U, scaledTime: (ion.t - t0) * Math.sqrt(k), xOut: ion.x, yOut: ion.y, dxOut: ion.vx / speed, dyOut: ion.vy / speed });
-      else if (exit === Fate.STRUCK_ELECTRODE) m.struckRays.push({ x: x0, y: y0, dx: dx0, dy: dy0, U, scaledTime: (ion.t - t0) * Math.sqrt(k) });
+      else if (exit === Fate.STRUCK_ELECTRODE) m.struckRays.push({ x: x0, y: y0, dx: dx0, dy: dy0, U, scaledTime: (ion.t - t0) * Math.sqrt(k), xs: ion.x, ys: ion.y, electrode: ion.struckElectrode });
       if (m.report.traced >= m.trainUntil) this.fit(m);
     } else if (validating && fit !== null) {
       m.report.validationRays++;
@@ -557,6 +691,7 @@ export class SolvedMirrorMapper implements MirrorMap {
         // One FINE ray validates the piece it falls in of every candidate split.
         this.setInput(m, x0, y0, dx0, dy0, U);
         for (const part of m.partitions) {
+          if (this.inp.eg > part.top) continue;
           const f = part.piece(this.inp.eg);
           if (f.state !== State.VALIDATING || !this.inDomain(m, f, x0, y0, dx0, dy0)) continue;
           if (exit !== Exit.ENTRY) this.refuseFit(f, 'a validation ray inside the fitted domain did not come back out of the mirror');
@@ -603,6 +738,24 @@ export class SolvedMirrorMapper implements MirrorMap {
     return true;
   }
 
+  /**
+   * The entrance strike pre-test once the whole map is refused and pieces are fitted: it predicts the
+   * exit line by the pieces' shared exit position and direction (`lin`, fitted on the retrained rays
+   * and validated with every piece) and the strike time by the whole map's time (its misses, ~1e-5,
+   * are far inside STRIKE_TIME_TOL), so the checks start again: the training rays that came back
+   * must not be predicted struck, the struck ones (held out: never fitted) predicted so are checks,
+   * and the traced ions during the pieces' validation check it on. Why: on the demo at 5620 V the
+   * heavier species' entrance strikes, all traced, cost ~20 % of the run's field evaluations.
+   */
+  private restartStrikes(m: SpeciesMap, lin: PolyFit): void {
+    if (m.strikeState !== Strike.CHECKING) return;
+    m.report.strikeChecks = 0;
+    m.whole.posCoef = lin.posCoef;
+    m.whole.dirCoef = lin.dirCoef;
+    for (const r of m.rays) if (this.predictsStrike(m, r.x, r.y, r.dx, r.dy, r.U)) return this.refuseStrikes(m, 'a training ray predicted to strike the entrance electrode came back out');
+    for (const r of m.struckRays) if (this.predictsStrike(m, r.x, r.y, r.dx, r.dy, r.U)) this.checkStrike(m, true, r.scaledTime, this.strikeScaledTime);
+  }
+
   /** A traced ion the strike pre-test predicted struck: a check of the prediction (strike, and its time). */
   private checkStrike(m: SpeciesMap, struck: boolean, scaledTime: number, predicted: number): void {
     if (m.strikeState === Strike.REFUSED) return;
@@ -632,9 +785,158 @@ export class SolvedMirrorMapper implements MirrorMap {
     return finish(st, ion, Fate.STRUCK_ELECTRODE);
   }
 
+  /**
+   * The training rays that struck above the energy of every one that came back out (moved from
+   * struckRays to backRays): the back-plate pre-test's training rays. The rest stay in struckRays.
+   */
+  private sortStruck(m: SpeciesMap): void {
+    let uTop = -Infinity;
+    for (const r of m.rays) uTop = Math.max(uTop, r.U);
+    // Not the entrance electrode's: those are the entrance pre-test's, whatever their energy.
+    const past = (r: StruckRay) => r.U > uTop && r.electrode !== this.aperture?.electrode;
+    const rest = m.struckRays.filter((r) => !past(r));
+    for (const r of m.struckRays) if (past(r)) m.backRays.push(r);
+    m.struckRays.length = 0;
+    m.struckRays.push(...rest);
+  }
+
+  /**
+   * The back-plate pre-test fitted to backRays (once, when there are enough of them): its domain
+   * starts BACK_MARGIN above every returned training ray's energy; strike time and point are
+   * least-squares polynomials of the entry invariants in their own energy variable.
+   */
+  private fitBack(m: SpeciesMap): void {
+    if (m.back !== null || m.backState !== Strike.CHECKING || m.backRays.length === 0) return;
+    const electrode = m.backRays[0].electrode;
+    if (m.backRays.some((r) => r.electrode !== electrode)) return this.refuseBack(m, 'the training rays above every returned energy struck more than one electrode');
+    let uTop = -Infinity;
+    for (const r of m.rays) uTop = Math.max(uTop, r.U);
+    const uLo = uTop * (1 + BACK_MARGIN);
+    // Fitted to the rays inside its domain only: the ones just past the last turning point linger.
+    const rays = m.backRays.filter((r) => r.U >= uLo);
+    if (rays.length < 2 * BACK_TIME_TERMS) return;
+    const f = new BackFit();
+    f.electrode = electrode;
+    f.faceZ_m = nearFace(this.mirror.region, electrode);
+    const inp = this.inp;
+    f.eTop = (uTop - m.uMid) / m.uHalf;
+    f.eLo = (uLo - m.uMid) / m.uHalf;
+    f.eHi = -Infinity;
+    for (const r of rays) {
+      this.setInput(m, r.x, r.y, r.dx, r.dy, r.U);
+      f.eHi = Math.max(f.eHi, inp.eg);
+      f.aHi = Math.max(f.aHi, inp.a);
+      f.cHi = Math.max(f.cHi, inp.c);
+    }
+    const wLo = Math.sqrt(f.eLo - f.eTop);
+    const wHi = Math.sqrt(f.eHi - f.eTop);
+    f.eMid = 0.5 * (wLo + wHi);
+    f.eHalf = wHi > wLo ? 0.5 * (wHi - wLo) : 1;
+    const n = rays.length;
+    const A = new Float64Array(n * BACK_TIME_TERMS);
+    const rhs = new Float64Array(n);
+    const A2 = new Float64Array(2 * n * 2 * BACK_POINT_TERMS);
+    const pts = new Float64Array(2 * n);
+    let timeScale = 0;
+    for (const r of rays) timeScale += r.scaledTime / n;
+    rays.forEach((r, i) => {
+      this.setInput(m, r.x, r.y, r.dx, r.dy, r.U);
+      inp.e = (Math.sqrt(inp.eg - f.eTop) - f.eMid) / f.eHalf;
+      basis(BACK_TIME_BASIS, inp, this.backTimeRow);
+      A.set(this.backTimeRow, i * BACK_TIME_TERMS);
+      rhs[i] = r.scaledTime / timeScale - 1;
+      basis(BACK_POINT_BASIS, inp, this.backPointRow);
+      const row = this.backPointRow;
+      const w = 2 * BACK_POINT_TERMS;
+      for (let k = 0; k < BACK_POINT_TERMS; k++) {
+        A2[2 * i * w + k] = inp.px * row[k];
+        A2[2 * i * w + BACK_POINT_TERMS + k] = inp.dx * row[k];
+        A2[(2 * i + 1) * w + k] = inp.py * row[k];
+        A2[(2 * i + 1) * w + BACK_POINT_TERMS + k] = inp.dy * row[k];
+      }
+      pts[2 * i] = r.xs;
+      pts[2 * i + 1] = r.ys;
+    });
+    const timeCoef = solveLeastSquares(A, n, BACK_TIME_TERMS, rhs, 1e-6);
+    for (let k = 0; k < BACK_TIME_TERMS; k++) timeCoef[k] *= timeScale;
+    timeCoef[0] += timeScale;
+    f.timeCoef = timeCoef;
+    f.pointCoef = solveLeastSquares(A2, 2 * n, 2 * BACK_POINT_TERMS, pts, 1e-6);
+    m.back = f;
+  }
+
+  /** The back-plate pre-test at an entry: inside its domain; leaves the predicted strike (scaled time, point) in backScaledTime and back2. */
+  private predictsBackStrike(m: SpeciesMap, x: number, y: number, dx: number, dy: number, U: number): boolean {
+    const f = m.back;
+    if (f === null) return false;
+    this.setInput(m, x, y, dx, dy, U);
+    const inp = this.inp;
+    if (!(inp.eg >= f.eLo && inp.eg <= f.eHi && inp.a <= f.aHi && inp.c <= f.cHi)) return false;
+    inp.e = (Math.sqrt(inp.eg - f.eTop) - f.eMid) / f.eHalf;
+    const timeRow = this.backTimeRow;
+    basis(BACK_TIME_BASIS, inp, timeRow);
+    let t = 0;
+    for (let k = 0; k < BACK_TIME_TERMS; k++) t += f.timeCoef[k] * timeRow[k];
+    this.backScaledTime = t;
+    const row = this.backPointRow;
+    basis(BACK_POINT_BASIS, inp, row);
+    let g = 0;
+    let h = 0;
+    for (let k = 0; k < BACK_POINT_TERMS; k++) {
+      g += f.pointCoef[k] * row[k];
+      h += f.pointCoef[BACK_POINT_TERMS + k] * row[k];
+    }
+    this.back2[0] = inp.px * g + inp.dx * h;
+    this.back2[1] = inp.py * g + inp.dy * h;
+    return true;
+  }
+
+  /** A traced ion the back-plate pre-test predicted struck (electrode: the one it struck, null when it did not strike): a check. */
+  private checkBack(m: SpeciesMap, electrode: number | null, scaledTime: number, xs: number, ys: number): void {
+    if (m.backState !== Strike.CHECKING) return;
+    const f = m.back!;
+    if (electrode !== f.electrode) return this.refuseBack(m, electrode === null ? 'an ion predicted to strike the back plate did not strike' : 'an ion predicted to strike the back plate struck another electrode');
+    const rel = Math.abs(this.backScaledTime - scaledTime) / scaledTime;
+    if (!(rel <= STRIKE_TIME_TOL)) return this.refuseBack(m, `a predicted back-plate strike time was off by ${rel.toExponential(1)} relative`);
+    const miss = Math.hypot(this.back2[0] - xs, this.back2[1] - ys);
+    if (!(miss <= BACK_POINT_TOL_M)) return this.refuseBack(m, `a predicted back-plate strike point was off by ${miss.toExponential(1)} m`);
+    m.report.backChecks++;
+  }
+
+  private refuseBack(m: SpeciesMap, note: string): void {
+    m.backState = Strike.REFUSED;
+    m.report.backNote = note;
+  }
+
+  /** The back-plate pre-test decided with the species' map (in use or refused), so that every later ion's crossing depends on that ion alone. */
+  private decideBack(m: SpeciesMap): void {
+    if (m.backState !== Strike.CHECKING) return;
+    if (m.back !== null && m.report.backChecks >= BACK_CHECKS_MIN) m.backState = Strike.USED;
+    else if (m.back !== null) this.refuseBack(m, `too few checks (${m.report.backChecks} of ${BACK_CHECKS_MIN}) by the end of validation`);
+    else this.refuseBack(m, m.backRays.length === 0 ? '' : `too few training rays struck the back plate (${m.backRays.length})`);
+    m.backRays.length = 0;
+  }
+
+  /** The strike predicted by predictsBackStrike: the ion ends on the back plate's face (its velocity there is not recorded for a strike). */
+  private applyBackStrike(st: IonState, k: number): boolean {
+    const ion = this.ion;
+    const f = this.current!.back!;
+    ion.t = st.t + this.backScaledTime / Math.sqrt(k);
+    ion.x = this.back2[0];
+    ion.y = this.back2[1];
+    ion.z = f.faceZ_m;
+    ion.vx = 0;
+    ion.vy = 0;
+    ion.vz = 0;
+    ion.struckElectrode = f.electrode;
+    return finish(st, ion, Fate.STRUCK_ELECTRODE);
+  }
+
   private giveUp(m: SpeciesMap, note: string): void {
     m.state = State.DIRECT;
     m.report.note = note;
+    if (m.strikeState === Strike.CHECKING) this.refuseStrikes(m, 'the transfer map was refused');
+    this.decideBack(m);
     this.report.note = this.maps.every((s) => s.state === State.DIRECT) ? note : '';
   }
 
@@ -651,6 +953,7 @@ export class SolvedMirrorMapper implements MirrorMap {
     }
     if (m.whole.state === State.VALIDATING) return m.whole;
     for (const part of m.partitions) {
+      if (this.inp.eg > part.top) continue;
       const piece = part.piece(this.inp.eg);
       if (piece.state === State.VALIDATING) return piece;
     }
@@ -682,7 +985,14 @@ export class SolvedMirrorMapper implements MirrorMap {
     f.sumDir2 += d2;
     const n = ++f.rays;
     if (!(rel <= TIME_TOL_MAX)) return this.refuseFit(f, `validation ray outside tolerance (time ${rel.toExponential(1)} relative)`);
-    if (n < VALIDATE_RAYS) return;
+    if (n < VALIDATE_RAYS) {
+      // Refused as soon as the rays so far put the rms over a limit whatever the rest bring (the same
+      // decision as at VALIDATE_RAYS rays, with fewer FINE traces).
+      const bound = (sum: number) => Math.sqrt(sum / VALIDATE_RAYS);
+      if (bound(f.sumTime2) > TIME_TOL_RMS || bound(f.sumPos2) > POSITION_TOL_RMS_M || bound(f.sumDir2) > DIRECTION_TOL_RMS)
+        this.refuseFit(f, `validation outside tolerance after ${n} of ${VALIDATE_RAYS} rays (rms over all of them at least: time ${bound(f.sumTime2).toExponential(1)} relative, exit position ${bound(f.sumPos2).toExponential(1)} m, direction ${bound(f.sumDir2).toExponential(1)})`);
+      return;
+    }
     const timeRms = Math.sqrt(f.sumTime2 / n);
     const posRms = Math.sqrt(f.sumPos2 / n);
     const dirRms = Math.sqrt(f.sumDir2 / n);
@@ -694,8 +1004,8 @@ export class SolvedMirrorMapper implements MirrorMap {
    * The species' map decided: the whole map once it validated; once it is refused, the species
    * trains on RETRAIN_RAYS more ions and fits the candidate splits (fit), and once every piece of
    * every candidate is decided, the split whose validated pieces hold the most training rays is
-   * used (none validated: every ion traced). The strike pre-test predicts by the whole map and is
-   * used only with it.
+   * used (none validated: every ion traced). The strike pre-test predicts by the whole map's time
+   * and, once pieces are fitted, by their shared exit position and direction (restartStrikes).
    */
   private decide(m: SpeciesMap): void {
     const w = m.whole;
@@ -706,21 +1016,29 @@ export class SolvedMirrorMapper implements MirrorMap {
       return this.inUse(m);
     }
     if (m.partitions.length === 0) {
-      // The whole map was just refused: train on, then fit the pieces.
-      if (m.strikeState !== Strike.REFUSED) this.refuseStrikes(m, 'it predicts by the whole-domain map, which was refused');
+      // The whole map was just refused: train on, then fit the pieces (the strike pre-test restarts with them).
       m.state = State.TRAINING;
       m.trainUntil = m.report.traced + RETRAIN_RAYS;
       return;
     }
-    if (m.partitions.some((part) => part.pieces.some((p) => p.state === State.VALIDATING))) return;
-    const es = m.rays.map((r) => (this.setInput(m, r.x, r.y, r.dx, r.dy, r.U), this.inp.eg));
-    const held = (part: Partition) => es.filter((e) => e >= m.eLo && e <= m.eHi && part.piece(e).state === State.MAPPED).length;
+    const es = m.innerEs;
+    const held = (part: Partition) => es.filter((e) => e <= part.top && part.piece(e).state === State.MAPPED).length;
+    if (m.partitions.some((part) => part.pieces.some((p) => p.state === State.VALIDATING))) {
+      // Decided early when the choice made once every piece is decided is already known: a candidate
+      // whose pieces are all decided holds what it will hold; it is the choice once every earlier
+      // candidate can hold fewer at best (its rays in pieces not refused) and every later one no more.
+      const reachable = (part: Partition) => es.filter((e) => e <= part.top && part.piece(e).state !== State.DIRECT).length;
+      const decided = (part: Partition) => part.pieces.every((p) => p.state !== State.VALIDATING);
+      const parts = m.partitions;
+      const known = parts.findIndex((part, j) => decided(part) && held(part) > 0 && parts.every((other, i) => i === j || (i < j ? reachable(other) < held(part) : reachable(other) <= held(part))));
+      if (known < 0) return;
+    }
     let best: Partition | null = null;
     for (const part of m.partitions) if (held(part) > (best === null ? 0 : held(best))) best = part;
     const shown = best ?? m.partitions[0];
     m.report.pieces = shown.pieces.map((p, k) => ({
       uFrom_V: m.uMid + m.uHalf * (k === 0 ? m.eLo : shown.splits[k - 1]),
-      uTo_V: m.uMid + m.uHalf * (k === shown.splits.length ? m.eHi : shown.splits[k]),
+      uTo_V: m.uMid + m.uHalf * (k === shown.splits.length ? shown.top : shown.splits[k]),
       validationRays: p.rays,
       validationTimeRms: p.rays > 0 ? Math.sqrt(p.sumTime2 / p.rays) : null,
       note: p.note,
@@ -734,6 +1052,7 @@ export class SolvedMirrorMapper implements MirrorMap {
     m.report.validationTimeRms = Math.sqrt(used.reduce((sum, p) => sum + p.sumTime2, 0) / n);
     m.report.validationDirectionRms = Math.sqrt(used.reduce((sum, p) => sum + p.sumDir2, 0) / n);
     m.chosen = best;
+    m.eHi = best.top; // the domain ends where the chosen candidate does
     this.inUse(m);
   }
 
@@ -747,6 +1066,10 @@ export class SolvedMirrorMapper implements MirrorMap {
       const f = this.fitFor(m);
       if (f !== null && this.inDomain(m, f, r.x, r.y, r.dx, r.dy)) carried++;
     }
+    let backCarried = m.report.backChecks;
+    for (const r of m.backRays) if (this.predictsBackStrike(m, r.x, r.y, r.dx, r.dy, r.U)) backCarried++;
+    this.decideBack(m);
+    if (m.backState === Strike.USED) carried += backCarried;
     m.tracedShare = 1 - carried / Math.max(m.report.traced, 1);
     m.rays.length = 0;
     // The strike pre-test is decided with the map, so that from here on every ion's crossing depends on that ion alone.
@@ -824,7 +1147,7 @@ export class SolvedMirrorMapper implements MirrorMap {
     cs.sort(byValue);
     const at = (xs: number[], q: number) => xs[Math.min(xs.length - 1, Math.max(0, Math.round(q * (xs.length - 1))))];
     m.eLo = at(es, DOMAIN_QUANTILE);
-    m.eHi = at(es, 1 - DOMAIN_QUANTILE);
+    m.eHi = Math.min(at(es, 1 - DOMAIN_QUANTILE), m.eCut);
     m.aHi = at(as, 1 - DOMAIN_QUANTILE);
     m.cHi = at(cs, 1 - DOMAIN_QUANTILE);
     // The strike pre-test's domain: the full range of every training ray, struck ones included.
@@ -835,7 +1158,7 @@ export class SolvedMirrorMapper implements MirrorMap {
       cs.push(inp.c);
     }
     m.eLoStrike = Math.min(...es);
-    m.eHiStrike = Math.max(...es);
+    m.eHiStrike = Math.min(Math.max(...es), m.eCut);
     m.aHiStrike = Math.max(...as);
     m.cHiStrike = Math.max(...cs);
   }
@@ -843,12 +1166,17 @@ export class SolvedMirrorMapper implements MirrorMap {
   private fit(m: SpeciesMap): void {
     if (m.whole.state === State.DIRECT) {
       // After retraining: the candidate splits by energy, in the first fit's normalisation and domain.
-      m.struckRays.length = 0;
+      this.sortStruck(m);
+      this.fitBack(m);
       // One exit position and direction fit over the whole domain for every piece: on the rays clear
       // of the aperture it holds to ~1e-6 rad where the time needs pieces, and it saves nine fits.
       const lin = new PolyFit();
-      this.fitPoly(m, lin, m.rays, 'linear');
-      m.partitions = PIECE_COUNTS.map((count) => this.fitPartition(m, count, lin)).filter((part) => part !== null);
+      this.fitPoly(m, lin, this.belowCut(m, m.rays), 'linear');
+      this.restartStrikes(m, lin);
+      m.struckRays.length = 0;
+      const tops = m.eCutLow < m.eHi ? [m.eHi, m.eCutLow] : [m.eHi];
+      m.partitions = tops.flatMap((top) => PIECE_COUNTS.map((count) => this.fitPartition(m, count, lin, top))).filter((part) => part !== null);
+      m.innerEs = m.rays.map((r) => (this.setInput(m, r.x, r.y, r.dx, r.dy, r.U), this.inp.eg)).filter((e) => e >= m.eLo && e <= m.eHi);
       if (m.partitions.length === 0) {
         m.rays.length = 0;
         return this.giveUp(m, `${m.whole.note}; too few training rays for energy pieces`);
@@ -883,7 +1211,27 @@ export class SolvedMirrorMapper implements MirrorMap {
     m.uHalf = uHi > uLo ? 0.5 * (uHi - uLo) : Math.max(1e-9 * Math.abs(m.uMid), 1e-12);
     m.rMax = r2 > 0 ? Math.sqrt(r2) : 1e-9;
     m.dMax = d2 > 0 ? Math.sqrt(d2) : 1e-12;
-    this.fitPoly(m, m.whole, rays);
+    // The time's kink below the back plate (KINK_MIN): the longest time well below the highest energy.
+    let tPeak = -Infinity;
+    let uPeak = uHi;
+    for (const r of rays) {
+      if (r.scaledTime > tPeak) {
+        tPeak = r.scaledTime;
+        uPeak = r.U;
+      }
+    }
+    if (uHi - uPeak > KINK_MIN * (uHi - uLo)) {
+      m.eCut = (uPeak - (uHi - uPeak) - m.uMid) / m.uHalf;
+      m.eCutLow = (uPeak - KINK_LOWER * (uHi - uPeak) - m.uMid) / m.uHalf;
+    }
+    this.sortStruck(m);
+    this.fitBack(m);
+    const fitRays = this.belowCut(m, rays);
+    if (fitRays.length < 2 * TIME_TERMS) {
+      m.rays.length = 0;
+      return this.giveUp(m, `too few training rays came back out of the mirror below the time's kink (${fitRays.length})`);
+    }
+    this.fitPoly(m, m.whole, fitRays);
     this.setDomain(m);
     m.state = State.VALIDATING;
     // The pre-test against the training rays: none that came back may be predicted struck (a check
@@ -891,6 +1239,12 @@ export class SolvedMirrorMapper implements MirrorMap {
     for (const r of m.rays) if (this.predictsStrike(m, r.x, r.y, r.dx, r.dy, r.U)) this.refuseStrikes(m, 'a training ray predicted to strike the entrance electrode came back out');
     for (const r of m.struckRays) if (this.predictsStrike(m, r.x, r.y, r.dx, r.dy, r.U)) this.checkStrike(m, true, r.scaledTime, this.strikeScaledTime);
     m.struckRays.length = 0; // the rays that came back stay, for the pieces should the whole map be refused
+  }
+
+  /** The rays below the species' energy cut (all of them where it has none). */
+  private belowCut(m: SpeciesMap, rays: readonly Ray[]): Ray[] {
+    if (m.eCut === Infinity) return rays.slice();
+    return rays.filter((r) => (r.U - m.uMid) / m.uHalf <= m.eCut);
   }
 
   /** Map `f` fitted (least squares) to `rays`, in its local energy variable. */
@@ -962,19 +1316,19 @@ export class SolvedMirrorMapper implements MirrorMap {
    * the training rays within it and PIECE_OVERLAP of its width beyond; null when a piece would
    * have fewer than twice the time basis' terms.
    */
-  private fitPartition(m: SpeciesMap, count: number, lin: PolyFit): Partition | null {
+  private fitPartition(m: SpeciesMap, count: number, lin: PolyFit, top: number): Partition | null {
     const inp = this.inp;
     const es = m.rays.map((r) => (this.setInput(m, r.x, r.y, r.dx, r.dy, r.U), inp.eg));
-    const inner = es.filter((e) => e >= m.eLo && e <= m.eHi).sort((p, q) => p - q);
+    const inner = es.filter((e) => e >= m.eLo && e <= top).sort((p, q) => p - q);
     if (inner.length === 0) return null;
     const splits = Array.from({ length: count - 1 }, (_, k) => inner[Math.round(((k + 1) * (inner.length - 1)) / count)]);
-    const edges = [m.eLo, ...splits, m.eHi];
+    const edges = [m.eLo, ...splits, top];
     const pieces: PolyFit[] = [];
     for (let k = 0; k < count; k++) {
       const width = edges[k + 1] - edges[k];
       const lo = edges[k] - PIECE_OVERLAP * width;
       const hi = edges[k + 1] + PIECE_OVERLAP * width;
-      const rays = m.rays.filter((_, i) => es[i] >= lo && es[i] <= hi);
+      const rays = m.rays.filter((_, i) => es[i] >= lo && es[i] <= hi && es[i] <= (top < m.eHi ? top : m.eCut));
       if (!(width > 0) || rays.length < 2 * TIME_TERMS) return null;
       const f = new PolyFit();
       f.eMid = 0.5 * (lo + hi);
@@ -984,7 +1338,7 @@ export class SolvedMirrorMapper implements MirrorMap {
       f.dirCoef = lin.dirCoef;
       pieces.push(f);
     }
-    return new Partition(splits, pieces);
+    return new Partition(splits, pieces, top);
   }
 
   /** Scaled time of map `f` at the current input (localised to f by inDomain). */
@@ -1069,8 +1423,11 @@ export function formatMirrorMap(report: MirrorMapReport): string {
     const rms = s.validationTimeRms === null ? '' : `, validation rms time ${s.validationTimeRms.toExponential(1)}`;
     const strikes = s.struckByMap > 0 ? `; ${s.struckByMap} of the mapped taken as struck on the entrance electrode by the strike pre-test, ${s.strikeChecks} traced checks` : s.strikeNote !== '' ? `; strike pre-test not used: ${s.strikeNote}` : '';
     const pieces = s.pieces.length === 0 ? '' : `; the whole-domain map refused, by energy: ${s.pieces.map((p) => `${p.uFrom_V.toFixed(0)}–${p.uTo_V.toFixed(0)} V ${p.note === '' ? 'mapped' : `traced (${p.note})`}`).join(', ')}`;
-    return `  q/m ${s.qOverM_C_per_kg.toPrecision(6)} C/kg: ${s.mapped} ions mapped, ${s.traced} traced (${how}${rms}${pieces}${strikes})`;
+    const back = s.struckBackByMap > 0 ? `; ${s.struckBackByMap} of the mapped taken as struck on the back plate by its pre-test, ${s.backChecks} traced checks` : s.backNote !== '' ? `; back-plate pre-test not used: ${s.backNote}` : '';
+    return `  q/m ${s.qOverM_C_per_kg.toPrecision(6)} C/kg: ${s.mapped} ions mapped, ${s.traced} traced (${how}${rms}${pieces}${strikes}${back})`;
   });
-  const struck = report.struckByMap > 0 ? ` (${report.struckByMap} of them taken as struck on the entrance electrode by its strike pre-test)` : '';
+  const struck =
+    (report.struckByMap > 0 ? ` (${report.struckByMap} of them taken as struck on the entrance electrode by its strike pre-test)` : '') +
+    (report.struckBackByMap > 0 ? ` (${report.struckBackByMap} of them taken as struck on the back plate by its pre-test)` : '');
   return `Solved mirror: ${report.mapped} ions by the transfer map${struck}, ${report.traced} traced through the field\n${lines.join('\n')}\n`;
 }

@@ -35,6 +35,11 @@ export interface RunMapFit {
   readonly open: readonly boolean[];
   /** Per species of `report`: the share of its ions after the fitted ones expected to be traced directly (SolvedMirrorMapper.tracedShare). */
   readonly tracedShare: readonly number[];
+  /**
+   * [from, to) pairs: the ions of each fitted species after its fitted ones, whose maps are decided
+   * in this fit's snapshot, so a worker may trace them by it alone while others still fit.
+   */
+  readonly rest: readonly number[];
 }
 
 /**
@@ -53,14 +58,15 @@ export function mergeMapFits(fits: readonly RunMapFit[]): RunMapFit {
       if (!e.open) note = ''; // decided and in use
     } else note = allRefused ? e.s.note : '';
   }
-  const sum = (key: 'mapped' | 'traced' | 'struckByMap') => fits.reduce((n, f) => n + f.report[key], 0);
+  const sum = (key: 'mapped' | 'traced' | 'struckByMap' | 'struckBackByMap') => fits.reduce((n, f) => n + f.report[key], 0);
   return {
     fitted: fits.flatMap((f) => f.fitted).sort((a, b) => a.from - b.from),
     snapshot: { values: Float64Array.from(fits.flatMap((f) => Array.from(f.snapshot.values))), species: fits.flatMap((f) => f.snapshot.species) },
-    report: { mapped: sum('mapped'), traced: sum('traced'), struckByMap: sum('struckByMap'), note, species: entries.map((e) => e.s) },
+    report: { mapped: sum('mapped'), traced: sum('traced'), struckByMap: sum('struckByMap'), struckBackByMap: sum('struckBackByMap'), note, species: entries.map((e) => e.s) },
     firstIon: entries.map((e) => e.first),
     open: entries.map((e) => e.open),
     tracedShare: entries.map((e) => e.share),
+    rest: fits.flatMap((f) => [...f.rest]),
   };
 }
 
@@ -101,10 +107,12 @@ export function mergeMirrorMapReports(fitted: MirrorMapReport, parts: readonly M
       s.mapped += p.mapped;
       s.traced += p.traced;
       s.struckByMap += p.struckByMap;
+      s.struckBackByMap += p.struckBackByMap;
     }
     out.mapped += part.mapped;
     out.traced += part.traced;
     out.struckByMap += part.struckByMap;
+    out.struckBackByMap += part.struckBackByMap;
   }
   return out;
 }

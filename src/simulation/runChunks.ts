@@ -133,6 +133,7 @@ export function fitRunMap(request: RunRequest, part = 0, parts = 1, now: () => n
   const mapper = new SolvedMirrorMapper(mirror, new SolvedFieldTracer(legacyTally), model.mirror?.returnLength_m ?? 0);
   const trace = allocateTraceResult(ensemble.count);
   const ranges: Array<[number, number]> = [];
+  const rest: number[] = [];
   // One map per q/m (the flight's, chargeToMassIn): species sharing one are fitted together, groups spread over the parts.
   const ks = ensemble.species.map((sp) => chargeToMassIn(model, sp.mz));
   const groups = [...new Set(ks)];
@@ -147,6 +148,7 @@ export function fitRunMap(request: RunRequest, part = 0, parts = 1, now: () => n
       b = next;
     }
     if (b > a) ranges.push([a, b]);
+    if (b < end && mapper.settled(ks[s])) rest.push(b, end);
   }
   const elapsed_ms = now() - start;
   const species = mapper.report.species.map((s) => ({ ...s }));
@@ -157,5 +159,6 @@ export function fitRunMap(request: RunRequest, part = 0, parts = 1, now: () => n
     firstIon: species.map((r) => ensemble.speciesStart[ks.indexOf(r.qOverM_C_per_kg)]),
     open: species.map((r) => !mapper.settled(r.qOverM_C_per_kg)),
     tracedShare: species.map((r) => mapper.tracedShare(r.qOverM_C_per_kg)),
+    rest,
   };
 }

@@ -16,7 +16,7 @@ import { createIonState, startIonState } from '../../src/physics/regions/contrac
 import { createFlight } from '../../src/physics/regions/driver';
 import { tracedMirrorPass } from '../../src/physics/regions/solvedKernels';
 import { SolvedPrecision } from '../../src/physics/regions/solvedTracer';
-import { formatMirrorMap, TIME_TOL_RMS } from '../../src/physics/solvedMirrorMap';
+import { formatMirrorMap, STRIKE_CHECKS_MIN, TIME_TOL_RMS } from '../../src/physics/solvedMirrorMap';
 import { traceMixed } from '../../src/physics/tracer';
 import { compilePreset } from '../../src/presets/compile';
 import { validatePreset } from '../../src/presets/load';
@@ -41,7 +41,8 @@ describe('transfer map split by energy (gridless demo, back plate 5800 V)', () =
       expect(s.validationTimeRms!).toBeLessThanOrEqual(TIME_TOL_RMS);
       expect(s.pieces.some((p) => p.note === '')).toBe(true);
       for (const p of s.pieces) expect(p.uTo_V).toBeGreaterThan(p.uFrom_V);
-      expect(s.struckByMap).toBe(0); // the strike pre-test predicts by the whole map only
+      // The strike pre-test, restarted with the pieces' exit fit, is used only after enough held-out checks.
+      if (s.struckByMap > 0) expect(s.strikeChecks).toBeGreaterThanOrEqual(STRIKE_CHECKS_MIN);
     }
     expect(formatMirrorMap(report)).toMatch(/whole-domain map refused, by energy/);
     const direct = allocateTraceResult(ens.count);

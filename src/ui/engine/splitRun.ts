@@ -62,14 +62,22 @@ export function shouldSplit(request: RunRequest, workers: number): boolean {
  * The run over `lanes` (calls passed through `guard`, which drops stale results); elapsed_ms
  * becomes the whole split run's wall time, chunks and finishing included. Through a solved mirror
  * the lanes first fit the transfer map (each its share of the species, on their first ions in
- * order), and every lane's chunk crosses by those maps (src/simulation/runChunks.ts).
+ * order), and every lane's chunk crosses by those maps (src/simulation/runChunks.ts). A lane whose
+ * fit is done while another still fits traces its own species' later ions meanwhile, by its own
+ * snapshot, in REST_GRANULES pieces (each ion's crossing depends on that ion alone once its map is
+ * decided, so where an ion is traced changes no number); the chunks then share what is left. Why:
+ * far below the tuned back plate one species' fit took 132–218 ms against the other's 53–69 ms
+ * (Node, the gridless demo at 5620 V), and the first lane waited.
  */
 export async function splitRun(lanes: readonly SplitRunLane[], request: RunRequest, guard: <V>(call: () => Promise<V>) => Promise<V> = (c) => c(), now: () => number = () => performance.now()): Promise<RunOutput> {
   const start = now();
   const ions = runIons(request);
   // Each lane fits the maps of its share of the species (they are independent), then all trace their chunks by all of them.
-  const fits = hasSolvedMirror(request.preset) ? await Promise.all(lanes.map((lane, k) => guard(() => lane.fitRunMap(request, k, lanes.length)))) : [];
-  const fit = fits.length > 0 && fits.every((f) => f !== null) ? mergeMapFits(fits as RunMapFit[]) : null;
+  const early: TraceChunk[] = [];
+  const fits = hasSolvedMirror(request.preset) ? await fitWhileTracing(lanes, request, guard, early) : [];
+  const merged = fits.length > 0 && fits.every((f) => f !== null) ? mergeMapFits(fits as RunMapFit[]) : null;
+  // The ions traced early count as fitted: the chunks skip them and the join writes them in.
+  const fit = merged && { ...merged, fitted: [...merged.fitted, ...early].sort((a, b) => a.from - b.from) };
   const share = fit ? mapShare(fit) : undefined;
   // Chunks of equal expected tracing work under the map (the fitted ions are skipped, mapped ones cost little), else of equal size.
   const parts = chunkCount(ions, lanes.length);
@@ -77,10 +85,38 @@ export async function splitRun(lanes: readonly SplitRunLane[], request: RunReque
   const chunks = await Promise.all(bounds.slice(1).map((to, k) => guard(() => lanes[k].traceRunChunk(request, bounds[k], to, share))));
   const trace = concatChunks(ions, chunks);
   if (fit) overlayFitted(trace, fit.fitted);
-  const mirrorMap = fit ? mergeMirrorMapReports(fit.report, chunks.map((c) => c.mirrorMap ?? noChunkReport)) : undefined;
+  const mirrorMap = fit ? mergeMirrorMapReports(fit.report, [...early, ...chunks].map((c) => c.mirrorMap ?? noChunkReport)) : undefined;
   const output = await guard(() => lanes[0].finishRun(request, Comlink.transfer(trace, traceTransferables(trace)), mirrorMap));
   return { ...output, elapsed_ms: now() - start };
 }
 
+/** Pieces into which a lane cuts its species' later ions while it waits for the other fits. */
+const REST_GRANULES = 6;
+
+/**
+ * Every lane fits its share of the species' maps; a lane done while others still fit traces its
+ * own species' later ions (RunMapFit.rest) granule by granule into `early` until the last fit is in.
+ */
+async function fitWhileTracing(lanes: readonly SplitRunLane[], request: RunRequest, guard: <V>(call: () => Promise<V>) => Promise<V>, early: TraceChunk[]): Promise<Array<RunMapFit | null>> {
+  let pending = lanes.length;
+  return Promise.all(
+    lanes.map(async (lane, k) => {
+      const fit = await guard(() => lane.fitRunMap(request, k, lanes.length));
+      pending--;
+      if (fit === null) return fit;
+      const share = mapShare(fit);
+      for (let r = 0; r + 1 < fit.rest.length && pending > 0; r += 2) {
+        const end = fit.rest[r + 1];
+        const step = Math.max(1, Math.ceil((end - fit.rest[r]) / REST_GRANULES));
+        for (let at = fit.rest[r]; at < end && pending > 0; at += step) {
+          const from = at;
+          early.push(await guard(() => lane.traceRunChunk(request, from, Math.min(end, from + step), share)));
+        }
+      }
+      return fit;
+    }),
+  );
+}
+
 /** A chunk that had none of its own ions to cross the mirror by the map (all fitted elsewhere). */
-const noChunkReport: MirrorMapReport = { mapped: 0, traced: 0, struckByMap: 0, note: '', species: [] };
+const noChunkReport: MirrorMapReport = { mapped: 0, traced: 0, struckByMap: 0, struckBackByMap: 0, note: '', species: [] };
