@@ -7,13 +7,9 @@
  * samples; the medians of A and B and the median of the per-change differences B − A are printed.
  * The two pages never run at once (each change waits for its page to be done).
  */
-import { mkdtempSync, rmSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import { join, resolve } from 'node:path';
-import { fileURLToPath } from 'node:url';
+import { resolve } from 'node:path';
 import type { Page } from 'playwright-core';
-import { build, preview } from 'vite';
-import { launchChromium, waitDone } from '../tests/browser/harness';
+import { buildAndServe, launchChromium, waitDone } from '../tests/browser/harness';
 import { changeOnce, loadScenario, median, scenarios } from './browserScenarios';
 
 const args = process.argv.slice(2);
@@ -22,22 +18,7 @@ if (!against) throw new Error('usage: npx tsx bench/browserAB.ts --against <othe
 const rounds = args.indexOf('--rounds') >= 0 ? Number(args[args.indexOf('--rounds') + 1]) : 2;
 const json = args.includes('--json');
 
-async function serve(root: string): Promise<{ url: string; close: () => Promise<void> }> {
-  const outDir = mkdtempSync(join(tmpdir(), 'tof-ab-build-'));
-  await build({ root, logLevel: 'silent', build: { outDir, emptyOutDir: true } });
-  const server = await preview({ root, logLevel: 'silent', build: { outDir }, preview: { port: 0, host: '127.0.0.1', strictPort: false } });
-  const url = server.resolvedUrls?.local[0];
-  if (!url) throw new Error('the preview server reported no address');
-  return {
-    url,
-    close: async () => {
-      await server.close();
-      rmSync(outDir, { recursive: true, force: true });
-    },
-  };
-}
-
-const servers = [await serve(against), await serve(fileURLToPath(new URL('..', import.meta.url)))];
+const servers = [await buildAndServe(against), await buildAndServe()];
 const browser = await launchChromium();
 const figures: Record<string, number> = {};
 try {

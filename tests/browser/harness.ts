@@ -18,10 +18,11 @@ export interface AppServer {
   close(): Promise<void>;
 }
 
-export async function buildAndServe(): Promise<AppServer> {
+/** Builds the app of the checkout at `root` (this one by default) and serves it on a free port. */
+export async function buildAndServe(root: string = ROOT): Promise<AppServer> {
   const outDir = mkdtempSync(join(tmpdir(), 'tof-bench-build-'));
-  await build({ root: ROOT, logLevel: 'silent', build: { outDir, emptyOutDir: true } });
-  const server: PreviewServer = await preview({ root: ROOT, logLevel: 'silent', build: { outDir }, preview: { port: 0, host: '127.0.0.1', strictPort: false } });
+  await build({ root, logLevel: 'silent', build: { outDir, emptyOutDir: true } });
+  const server: PreviewServer = await preview({ root, logLevel: 'silent', build: { outDir }, preview: { port: 0, host: '127.0.0.1', strictPort: false } });
   const url = server.resolvedUrls?.local[0];
   if (!url) throw new Error('the preview server reported no address');
   return {
