@@ -1,5 +1,5 @@
 /**
- * `npx tsx bench/browserProfile.ts [exact|pulse|solved ...] [--changes N] [--json] [--save trace.json]`:
+ * `npx tsx bench/browserProfile.ts [exact|pulse|solved|solved_at_focus ...] [--changes N] [--json] [--save trace.json]`:
  * where the page's update time goes. The app is built unminified (so function names survive),
  * served and driven in Debian's Chromium as the browser benchmark does (bench/browserScenarios.ts);
  * after one warm-up change, a Chromium performance trace (CDP Tracing, with the V8 sampling
@@ -190,7 +190,7 @@ const changesArg = args.indexOf('--changes');
 const changes = changesArg >= 0 ? Number(args[changesArg + 1]) : 4;
 const saveArg = args.indexOf('--save');
 const savePath = saveArg >= 0 ? args[saveArg + 1] : null;
-const wanted = args.filter((a) => ['exact', 'pulse', 'solved'].includes(a));
+const wanted = args.filter((a) => ['exact', 'pulse', 'solved', 'solved_at_focus'].includes(a));
 const chosen = scenarios().filter((s) => wanted.length === 0 || wanted.includes(s.key));
 
 const outDir = mkdtempSync(join(tmpdir(), 'tof-profile-build-'));
