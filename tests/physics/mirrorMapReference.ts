@@ -1,18 +1,49 @@
 /**
- * The reference the solved-mirror map tests measure against: every `stride`-th detected ion whose
+ * The solved-mirror map tests' shared parts: the gridless demo run through its transfer map, and
+ * the reference they measure against.
+ *
+ * The reference: the solved-mirror map tests measure against: every `stride`-th detected ion whose
  * flight time the map changed, flown again with the mirror traced at FINE precision (rtol 1e-9),
  * and the rms flight-time errors of the mapped and of the direct run on those ions, relative to the
  * time inside the mirror (common practice, no source: a tighter-tolerance solution of the same
  * equations of motion).
  */
+import { readFileSync } from 'node:fs';
 import { expect } from 'vitest';
-import type { Ensemble, TraceResult } from '../../src/ions/ensemble';
+import { allocateTraceResult, type Ensemble, type TraceResult } from '../../src/ions/ensemble';
+import { samplePopulation } from '../../src/ions/population';
 import type { AnalyserModel } from '../../src/physics/analyser';
 import { Fate } from '../../src/physics/fates';
 import { createIonState, startIonState } from '../../src/physics/regions/contract';
 import { createFlight } from '../../src/physics/regions/driver';
 import { tracedMirrorPass, type SolvedMirrorModel } from '../../src/physics/regions/solvedKernels';
 import { SolvedPrecision } from '../../src/physics/regions/solvedTracer';
+import type { MirrorMapReport } from '../../src/physics/solvedMirrorMap';
+import { traceMixed } from '../../src/physics/tracer';
+import { compilePreset, type CompiledPreset } from '../../src/presets/compile';
+import { validatePreset } from '../../src/presets/load';
+
+export interface MappedDemoRun {
+  compiled: CompiledPreset;
+  mirror: SolvedMirrorModel;
+  ens: Ensemble;
+  mapped: TraceResult;
+  report: MirrorMapReport;
+}
+
+/** presets/demo-gridless-mirror.json (its back plate at `backPlate_V` when given), `ions` of its own population traced through the transfer map. */
+export function mappedDemoRun(ions: number, backPlate_V?: number): MappedDemoRun {
+  const raw = JSON.parse(readFileSync(new URL('../../presets/demo-gridless-mirror.json', import.meta.url), 'utf8'));
+  if (backPlate_V !== undefined) raw.mirror.backPlate.potential_V = backPlate_V;
+  const valid = validatePreset(raw);
+  if (!valid.ok) throw new Error(`preset invalid: ${JSON.stringify(valid.issues)}`);
+  const compiled = compilePreset(valid.value);
+  const mirror = compiled.model.mirror!.solved!;
+  const ens = samplePopulation({ ...compiled.population, totalIons: ions });
+  const mapped = allocateTraceResult(ens.count);
+  const report = traceMixed(compiled.model, ens, mapped)!;
+  return { compiled, mirror, ens, mapped, report };
+}
 
 export interface ChangedIonErrors {
   /** Reference ions compared. */

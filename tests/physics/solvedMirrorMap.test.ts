@@ -5,7 +5,6 @@
  * and by exact recovery of a polynomial; the map against rays traced through the solved field of the
  * gridless demo at FINE precision (rtol 1e-9), on a run of the shipped demo at its own settings.
  */
-import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { solveLeastSquares } from '../../src/fields/leastSquares';
 import { SolvedPrecision } from '../../src/physics/regions/solvedTracer';
@@ -17,9 +16,7 @@ import { tracedMirrorPass } from '../../src/physics/regions/solvedKernels';
 import { STRIKE_CHECKS_MIN, TIME_TOL_RMS } from '../../src/physics/solvedMirrorMap';
 import { traceMixed } from '../../src/physics/tracer';
 import { allocateTraceResult } from '../../src/ions/ensemble';
-import { samplePopulation } from '../../src/ions/population';
-import { compilePreset } from '../../src/presets/compile';
-import { validatePreset } from '../../src/presets/load';
+import { mappedDemoRun } from './mirrorMapReference';
 
 describe('least squares by Householder QR', () => {
   it('recovers a polynomial exactly and leaves a residual orthogonal to every column', () => {
@@ -69,14 +66,7 @@ describe('least squares by Householder QR', () => {
 describe('transfer map of the gridless demo mirror', () => {
   it('a run of the demo at its own settings maps most ions, per species, and keeps the flight-time error at the direct trace level', () => {
     // The shipped demo as a user runs it (its own population; 6000 ions: 3000 per species).
-    const raw = JSON.parse(readFileSync(new URL('../../presets/demo-gridless-mirror.json', import.meta.url), 'utf8'));
-    const valid = validatePreset(raw);
-    if (!valid.ok) throw new Error('demo preset invalid');
-    const compiled = compilePreset(valid.value);
-    const mirror = compiled.model.mirror!.solved!;
-    const ens = samplePopulation({ ...compiled.population, totalIons: 6000 });
-    const mapped = allocateTraceResult(ens.count);
-    const report = traceMixed(compiled.model, ens, mapped)!;
+    const { compiled, mirror, ens, mapped, report } = mappedDemoRun(6000);
     expect(report.note).toBe('');
     expect(report.species).toHaveLength(2);
     for (const s of report.species) {

@@ -8,28 +8,16 @@
  * map changed is no worse than the direct trace's own on the same ions (common practice, no source: the
  * reference is a tighter-tolerance solution of the same equations of motion).
  */
-import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { allocateTraceResult } from '../../src/ions/ensemble';
-import { samplePopulation } from '../../src/ions/population';
 import { Fate } from '../../src/physics/fates';
 import { BACK_CHECKS_MIN, BACK_POINT_TOL_M, formatMirrorMap, STRIKE_TIME_TOL, TIME_TOL_RMS } from '../../src/physics/solvedMirrorMap';
 import { traceMixed } from '../../src/physics/tracer';
-import { compilePreset } from '../../src/presets/compile';
-import { validatePreset } from '../../src/presets/load';
-import { changedIonErrors } from './mirrorMapReference';
+import { changedIonErrors, mappedDemoRun } from './mirrorMapReference';
 
 describe('transfer map with the back plate far below its tuned potential (gridless demo, 5620 V)', () => {
   it('takes the ions past every turning point as struck on the back plate, and maps the energies below the time kink', () => {
-    const raw = JSON.parse(readFileSync(new URL('../../presets/demo-gridless-mirror.json', import.meta.url), 'utf8'));
-    raw.mirror.backPlate.potential_V = 5620;
-    const valid = validatePreset(raw);
-    if (!valid.ok) throw new Error('preset invalid');
-    const compiled = compilePreset(valid.value);
-    const mirror = compiled.model.mirror!.solved!;
-    const ens = samplePopulation({ ...compiled.population, totalIons: 8000 });
-    const mapped = allocateTraceResult(ens.count);
-    const report = traceMixed(compiled.model, ens, mapped)!;
+    const { compiled, mirror, ens, mapped, report } = mappedDemoRun(8000, 5620);
     expect(report.mapped + report.traced).toBe(ens.count);
     expect(report.struckBackByMap).toBeGreaterThan(0);
     expect(report.struckBackByMap).toBe(report.species.reduce((n, s) => n + s.struckBackByMap, 0));

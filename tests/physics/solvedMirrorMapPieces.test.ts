@@ -7,27 +7,15 @@
  * the map changed is no worse than the direct trace's own on the same ions (common practice, no
  * source: the reference is a tighter-tolerance solution of the same equations of motion).
  */
-import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { allocateTraceResult } from '../../src/ions/ensemble';
-import { samplePopulation } from '../../src/ions/population';
 import { formatMirrorMap, STRIKE_CHECKS_MIN, TIME_TOL_RMS } from '../../src/physics/solvedMirrorMap';
 import { traceMixed } from '../../src/physics/tracer';
-import { compilePreset } from '../../src/presets/compile';
-import { validatePreset } from '../../src/presets/load';
-import { changedIonErrors } from './mirrorMapReference';
+import { changedIonErrors, mappedDemoRun } from './mirrorMapReference';
 
 describe('transfer map split by energy (gridless demo, back plate 5800 V)', () => {
   it('maps by validated energy pieces where the whole-domain map is refused, at the direct trace accuracy', () => {
-    const raw = JSON.parse(readFileSync(new URL('../../presets/demo-gridless-mirror.json', import.meta.url), 'utf8'));
-    raw.mirror.backPlate.potential_V = 5800;
-    const valid = validatePreset(raw);
-    if (!valid.ok) throw new Error('preset invalid');
-    const compiled = compilePreset(valid.value);
-    const mirror = compiled.model.mirror!.solved!;
-    const ens = samplePopulation({ ...compiled.population, totalIons: 8000 });
-    const mapped = allocateTraceResult(ens.count);
-    const report = traceMixed(compiled.model, ens, mapped)!;
+    const { compiled, mirror, ens, mapped, report } = mappedDemoRun(8000, 5800);
     expect(report.mapped + report.traced).toBe(ens.count);
     // Some species is carried by pieces: whole-domain map refused, at least one piece validated.
     const split = report.species.filter((s) => s.pieces.length > 0 && s.note === '');
